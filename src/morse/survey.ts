@@ -1,0 +1,123 @@
+/**
+ * The survey: order, critical points, Euler check, join and split trees, persistence pairs,
+ * and optional simplification by persistence. Works on a Grid or a Mesh.
+ */
+import type { Grid } from '../surface/grid.js';
+import type { Mesh } from '../surface/mesh.js';
+import { buildComplex, type ComplexOptions, type SurfaceComplex, type SimplexCounts } from '../surface/complex.js';
+import { sortOrder } from './order.js';
+import { findCriticalPoints, indexOfVertex, PIT, PASS, PEAK, type CriticalPoints } from './critical.js';
+import { buildMergeTree, simplifyMergeTree, type MergeTree } from './mergetree.js';
+
+export interface SurveyOptions extends ComplexOptions {
+  /** Drop features whose persistence is below this value (0 = keep all). */
+  minPersistence?: number;
+}
+
+export interface PersistencePairs {
+  dim: Uint8Array;
+  /** Vertex where the class is born (pit for dim 0, pass for dim 1). */
+  birthVertex: Int32Array;
+  /** Vertex where it dies (pass for dim 0, peak for dim 1). */
+  deathVertex: Int32Array;
+  persistence: Float64Array;
+}
+
+export interface SurveyResult {
+  complex: SurfaceComplex;
+  order: Uint32Array;
+  /** All critical points of the complex (simulation of simplicity). */
+  critical: CriticalPoints;
+  /** Critical points left after simplification (same as `critical` when minPersistence is 0). */
+  kept: CriticalPoints;
+  simplices: SimplexCounts;
+  euler: { characteristic: number; pits: number; passes: number; peaks: number; holds: boolean };
+  /** Euler counts after simplification (must still hold). */
+  eulerKept: { pits: number; passes: number; peaks: number; holds: boolean };
+  join: MergeTree;
+  split: MergeTree;
+  /** All finite pairs, including zero-persistence ones. */
+  pairs: PersistencePairs;
+  minPersistence: number;
+  removedPairs: { dim0: number; dim1: number };
+}
+
+export function survey(surface: Grid | Mesh, opts: SurveyOptions = {}): SurveyResult {
+  const complex = buildComplex(surface, opts);
+  const minPersistence = opts.minPersistence ?? 0;
+  const order = sortOrder(complex.values);
+  const critical = findCriticalPoints(complex);
+  const simplices = complex.countSimplices();
+  const chi = simplices.characteristic;
+  const join = buildMergeTree(complex, order, 'join');
+  const split = buildMergeTree(complex, order, 'split');
+  const pairs = collectPairs(complex.values, join, split);
+  const { kept, removed } = simplifyCritical(critical, pairs, minPersistence);
+  return {
+    complex, order, critical, kept, simplices,
+    euler: {
+      characteristic: chi,
+      pits: critical.pits, passes: critical.passes, peaks: critical.peaks,
+      holds: critical.pits - critical.passes + critical.peaks === chi,
+    },
+    eulerKept: {
+      pits: kept.pits, passes: kept.passes, peaks: kept.peaks,
+      holds: kept.pits - kept.passes + kept.peaks === chi,
+    },
+    join: simplifyMergeTree(join, complex.values, minPersistence),
+    split: simplifyMergeTree(split, complex.values, minPersistence),
+    pairs,
+    minPersistence,
+    removedPairs: removed,
+  };
+}
+
+function collectPairs(values: ArrayLike<number>, join: MergeTree, split: MergeTree): PersistencePairs {
+  const n0 = join.pairBirth.length, n1 = split.pairBirth.length;
+  const dim = new Uint8Array(n0 + n1);
+  const b = new Int32Array(n0 + n1), d = new Int32Array(n0 + n1), p = new Float64Array(n0 + n1);
+  for (let k = 0; k < n0; k++) {
+    b[k] = join.pairBirth[k]; d[k] = join.pairDeath[k];
+    p[k] = values[d[k]] - values[b[k]];
+  }
+  // A superlevel component born at a peak and dying at a pass is a sublevel loop born at the
+  // pass and filled at the peak (duality on the closed surface).
+  for (let k = 0; k < n1; k++) {
+    const q = n0 + k;
+    dim[q] = 1;
+    b[q] = split.pairDeath[k]; d[q] = split.pairBirth[k];
+    p[q] = values[d[q]] - values[b[q]];
+  }
+  return { dim, birthVertex: b, deathVertex: d, persistence: p };
+}
+
+function simplifyCritical(cp: CriticalPoints, pairs: PersistencePairs, minP: number): { kept: CriticalPoints; removed: { dim0: number; dim1: number } } {
+  if (!(minP > 0)) return { kept: cp, removed: { dim0: 0, dim1: 0 } };
+  const mult = cp.multiplicity.slice();
+  let r0 = 0, r1 = 0;
+  for (let k = 0; k < pairs.dim.length; k++) {
+    if (!(pairs.persistence[k] < minP)) continue;
+    const a = indexOfVertex(cp, pairs.birthVertex[k]);
+    const z = indexOfVertex(cp, pairs.deathVertex[k]);
+    if (a < 0 || z < 0) throw new Error(`internal: pair (${pairs.birthVertex[k]}, ${pairs.deathVertex[k]}) is not on critical points`);
+    mult[a]--; mult[z]--;
+    if (pairs.dim[k] === 0) r0++; else r1++;
+  }
+  const keep: number[] = [];
+  let pits = cp.outsidePit ? 1 : 0, passes = 0, peaks = 0;
+  for (let i = 0; i < mult.length; i++) {
+    if (mult[i] < 0) throw new Error(`internal: vertex ${cp.vertex[i]} paired more often than its multiplicity`);
+    if (mult[i] === 0) continue;
+    keep.push(i);
+    if (cp.kind[i] === PIT) pits += mult[i];
+    else if (cp.kind[i] === PASS) passes += mult[i];
+    else if (cp.kind[i] === PEAK) peaks += mult[i];
+  }
+  const kept: CriticalPoints = {
+    vertex: Int32Array.from(keep, (i) => cp.vertex[i]),
+    kind: Uint8Array.from(keep, (i) => cp.kind[i]),
+    multiplicity: Int32Array.from(keep, (i) => mult[i]),
+    pits, passes, peaks, outsidePit: cp.outsidePit,
+  };
+  return { kept, removed: { dim0: r0, dim1: r1 } };
+}
