@@ -1,0 +1,429 @@
+/**
+ * GeoTIFF → Grid. Decoding of strips and tiles (compression, predictors, BigTIFF) is done
+ * by the `geotiff` package; this module checks the file before anything large is
+ * allocated, reads one band in row bands, and turns the GeoTIFF georeferencing tags into
+ * a GDAL-order geotransform and an EPSG-coded CRS.
+ */
+import GeoTIFF, { type GeoTIFFImage, type ImageFileDirectory } from 'geotiff';
+import type { FileHandle } from 'node:fs/promises';
+import { InputError } from '../errors.js';
+import { Grid, type Crs, type GeoTransform, type GridValues } from '../surface/grid.js';
+import { checkGridSize, nodataFor, openForReading, readAt, transferSamples } from './common.js';
+
+export interface GeoTiffReadOptions {
+  /** 1-based band number; default 1. */
+  band?: number;
+  /** Nodata value; overrides the file's GDAL_NODATA tag. */
+  nodata?: number;
+}
+
+// TIFF tag numbers used here.
+const TAG = {
+  Compression: 259,
+  StripOffsets: 273,
+  StripByteCounts: 279,
+  TileOffsets: 324,
+  TileByteCounts: 325,
+  ModelPixelScale: 33550,
+  ModelTiepoint: 33922,
+  ModelTransformation: 34264,
+  GeoKeyDirectory: 34735,
+  GeoAsciiParams: 34737,
+  GdalNodata: 42113,
+} as const;
+
+// GeoKey ids.
+const KEY = {
+  GTModelType: 1024,
+  GTRasterType: 1025,
+  GTCitation: 1026,
+  GeographicType: 2048,
+  GeogCitation: 2049,
+  GeogAngularUnits: 2054,
+  ProjectedCSType: 3072,
+  PCSCitation: 3073,
+  ProjLinearUnits: 3076,
+} as const;
+
+const RASTER_PIXEL_IS_POINT = 2;
+const USER_DEFINED = 32767;
+
+const LINEAR_UNITS: Record<number, string> = {
+  9001: 'metre',
+  9002: 'foot',
+  9003: 'US survey foot',
+  9030: 'nautical mile',
+  9036: 'kilometre',
+};
+const ANGULAR_UNITS: Record<number, string> = { 9101: 'radian', 9102: 'degree', 9105: 'grad' };
+
+const COMPRESSIONS: Record<number, [name: string, supported: boolean]> = {
+  1: ['none', true],
+  5: ['LZW', true],
+  8: ['DEFLATE', true],
+  32946: ['DEFLATE', true],
+  32773: ['PackBits', true],
+  34887: ['LERC', true],
+  50000: ['ZSTD', true],
+  2: ['CCITT RLE', false],
+  3: ['CCITT Group 3', false],
+  4: ['CCITT Group 4', false],
+  6: ['old-style JPEG', false],
+  7: ['JPEG', false],
+  34925: ['LZMA', false],
+  50001: ['WEBP', false],
+};
+
+/** Cells converted per read: bounds the working copy of native samples to a few tens of MB. */
+const BAND_CELLS = 4_000_000;
+
+/**
+ * A byte source for the `geotiff` package that never invents data: a read past the end of
+ * the file returns only the bytes that exist, so decoding a cut-off file fails instead of
+ * silently yielding zeros.
+ */
+class FileBytes {
+  constructor(private readonly fh: FileHandle, private readonly size: number) {}
+
+  get fileSize(): number {
+    return this.size;
+  }
+
+  async fetch(slices: { offset: number; length: number }[]): Promise<ArrayBuffer[]> {
+    return Promise.all(slices.map((s) => this.read(s.offset, s.length)));
+  }
+
+  async fetchSlice(slice: { offset: number; length: number }): Promise<{ data: ArrayBuffer; offset: number; length: number }> {
+    const data = await this.read(slice.offset, slice.length);
+    return { data, offset: slice.offset, length: data.byteLength };
+  }
+
+  async read(offset: number, length: number): Promise<ArrayBuffer> {
+    const end = Math.min(this.size, offset + length);
+    const n = Math.max(0, end - offset);
+    const bytes = await readAt(this.fh, offset, n);
+    return bytes.byteLength === bytes.buffer.byteLength ? (bytes.buffer as ArrayBuffer) : bytes.slice().buffer;
+  }
+
+  async close(): Promise<void> {
+    // the handle is closed by readGeoTiff
+  }
+}
+
+interface Header {
+  littleEndian: boolean;
+  bigTiff: boolean;
+  ifdOffset: number;
+}
+
+function notTiff(path: string, detail: string): InputError {
+  return new InputError(`${path} is not a TIFF file (${detail}); give a GeoTIFF, a .npy array or a text grid`);
+}
+
+function truncated(path: string, detail: string): InputError {
+  return new InputError(`${path} is truncated or damaged: ${detail}; copy, download or export the file again`);
+}
+
+async function readHeader(path: string, fh: FileHandle, size: number): Promise<Header> {
+  const b = await readAt(fh, 0, 16);
+  if (b.length < 2) throw notTiff(path, `only ${b.length} byte(s) long`);
+  const bom = String.fromCharCode(b[0], b[1]);
+  if (bom !== 'II' && bom !== 'MM') throw notTiff(path, 'it does not start with the TIFF byte-order mark II or MM');
+  const littleEndian = bom === 'II';
+  if (b.length < 8) throw truncated(path, `the ${size}-byte file ends inside the TIFF header`);
+  const dv = new DataView(b.buffer, b.byteOffset, b.byteLength);
+  const magic = dv.getUint16(2, littleEndian);
+  if (magic !== 42 && magic !== 43) throw notTiff(path, `version number ${magic}, expected 42 or 43`);
+  const bigTiff = magic === 43;
+  let ifdOffset: number;
+  if (bigTiff) {
+    if (b.length < 16) throw truncated(path, `the ${size}-byte file ends inside the BigTIFF header`);
+    if (dv.getUint16(4, littleEndian) !== 8) throw notTiff(path, 'BigTIFF header with an offset size other than 8');
+    ifdOffset = Number(dv.getBigUint64(8, littleEndian));
+  } else {
+    ifdOffset = dv.getUint32(4, littleEndian);
+  }
+  const countBytes = bigTiff ? 8 : 2;
+  if (ifdOffset < 8 || ifdOffset + countBytes > size) {
+    throw truncated(path, `the first image directory is at byte ${ifdOffset} but the file has ${size} bytes`);
+  }
+  const c = await readAt(fh, ifdOffset, countBytes);
+  const cdv = new DataView(c.buffer, c.byteOffset, c.byteLength);
+  const entries = bigTiff ? Number(cdv.getBigUint64(0, littleEndian)) : cdv.getUint16(0, littleEndian);
+  const ifdEnd = ifdOffset + countBytes + entries * (bigTiff ? 20 : 12) + (bigTiff ? 8 : 4);
+  if (entries === 0) throw truncated(path, 'the first image directory is empty');
+  if (ifdEnd > size) throw truncated(path, `the image directory ends at byte ${ifdEnd} but the file has ${size} bytes`);
+  return { littleEndian, bigTiff, ifdOffset };
+}
+
+/** Load an array-valued tag as plain numbers. */
+async function tagNumbers(ifd: ImageFileDirectory, tag: number): Promise<number[] | null> {
+  if (!ifd.hasTag(tag)) return null;
+  const v: unknown = await ifd.loadValue(tag);
+  if (v === undefined || v === null) return null;
+  if (typeof v === 'number' || typeof v === 'bigint') return [Number(v)];
+  if (typeof v === 'string') return null;
+  return Array.from(v as ArrayLike<number | bigint>, Number);
+}
+
+async function tagString(ifd: ImageFileDirectory, tag: number): Promise<string | null> {
+  if (!ifd.hasTag(tag)) return null;
+  const v: unknown = await ifd.loadValue(tag);
+  return typeof v === 'string' ? v : null;
+}
+
+/**
+ * geotiff 3.0.5 decodes strip/tile offset arrays that lie outside the first block it read
+ * as little-endian whatever the file's byte order. Read those arrays here with the file's
+ * own byte order and hand them over already decoded.
+ */
+async function resolveOffsetArrays(ifd: ImageFileDirectory, bytes: FileBytes, littleEndian: boolean): Promise<void> {
+  for (const tag of [TAG.StripOffsets, TAG.StripByteCounts, TAG.TileOffsets, TAG.TileByteCounts]) {
+    const deferred = ifd.deferredArrays.get(tag);
+    if (!deferred) continue;
+    const { arrayOffset, fieldType, length } = deferred;
+    const size = fieldType === 3 ? 2 : fieldType === 4 ? 4 : fieldType === 16 ? 8 : 0;
+    if (size === 0) throw new Error(`unexpected field type ${fieldType} for tag ${tag}`);
+    const buf = await bytes.read(arrayOffset, size * length);
+    if (buf.byteLength < size * length) throw new RangeError(`tag ${tag} runs past the end of the file`);
+    const dv = new DataView(buf);
+    const out = new Array<number>(length);
+    for (let i = 0; i < length; i++) {
+      out[i] =
+        size === 2 ? dv.getUint16(2 * i, littleEndian) : size === 4 ? dv.getUint32(4 * i, littleEndian) : Number(dv.getBigUint64(8 * i, littleEndian));
+    }
+    ifd.deferredArrays.delete(tag);
+    ifd.actualizedFields.set(tag, out);
+  }
+}
+
+interface GeoKeys {
+  shorts: Map<number, number>;
+  ascii: Map<number, string>;
+}
+
+function parseGeoKeys(dir: number[] | null, asciiParams: string | null): GeoKeys | null {
+  if (!dir || dir.length < 4) return null;
+  const n = dir[3];
+  const shorts = new Map<number, number>();
+  const ascii = new Map<number, string>();
+  for (let k = 0; k < n && 4 + 4 * k + 3 < dir.length; k++) {
+    const [id, loc, count, off] = dir.slice(4 + 4 * k, 8 + 4 * k);
+    if (loc === 0) shorts.set(id, off);
+    else if (loc === TAG.GeoAsciiParams && asciiParams !== null) {
+      ascii.set(id, asciiParams.substring(off, off + count).replace(/[|\0]+$/, '').trim());
+    }
+  }
+  return { shorts, ascii };
+}
+
+function crsFromKeys(keys: GeoKeys | null): Crs | null {
+  if (!keys) return null;
+  const k = keys.shorts;
+  const model = k.get(KEY.GTModelType);
+  const pcs = k.get(KEY.ProjectedCSType);
+  const gcs = k.get(KEY.GeographicType);
+  const geographic = model === 2 || (model === undefined && pcs === undefined && gcs !== undefined);
+  const projected = model === 1 || (model === undefined && pcs !== undefined);
+  if (!geographic && !projected) return null;
+  const crs: Crs = { geographic };
+  const code = geographic ? gcs : pcs;
+  if (code !== undefined && code > 0 && code < USER_DEFINED) crs.epsg = code;
+  const name = geographic
+    ? keys.ascii.get(KEY.GeogCitation) ?? keys.ascii.get(KEY.GTCitation)
+    : keys.ascii.get(KEY.GTCitation) ?? keys.ascii.get(KEY.PCSCitation);
+  if (name) crs.name = name;
+  if (geographic) {
+    const u = k.get(KEY.GeogAngularUnits);
+    crs.linearUnit = u !== undefined ? ANGULAR_UNITS[u] ?? `unit ${u}` : 'degree';
+  } else {
+    const u = k.get(KEY.ProjLinearUnits);
+    if (u !== undefined && u !== USER_DEFINED) crs.linearUnit = LINEAR_UNITS[u] ?? `unit ${u}`;
+  }
+  return crs;
+}
+
+/** The GDAL-order geotransform, at pixel corners, from the GeoTIFF model tags. */
+function transformFromTags(
+  tiepoints: number[] | null,
+  scale: number[] | null,
+  matrix: number[] | null,
+  pixelIsPoint: boolean,
+): GeoTransform {
+  let gt: GeoTransform;
+  if (matrix && matrix.length >= 16) {
+    gt = [matrix[3], matrix[0], matrix[1], matrix[7], matrix[4], matrix[5]];
+  } else if (tiepoints && tiepoints.length >= 6 && scale && scale.length >= 2) {
+    const [i, j, , x, y] = tiepoints;
+    gt = [x - i * scale[0], scale[0], 0, y + j * scale[1], 0, -scale[1]];
+  } else {
+    return [0, 1, 0, 0, 0, 1]; // no affine georeferencing: x = column, y = row (as GDAL reports it)
+  }
+  if (pixelIsPoint) {
+    // The model tags locate pixel centres; move the origin to the corner of the first cell.
+    gt[0] -= 0.5 * gt[1] + 0.5 * gt[2];
+    gt[3] -= 0.5 * gt[4] + 0.5 * gt[5];
+  }
+  return gt;
+}
+
+function parseNodataTag(path: string, text: string | null): number | null {
+  if (text === null) return null;
+  const s = text.replace(/\0+$/, '').trim();
+  if (s === '') return null;
+  if (/^[+-]?nan$/i.test(s)) return NaN;
+  if (/^\+?inf(inity)?$/i.test(s)) return Infinity;
+  if (/^-inf(inity)?$/i.test(s)) return -Infinity;
+  const v = Number(s);
+  if (!Number.isFinite(v)) {
+    throw new InputError(`${path}: the GDAL_NODATA tag '${s}' is not a number; give the nodata value explicitly (--nodata V)`);
+  }
+  return v;
+}
+
+const FLOAT32_MAX = 3.4028234663852886e38;
+
+/** A float band's nodata as GDAL reports it: rounded to float32, with values a hair beyond the float32 range pulled in. */
+function float32Nodata(v: number): number {
+  const a = Math.abs(v);
+  if (a > FLOAT32_MAX && a < Infinity && a <= FLOAT32_MAX * (1 + 1e-6)) return Math.sign(v) * FLOAT32_MAX;
+  return Math.fround(v);
+}
+
+interface SampleKind {
+  float64Out: boolean;
+  integer: boolean;
+  float32Samples: boolean;
+}
+
+function sampleKind(path: string, image: GeoTIFFImage, band: number): SampleKind {
+  const fmt = image.getSampleFormat(band - 1);
+  const bits = image.getBitsPerSample(band - 1);
+  const fix = 'sill reads 8-, 16- and 32-bit integers and 16-, 32- and 64-bit floats: convert the band to one of these (Float32 or Float64 keeps every value)';
+  const label = (f: string) => `${path}: band ${band} holds ${bits}-bit ${f} samples, which sill does not read; ${fix}`;
+  switch (fmt) {
+    case 1:
+    case 2:
+      if (bits === 8 || bits === 16) return { float64Out: false, integer: true, float32Samples: false };
+      if (bits === 32) return { float64Out: true, integer: true, float32Samples: false };
+      throw new InputError(label(fmt === 1 ? 'unsigned integer' : 'signed integer'));
+    case 3:
+      if (bits === 16 || bits === 32) return { float64Out: false, integer: false, float32Samples: true };
+      if (bits === 64) return { float64Out: true, integer: false, float32Samples: false };
+      throw new InputError(label('floating-point'));
+    case 5:
+    case 6:
+      throw new InputError(`${path}: band ${band} holds complex ${fmt === 5 ? 'integer' : 'floating-point'} samples, which sill does not read; ${fix}`);
+    default:
+      throw new InputError(`${path}: band ${band} has sample format ${fmt} (${bits}-bit), which sill does not read; ${fix}`);
+  }
+}
+
+/**
+ * Read one band of a GeoTIFF as a Grid. Cells equal to the nodata value (the `nodata`
+ * option, else the file's GDAL_NODATA tag) and NaN cells become NaN.
+ */
+export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): Promise<Grid> {
+  const band = opts.band ?? 1;
+  if (!Number.isInteger(band) || band < 1) {
+    throw new InputError(`band must be a whole number from 1 up, got ${band}`);
+  }
+  if (opts.nodata !== undefined && typeof opts.nodata !== 'number') {
+    throw new InputError(`nodata must be a number, got ${String(opts.nodata)}`);
+  }
+  const { fh, size } = await openForReading(path);
+  try {
+    const header = await readHeader(path, fh, size);
+    const bytes = new FileBytes(fh, size);
+    let image: GeoTIFFImage;
+    try {
+      const tiff = await GeoTIFF.fromSource(bytes as unknown as Parameters<typeof GeoTIFF.fromSource>[0]);
+      image = await tiff.getImage(0);
+      await resolveOffsetArrays(image.fileDirectory, bytes, header.littleEndian);
+    } catch (err) {
+      if (err instanceof InputError) throw err;
+      throw truncated(path, `its image directory cannot be parsed (${(err as Error).message})`);
+    }
+    const ifd = image.fileDirectory;
+    const width = image.getWidth();
+    const height = image.getHeight();
+    if (!(width > 0 && height > 0)) throw truncated(path, `the image size is ${width}×${height}`);
+
+    const bandCount = image.getSamplesPerPixel();
+    if (band > bandCount) {
+      throw new InputError(`${path} has ${bandCount} band${bandCount === 1 ? '' : 's'}; band ${band} does not exist — choose a band from 1 to ${bandCount}`);
+    }
+    const kind = sampleKind(path, image, band);
+    if (image.planarConfiguration === 1) {
+      for (let s = 0; s < bandCount; s++) {
+        if (image.getBitsPerSample(s) % 8 !== 0) sampleKind(path, image, s + 1); // throws for a bit-packed band
+      }
+    }
+    const compression = Number((await tagNumbers(ifd, TAG.Compression))?.[0] ?? 1);
+    const comp = COMPRESSIONS[compression];
+    if (!comp || !comp[1]) {
+      throw new InputError(
+        `${path} uses ${comp ? comp[0] : `compression method ${compression}`}, which sill does not decode; ` +
+          'rewrite it with DEFLATE, LZW, PackBits or no compression',
+      );
+    }
+
+    // Refuse sizes before allocating anything large.
+    const bytesPerCell = kind.float64Out ? 8 : 4;
+    const tileW = image.getTileWidth();
+    const tileH = image.getTileHeight();
+    if (!(tileW > 0 && tileH > 0)) throw truncated(path, `the ${image.isTiled ? 'tile' : 'strip'} size is ${tileW}×${tileH}`);
+    const rowsPerRead = tileH * Math.max(1, Math.floor(BAND_CELLS / (width * tileH)));
+    const workBytes = Math.min(height, rowsPerRead) * width * 8;
+    checkGridSize(path, width, height, bytesPerCell, workBytes);
+
+    // Every strip or tile must lie inside the file.
+    const offsets = await tagNumbers(ifd, image.isTiled ? TAG.TileOffsets : TAG.StripOffsets);
+    const counts = await tagNumbers(ifd, image.isTiled ? TAG.TileByteCounts : TAG.StripByteCounts);
+    const what = image.isTiled ? 'tile' : 'strip';
+    const perPlane = Math.ceil(width / tileW) * Math.ceil(height / tileH);
+    const expected = perPlane * (image.planarConfiguration === 2 ? bandCount : 1);
+    if (!offsets || !counts || offsets.length < expected || counts.length < expected) {
+      throw truncated(path, `it lists ${offsets?.length ?? 0} ${what} offsets and ${counts?.length ?? 0} byte counts where ${expected} are needed`);
+    }
+    for (let i = 0; i < expected; i++) {
+      if (counts[i] > 0 && offsets[i] + counts[i] > size) {
+        throw truncated(path, `${what} ${i + 1} of ${expected} ends at byte ${offsets[i] + counts[i]} but the file has ${size} bytes`);
+      }
+    }
+
+    // Georeferencing.
+    const keys = parseGeoKeys(await tagNumbers(ifd, TAG.GeoKeyDirectory), await tagString(ifd, TAG.GeoAsciiParams));
+    const pixelIsPoint = keys?.shorts.get(KEY.GTRasterType) === RASTER_PIXEL_IS_POINT;
+    const transform = transformFromTags(
+      await tagNumbers(ifd, TAG.ModelTiepoint),
+      await tagNumbers(ifd, TAG.ModelPixelScale),
+      await tagNumbers(ifd, TAG.ModelTransformation),
+      pixelIsPoint,
+    );
+    const crs = crsFromKeys(keys);
+    let fileNodata = parseNodataTag(path, await tagString(ifd, TAG.GdalNodata));
+    if (fileNodata !== null && kind.float32Samples) fileNodata = float32Nodata(fileNodata);
+    const nodata = opts.nodata !== undefined ? opts.nodata : fileNodata;
+    const match = nodataFor(nodata, kind.float32Samples);
+
+    const values: GridValues = kind.float64Out ? new Float64Array(width * height) : new Float32Array(width * height);
+    for (let y0 = 0; y0 < height; y0 += rowsPerRead) {
+      const y1 = Math.min(height, y0 + rowsPerRead);
+      let samples: ArrayLike<number>;
+      try {
+        const r = await image.readRasters({ window: [0, y0, width, y1], samples: [band - 1], interleave: false });
+        samples = r[0];
+      } catch (err) {
+        throw truncated(path, `rows ${y0}–${y1 - 1} cannot be decoded (${(err as Error).message})`);
+      }
+      if (samples.length !== (y1 - y0) * width) {
+        throw truncated(path, `rows ${y0}–${y1 - 1} decode to ${samples.length} values instead of ${(y1 - y0) * width}`);
+      }
+      transferSamples(samples, samples.length, values, y0 * width, width, match, kind.integer, path);
+    }
+    return new Grid({ width, height, values, transform, crs, nodata: nodata ?? null });
+  } finally {
+    await fh.close().catch(() => undefined);
+  }
+}
