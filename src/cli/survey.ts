@@ -1,0 +1,91 @@
+/** `sill survey IN`: critical points, Euler check, merge trees, persistence pairs. */
+import type { Command } from 'commander';
+import { surveyReport, mergeTreeRecords, type SurveyReport } from '../report/survey.js';
+import { toCsv, featureCollection, pointFeature } from '../io/tables.js';
+import { OutputFolder } from '../io/outdir.js';
+import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, fmtCoord, type CommonOptions } from './common.js';
+import { loadInput } from './load.js';
+import type { Grid } from '../surface/grid.js';
+import type { Mesh } from '../surface/mesh.js';
+import type { SurveyResult } from '../morse/survey.js';
+
+export function registerSurvey(program: Command): void {
+  const cmd = program
+    .command('survey')
+    .description('critical points (pits, passes, peaks), Euler check, merge trees and persistence pairs')
+    .argument('<input>', 'GeoTIFF, .npy, or text grid / scattered samples');
+  addCommonOptions(cmd, { boundary: 'open' }).action(async (input: string, opts: CommonOptions) => {
+    await runSurveyCommand(input, opts);
+  });
+}
+
+export async function runSurveyCommand(input: string, opts: CommonOptions): Promise<SurveyReport> {
+  const progress = new Progress(opts.quiet || opts.json);
+  const connectivity = parseConnectivity(opts.connectivity);
+  const boundary = parseBoundary(opts.boundary);
+  const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', { min: 0 });
+  progress.stage(`reading ${input}`);
+  const surface = await loadInput(input, opts);
+  progress.stage('ordering, critical points, merge trees');
+  const { result, report } = surveyReport(surface, { connectivity, boundary, minPersistence }, input);
+  progress.done();
+  if (!report.euler.holds) throw new Error(`Euler relation fails (χ = ${report.euler.characteristic}, pits − passes + peaks = ${report.euler.pits - report.euler.passes + report.euler.peaks}); this is a bug in sill, please report it with the input`);
+  if (opts.out) writeSurveyFiles(opts.out, surface, result, report);
+  if (opts.json) process.stdout.write(JSON.stringify(report) + '\n');
+  say(opts, surveySummary(report, opts.out));
+  return report;
+}
+
+export function writeSurveyFiles(dir: string, surface: Grid | Mesh, result: SurveyResult, report: SurveyReport): string[] {
+  const out = new OutputFolder(dir);
+  try {
+    out.write('report.json', JSON.stringify(report, null, 1) + '\n');
+    out.write('critical-points.csv', toCsv(report.criticalPoints, [
+      ['kind', (c) => c.kind], ['col', (c) => c.col], ['row', (c) => c.row], ['x', (c) => c.x], ['y', (c) => c.y],
+      ['value', (c) => c.value], ['multiplicity', (c) => c.multiplicity], ['on_edge', (c) => (c.onEdge ? 1 : 0)],
+    ]));
+    out.write('critical-points.geojson', featureCollection(
+      report.criticalPoints.map((c, k) => pointFeature(c.x, c.y, { kind: c.kind, value: c.value, multiplicity: c.multiplicity, col: c.col, row: c.row, onEdge: c.onEdge }, k)),
+      surface.crs, { name: 'critical-points' }));
+    const values = result.complex.values;
+    out.write('merge-tree.json', JSON.stringify({
+      schema: 'sill/merge-tree@1',
+      minPersistence: report.minPersistence,
+      join: { description: 'components of sublevel sets: leaves are pits, inner nodes passes; node "outside" is the outside vertex at −∞', nodes: mergeTreeRecords(surface, values, result.join) },
+      split: { description: 'components of superlevel sets: leaves are peaks, inner nodes passes; node "top" is the wall/edge vertex at +∞', nodes: mergeTreeRecords(surface, values, result.split) },
+    }) + '\n');
+    return out.commit();
+  } catch (e) {
+    out.abort();
+    throw e;
+  }
+}
+
+export function surveySummary(r: SurveyReport, outDir?: string): string {
+  const s = r.surface;
+  const lines: string[] = [];
+  lines.push(s.kind === 'grid'
+    ? `surface   ${s.width} × ${s.height} grid, ${s.validCells} valid cells${s.crs?.name ? `, ${s.crs.name}` : ', no CRS'}`
+    : `surface   ${s.points} scattered samples (Delaunay triangulation)`);
+  lines.push(`complex   connectivity ${r.connectivity ?? 'triangulation'}, boundary ${r.boundary}`);
+  const e = r.euler;
+  lines.push(`critical  ${e.pits} pits${e.outsidePit ? ' (incl. the outside)' : ''}, ${e.passes} passes, ${e.peaks} peaks`);
+  lines.push(`Euler     pits − passes + peaks = ${e.pits - e.passes + e.peaks}, χ = ${e.characteristic} by counting simplices: ${e.holds ? 'holds' : 'FAILS'}`);
+  if (r.minPersistence > 0) {
+    const k = r.eulerKept;
+    lines.push(`kept      persistence ≥ ${fmt(r.minPersistence)}: ${k.pits} pits, ${k.passes} passes, ${k.peaks} peaks (Euler ${k.holds ? 'holds' : 'FAILS'}); ${r.counts.removedPairs.dim0 + r.counts.removedPairs.dim1} pairs removed`);
+  }
+  if (r.counts.zeroPersistencePairs > 0) lines.push(`          ${r.counts.zeroPersistencePairs} pairs of zero persistence (ties, flats) not listed`);
+  const geo = !!s.crs?.geographic;
+  const top = r.pairs.slice(0, 5);
+  if (top.length) {
+    lines.push('most persistent features:');
+    for (const p of top) {
+      const a = p.dim === 0 ? p.birthAt : p.deathAt;
+      const where = a.col !== null ? `cell (${a.col}, ${a.row})` : `point ${a.index}`;
+      lines.push(`  ${p.dim === 0 ? 'pit ' : 'peak'} ${fmt(p.dim === 0 ? p.birth : p.death)} at ${where}, x ${fmtCoord(a.x, geo)}, y ${fmtCoord(a.y, geo)}: persistence ${fmt(p.persistence)}`);
+    }
+  }
+  if (outDir) lines.push(`files     ${outDir}/ report.json critical-points.csv critical-points.geojson merge-tree.json`);
+  return lines.join('\n');
+}

@@ -1,0 +1,107 @@
+/**
+ * Invented demo data (our own scenario, generated procedurally with a fixed seed):
+ *  - "Larkmoor upland": a gently tilted glacial upland, 5 m cells, with kettle-hole ponds,
+ *    a valley dammed by a road embankment, and rough ground from fractal noise;
+ *  - "dihedral scan": an energy surface over two periodic torsion angles with three wells.
+ */
+import { Grid, type GeoTransform } from '../surface/grid.js';
+
+/** Deterministic pseudo-random numbers (mulberry32). */
+export function rng(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+/** Smooth value noise summed over octaves, in [-1, 1] roughly; one lattice table per octave. */
+export function fractalNoise(width: number, height: number, seed: number, baseCells: number, octaves: number, gain = 0.5): Float32Array {
+  const out = new Float32Array(width * height);
+  const rand = rng(seed);
+  let amp = 1, cells = baseCells;
+  for (let o = 0; o < octaves; o++) {
+    const gw = Math.ceil(width / cells) + 2, gh = Math.ceil(height / cells) + 2;
+    const lattice = new Float32Array(gw * gh);
+    for (let i = 0; i < lattice.length; i++) lattice[i] = rand() * 2 - 1;
+    for (let r = 0; r < height; r++) {
+      const fy = r / cells, y0 = Math.floor(fy), ty = fy - y0, sy = ty * ty * (3 - 2 * ty);
+      for (let c = 0; c < width; c++) {
+        const fx = c / cells, x0 = Math.floor(fx), tx = fx - x0, sx = tx * tx * (3 - 2 * tx);
+        const a = lattice[y0 * gw + x0], b = lattice[y0 * gw + x0 + 1];
+        const d = lattice[(y0 + 1) * gw + x0], e = lattice[(y0 + 1) * gw + x0 + 1];
+        out[r * width + c] += amp * ((a + (b - a) * sx) * (1 - sy) + (d + (e - d) * sx) * sy);
+      }
+    }
+    amp *= gain;
+    cells = Math.max(1, cells / 2);
+  }
+  return out;
+}
+
+export interface DemoDem {
+  grid: Grid;
+  description: string;
+}
+
+/** The Larkmoor upland DEM: 320 × 240 cells of 5 m in UTM zone 33N (EPSG:32633). */
+export function larkmoorDem(width = 320, height = 240): DemoDem {
+  const cell = 5;
+  const noise = fractalNoise(width, height, 20261201, 64, 5);
+  const values = new Float32Array(width * height);
+  // kettle holes: centre (col, row), radius in cells, depth in m
+  const kettles: [number, number, number, number][] = [
+    [70, 60, 14, 3.2], [112, 84, 9, 2.1], [95, 150, 18, 4.0], [200, 52, 11, 2.6], [230, 170, 16, 3.5], [168, 120, 7, 1.6],
+  ];
+  const valleyRow = (c: number) => 190 - 0.25 * c + 10 * Math.sin(c / 40);
+  for (let r = 0; r < height; r++) {
+    for (let c = 0; c < width; c++) {
+      let z = 240 + 0.04 * (width - c) * cell / 5 + 0.02 * r; // tilt toward the east edge
+      z += 1.2 * noise[r * width + c];
+      // valley running west→east toward the edge
+      const dv = r - valleyRow(c);
+      z -= 6 * Math.exp(-(dv * dv) / (2 * 14 * 14));
+      for (const [kc, kr, rad, depth] of kettles) {
+        const d2 = ((c - kc) ** 2 + (r - kr) ** 2) / (rad * rad);
+        if (d2 < 4) z -= depth * Math.exp(-d2 * 1.6);
+      }
+      // road embankment across the valley at col 250: 3 m above the ground line
+      if (Math.abs(c - 250) <= 2 && Math.abs(dv) < 40) z = Math.max(z, 240 + 0.04 * (width - 250) + 0.02 * r + 1.5);
+      values[r * width + c] = Math.round(z * 100) / 100; // centimetre resolution, as lidar products often are
+    }
+  }
+  const transform: GeoTransform = [512000, cell, 0, 5874000, 0, -cell];
+  return {
+    grid: new Grid({ width, height, values, transform, crs: { epsg: 32633, name: 'EPSG:32633', geographic: false, linearUnit: 'metre' }, nodata: -9999 }),
+    description: 'Larkmoor upland (invented): tilted glacial upland with kettle ponds and a valley dammed by a road embankment; 5 m cells, EPSG:32633',
+  };
+}
+
+/**
+ * An invented torsional energy surface E(φ, ψ) in kJ/mol over φ, ψ ∈ [−180°, 180°), periodic in
+ * both angles, with three wells of different depth. Returns "phi psi energy" text.
+ */
+export function dihedralScan(step = 5): { text: string; description: string } {
+  const lines = ['# invented demo: torsional scan, energies in kJ/mol, angles in degrees', 'phi psi energy'];
+  const rad = Math.PI / 180;
+  const wells: [number, number, number, number][] = [
+    // φ0, ψ0, depth, width (degrees)
+    [-70, 140, 22, 38], [-75, -40, 18, 32], [60, 40, 12, 30],
+  ];
+  for (let psi = -180; psi < 180; psi += step) {
+    for (let phi = -180; phi < 180; phi += step) {
+      let e = 6 * (1 + Math.cos(phi * rad)) + 4 * (1 + Math.cos(2 * psi * rad + 0.5)) + 3 * (1 - Math.cos((phi - psi) * rad));
+      for (const [p0, q0, depth, w] of wells) {
+        // periodic distance on the torus through the cosine of the angle difference
+        const dp = 1 - Math.cos((phi - p0) * rad), dq = 1 - Math.cos((psi - q0) * rad);
+        const s2 = (w * rad) ** 2;
+        e -= depth * Math.exp(-(dp + dq) / s2);
+      }
+      lines.push(`${phi} ${psi} ${e.toFixed(4)}`);
+    }
+  }
+  return { text: lines.join('\n') + '\n', description: 'torsional scan (invented): E(φ, ψ) in kJ/mol on a 5° periodic grid' };
+}
