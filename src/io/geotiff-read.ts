@@ -342,7 +342,8 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
       await resolveOffsetArrays(image.fileDirectory, bytes, header.littleEndian);
     } catch (err) {
       if (err instanceof InputError) throw err;
-      throw truncated(path, `its image directory cannot be parsed (${(err as Error).message})`);
+      const why = err instanceof RangeError ? 'a tag value lies past the end of the file' : (err as Error).message;
+      throw truncated(path, `its image directory cannot be parsed (${why})`);
     }
     const ifd = image.fileDirectory;
     const width = image.getWidth();
