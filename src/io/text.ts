@@ -24,8 +24,14 @@ export interface TextSurfaceOptions {
   nodata?: number;
 }
 
-/** Relative tolerance, as a fraction of the spacing, for coordinates to sit on a lattice. */
-export const LATTICE_TOLERANCE = 1e-6;
+/**
+ * Relative tolerance, as a fraction of the spacing, for coordinates to sit on a lattice: 0.1 %,
+ * so coordinates printed with four or more significant digits (a 5° scan written as radians to
+ * 4 decimals, say) are still read as the lattice they are.
+ */
+export const LATTICE_TOLERANCE = 1e-3;
+/** Distinct coordinates closer than this fraction of the largest gap are round-off of one value. */
+const MERGE_TOLERANCE = 1e-6;
 /** A lattice with more than this many nodes per sample is treated as scattered samples. */
 export const LATTICE_MAX_FILL = 4;
 
@@ -184,7 +190,7 @@ function latticeAxis(v: Float64Array, maxCount: number): Axis | null {
   let gmax = 0;
   for (let i = 1; i < m; i++) gmax = Math.max(gmax, s[i] - s[i - 1]);
   // Merge values that differ by round-off only; the spacing is the smallest remaining gap.
-  const merge = LATTICE_TOLERANCE * gmax;
+  const merge = MERGE_TOLERANCE * gmax;
   let prev = lo;
   let d0 = Infinity;
   let hi = lo;

@@ -54,7 +54,7 @@ export class Grid {
     this.values = values;
     // Simulation of simplicity orders by (value, index); -0 and +0 are equal values, so make them one bit pattern.
     for (let i = 0; i < values.length; i++) if (values[i] === 0) values[i] = 0;
-    this.transform = init.transform ?? [0, 1, 0, 0, 1, 0];
+    this.transform = init.transform ?? [0, 1, 0, 0, 0, 1];
     this.crs = init.crs ?? null;
     this.nodata = init.nodata ?? null;
   }

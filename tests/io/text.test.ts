@@ -228,3 +228,19 @@ describe('readTextSurface', () => {
     await expect(readTextSurface(join(dir, 'absent.csv'))).rejects.toThrow(/^cannot read .*absent\.csv: no such file or directory$/);
   });
 });
+
+describe('lattice detection with printed round-off', () => {
+  it('reads a 5° scan written in radians with 4 decimals as a 72×72 grid', () => {
+    // Source: common practice — scan files print angles with a few decimals; 2π/72 = 0.0872664…
+    const lines: string[] = [];
+    for (let j = 0; j < 72; j++) for (let i = 0; i < 72; i++) {
+      lines.push(`${(-Math.PI + (i * 2 * Math.PI) / 72).toFixed(4)} ${(-Math.PI + (j * 2 * Math.PI) / 72).toFixed(4)} ${Math.cos(i) + j}`);
+    }
+    const s = parseTextSurface(lines.join('\n'));
+    expect(s.kind).toBe('grid');
+    if (s.kind === 'grid') {
+      expect([s.width, s.height]).toEqual([72, 72]);
+      expect(s.cellSize()[0]).toBeCloseTo((2 * Math.PI) / 72, 4);
+    }
+  });
+});
