@@ -1,0 +1,64 @@
+/** Shared helpers for the benchmark cases: timing, statistics, formatting, dist imports. */
+import { existsSync } from 'node:fs';
+import { fileURLToPath, pathToFileURL } from 'node:url';
+import { dirname, join } from 'node:path';
+
+export const BENCH_DIR = dirname(dirname(fileURLToPath(import.meta.url)));
+export const ROOT_DIR = dirname(BENCH_DIR);
+export const DIST_DIR = join(ROOT_DIR, 'dist');
+
+/** Path of a built module, e.g. distPath('morse/survey.js'). */
+export function distPath(rel) {
+  return join(DIST_DIR, rel);
+}
+
+/** Import a built module, or return null when it has not been built (yet). */
+export async function importDist(rel) {
+  const p = distPath(rel);
+  if (!existsSync(p)) return null;
+  return import(pathToFileURL(p).href);
+}
+
+/** Full garbage collection when node runs with --expose-gc (npm run bench does). */
+export function collect() {
+  if (typeof globalThis.gc === 'function') { globalThis.gc(); globalThis.gc(); }
+}
+
+/**
+ * Time fn() `repeat` times (fresh `setup()` input each time, not timed) and return the
+ * samples in milliseconds. A full GC runs before every sample so one sample's garbage
+ * is not charged to the next.
+ */
+export async function timeIt(fn, { repeat = 1, setup = null, teardown = null } = {}) {
+  const ms = [];
+  for (let k = 0; k < repeat; k++) {
+    const input = setup ? await setup() : undefined;
+    collect();
+    const t0 = performance.now();
+    const out = await fn(input);
+    ms.push(performance.now() - t0);
+    if (teardown) await teardown(out, input);
+  }
+  return ms;
+}
+
+export function median(xs) {
+  const s = [...xs].sort((a, b) => a - b);
+  const m = s.length >> 1;
+  return s.length % 2 ? s[m] : (s[m - 1] + s[m]) / 2;
+}
+
+export function fmtMs(ms) {
+  return ms >= 10000 ? `${(ms / 1000).toFixed(1)} s` : ms >= 1000 ? `${(ms / 1000).toFixed(2)} s` : `${ms.toFixed(0)} ms`;
+}
+
+export function fmtNum(x, digits = 2) {
+  return Number.isFinite(x) ? x.toFixed(digits) : String(x);
+}
+
+/** Render rows (arrays of strings) as an aligned plain-text table; first row is the header. */
+export function table(rows) {
+  const widths = rows[0].map((_, c) => Math.max(...rows.map((r) => String(r[c] ?? '').length)));
+  const line = (r) => r.map((x, c) => (c === 0 ? String(x ?? '').padEnd(widths[c]) : String(x ?? '').padStart(widths[c]))).join('  ');
+  return [line(rows[0]), widths.map((w) => '-'.repeat(w)).join('  '), ...rows.slice(1).map(line)].join('\n');
+}
