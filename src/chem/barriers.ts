@@ -1,0 +1,488 @@
+/**
+ * `barriers`: stable states, transition states, barriers, minimum-energy paths, basin
+ * thermodynamics and the basin hierarchy of a sampled energy surface.
+ *
+ *  - Minima are the pits that survive persistence simplification (the leaves of the simplified join
+ *    tree). Transition states are the passes that survive it: each joins the basins its lower-link
+ *    pieces drain to (`connects`). Passes where sublevel components merge are the inner nodes of the
+ *    join tree (`inTree`), which is the basin hierarchy drawn as the disconnectivity graph; other
+ *    passes (a second channel between the same basins, or a way round a periodic surface) are
+ *    transition states too, but do not change the hierarchy.
+ *  - Each point is refined on a fit of the surface (src/chem/field.ts, src/chem/refine.ts).
+ *  - Barriers use the refined energies where refinement succeeded, the sampled values otherwise
+ *    (each row says which).
+ *  - Basins are steepest-descent regions (src/chem/basins.ts); their free energies are
+ *    F_b = −kT ln Σ_{i∈b} exp(−E_i/kT)·dA_i over the samples of the basin (dA: cell area on a grid,
+ *    a third of the incident triangles' area on a mesh).
+ *
+ * Everything here is in the input's energy unit; src/report/barriers.ts converts for output.
+ */
+import { InputError } from '../errors.js';
+import type { Grid } from '../surface/grid.js';
+import type { Mesh } from '../surface/mesh.js';
+import type { Boundary, Connectivity } from '../surface/complex.js';
+import { survey, type SurveyResult } from '../morse/survey.js';
+import { simplifyMergeTree, type MergeTree } from '../morse/mergetree.js';
+import { PASS } from '../morse/critical.js';
+import { locate, type Location } from '../report/common.js';
+import { fieldFor, type Field, type MeshFieldOptions } from './field.js';
+import { refineStationary, type Refined } from './refine.js';
+import { minimumEnergyPath, type MinimumEnergyPath } from './mep.js';
+import { pitRepresentatives, descentLabels, lowerLinkComponents, OUTSIDE, GHOST } from './basins.js';
+import { applyCap, preparePeriodic } from './prepare.js';
+import { checkTemperature, kTIn, type EnergyUnit } from './units.js';
+
+export interface BarriersOptions {
+  connectivity?: Connectivity;
+  /** Default 'closed': the edge of the sampled window is a wall. */
+  boundary?: Boundary;
+  /** Energy unit of the input values; default 'none'. */
+  units?: EnergyUnit;
+  /** Temperature in kelvin; default 300. */
+  temperature?: number;
+  /** Persistence threshold in input units; default 1 kT when the unit allows, 0 otherwise. */
+  minPersistence?: number;
+  /** Values above this (input units) count as unsampled. */
+  cap?: number;
+  /** Span each periodic axis must have (x, y); default 360 or 2π. */
+  period?: [number | null, number | null];
+  /** Images on each string; default 81. */
+  images?: number;
+  /** Minimum-energy paths are traced for at most this many transition states (lowest first); default 200. */
+  maxPaths?: number;
+  /** Scattered samples: options of the moving-least-squares fit. */
+  meshFit?: MeshFieldOptions;
+}
+
+/** Pairwise minimax barriers are listed for at most this many minima. */
+export const MINIMAX_LIMIT = 300;
+
+export type EnergyBasis = 'refined' | 'sampled';
+
+export interface StationaryRecord {
+  id: string;
+  vertex: number;
+  /** Where it was found on the samples (cell or sample point). */
+  location: Location;
+  /** Sampled value there. */
+  energy: number;
+  onEdge: boolean;
+  refined: Refined;
+  /** Refined energy when refinement converged with the right Hessian signature, else the sampled value. */
+  bestEnergy: number;
+  bestX: number;
+  bestY: number;
+  basis: EnergyBasis;
+}
+
+export interface BasinInfo {
+  /** Samples draining to the minimum. */
+  samples: number;
+  /** Area of those samples (map units²). */
+  area: number;
+  /** −kT ln Σ exp(−E/kT)·dA (null when the unit has no kT). */
+  freeEnergy: number | null;
+  population: number | null;
+}
+
+export interface MinimumRecord extends StationaryRecord {
+  basin: BasinInfo;
+}
+
+export interface PathRecord extends MinimumEnergyPath {
+  /** Minima the two ends settled in (null when an end is not near a minimum). */
+  ends: [string | null, string | null];
+  /** Highest point on the path minus the transition-state energy used for the barriers. */
+  maximumMinusTs: number;
+  /** Distance from the highest point to the transition state. */
+  maximumOffset: number;
+  /** The highest point coincides with the transition state (energy within 1% of the barrier, position within 2 spacings). */
+  agrees: boolean;
+}
+
+export interface TransitionStateRecord extends StationaryRecord {
+  multiplicity: number;
+  /** The two basins joined (deeper first); 'outside' on an open boundary. */
+  connects: [string, string];
+  /** Every pair of basins joined (one pair unless a monkey saddle). */
+  connectsPairs: [string, string][];
+  /** A merge of the basin hierarchy (inner node of the simplified join tree). */
+  inTree: boolean;
+  path: PathRecord | null;
+  /** Why there is no path, or what to know about it. */
+  pathNote: string | null;
+}
+
+export interface BarrierRow {
+  from: string;
+  to: string;
+  via: string;
+  /** E(TS) − E(from); null when `from` is the outside. */
+  forward: number | null;
+  backward: number | null;
+  basis: EnergyBasis;
+}
+
+export interface MinimaxRow {
+  a: string;
+  b: string;
+  /** Transition state at which the basins of a and b first join (lowest barrier path). */
+  via: string;
+  energy: number;
+  fromA: number;
+  fromB: number;
+}
+
+export interface HierarchyNode {
+  id: number;
+  kind: 'minimum' | 'transition-state' | 'outside';
+  /** Minimum or transition-state id. */
+  ref: string | null;
+  energy: number | null;
+  parent: number | null;
+  children: number[];
+}
+
+export interface BarriersResult {
+  surface: Grid | Mesh;
+  survey: SurveyResult;
+  field: Field;
+  connectivity: Connectivity | null;
+  boundary: Boundary;
+  units: EnergyUnit;
+  temperature: number;
+  /** k_B·T in input units (null for 'none'). */
+  kT: number | null;
+  minPersistence: { value: number; source: string };
+  minima: MinimumRecord[];
+  transitionStates: TransitionStateRecord[];
+  barriers: BarrierRow[];
+  minimax: MinimaxRow[] | null;
+  hierarchy: HierarchyNode[];
+  /** Steepest-descent basin of every sample: index into `minima`, −2 outside, −1 nodata. */
+  basinOf: Int32Array;
+  /** Periods of the wrapped axes. */
+  period: [number | null, number | null];
+  notes: string[];
+}
+
+export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): BarriersResult {
+  const units = opts.units ?? 'none';
+  const T = checkTemperature(opts.temperature ?? 300);
+  const kT = kTIn(units, T);
+  const boundary = opts.boundary ?? 'closed';
+  const notes: string[] = [];
+
+  let minP: number, minPSource: string;
+  if (opts.minPersistence !== undefined) {
+    if (!(opts.minPersistence >= 0) || !Number.isFinite(opts.minPersistence)) {
+      throw new InputError(`minimum persistence must be a number ≥ 0, got ${opts.minPersistence}`);
+    }
+    minP = opts.minPersistence;
+    minPSource = 'given';
+  } else if (kT !== null) {
+    minP = kT;
+    minPSource = `default: 1 kT at ${T} K`;
+  } else {
+    minP = 0;
+    minPSource = 'default: 0 (energy unit unknown, so no kT); only zero-persistence pairs are removed';
+  }
+
+  let surface = input;
+  if (opts.cap !== undefined) {
+    if (!Number.isFinite(opts.cap)) throw new InputError(`the energy cap must be a finite number, got ${opts.cap}`);
+    const c = applyCap(surface, opts.cap);
+    surface = c.surface;
+    if (c.capped > 0) notes.push(`${c.capped} sample${c.capped === 1 ? '' : 's'} above the cap ${opts.cap} treated as unsampled`);
+    if (surface.kind === 'grid' && surface.validCount() === 0) throw new InputError(`every sample is above the cap ${opts.cap}; raise --cap`);
+  }
+  const prep = preparePeriodic(surface, boundary, opts.period);
+  surface = prep.surface;
+  notes.push(...prep.notes);
+
+  const res = survey(surface, { connectivity: opts.connectivity, boundary, minPersistence: 0 });
+  const cx = res.complex;
+  const values = cx.values;
+  // persistence below the threshold is cancelled; zero persistence (ties) always is
+  const threshold = Math.max(minP, Number.MIN_VALUE);
+  const tree = simplifyMergeTree(res.join, values, threshold);
+  const rep = pitRepresentatives(res.join, values, threshold);
+
+  const minimaVerts: number[] = [];
+  for (let k = 0; k < tree.vertex.length; k++) if (tree.childCount[k] === 0 && tree.vertex[k] >= 0) minimaVerts.push(tree.vertex[k]);
+  if (minimaVerts.length === 0) {
+    throw new InputError(`no minimum is left after simplification (minimum persistence ${minP}${cx.hasOmega ? ', open boundary: every basin spills off the map' : ''}); lower --min-persistence${cx.hasOmega ? ' or use --boundary closed' : ''}`);
+  }
+  const minimaArr = Int32Array.from(minimaVerts);
+  const basinOf = descentLabels(cx, res.order, rep, minimaArr);
+
+  // passes left after cancelling pairs below the threshold
+  const cancelled = new Map<number, number>();
+  const P = res.pairs;
+  for (let k = 0; k < P.dim.length; k++) {
+    if (!(P.persistence[k] < threshold)) continue;
+    const passV = P.dim[k] === 0 ? P.deathVertex[k] : P.birthVertex[k];
+    cancelled.set(passV, (cancelled.get(passV) ?? 0) + 1);
+  }
+  const passVerts: number[] = [], passMult: number[] = [];
+  const cp = res.critical;
+  for (let k = 0; k < cp.vertex.length; k++) {
+    if (cp.kind[k] !== PASS) continue;
+    const m = cp.multiplicity[k] - (cancelled.get(cp.vertex[k]) ?? 0);
+    if (m > 0) { passVerts.push(cp.vertex[k]); passMult.push(m); }
+  }
+
+  const wrapX = boundary === 'periodic' || boundary === 'periodic-x';
+  const wrapY = boundary === 'periodic' || boundary === 'periodic-y';
+  const field = fieldFor(surface, wrapX && surface.kind === 'grid', wrapY && surface.kind === 'grid', opts.meshFit);
+
+  const base = (vertex: number, kind: 'minimum' | 'transition-state'): Omit<StationaryRecord, 'id'> => {
+    const location = locate(surface, vertex);
+    const refined = refineStationary(field, location.x, location.y, kind);
+    const good = refined.status === 'converged';
+    return {
+      vertex, location, energy: values[vertex], onEdge: cx.onEdge(vertex), refined,
+      bestEnergy: good ? refined.energy : values[vertex],
+      bestX: good ? refined.x : location.x,
+      bestY: good ? refined.y : location.y,
+      basis: good ? 'refined' : 'sampled',
+    };
+  };
+
+  // minima, numbered by energy
+  const minTmp = minimaVerts.map((v, k) => ({ k, rec: base(v, 'minimum') }));
+  minTmp.sort((a, b) => a.rec.bestEnergy - b.rec.bestEnergy || a.rec.vertex - b.rec.vertex);
+  const minId = new Array<string>(minimaVerts.length);
+  minTmp.forEach((m, r) => { minId[m.k] = `M${r + 1}`; });
+  const labelName = (label: number): string => (label === OUTSIDE ? 'outside' : minId[label]);
+  const energyOfLabel = new Float64Array(minimaVerts.length);
+  for (const m of minTmp) energyOfLabel[m.k] = m.rec.bestEnergy;
+  const minEnergyOfLabel = (label: number): number => (label === OUTSIDE ? -Infinity : energyOfLabel[label]);
+  const labelOfVertex = new Map<number, number>();
+  minimaVerts.forEach((v, k) => labelOfVertex.set(v, k));
+
+  // transition states
+  const treeVerts = new Set<number>();
+  for (let k = 0; k < tree.vertex.length; k++) if (tree.childCount[k] > 0 && tree.vertex[k] >= 0) treeVerts.add(tree.vertex[k]);
+  const tsTmp = passVerts.map((v, k) => {
+    const comps = lowerLinkComponents(cx, v).map((u) => (u === GHOST ? OUTSIDE : basinOf[u]));
+    comps.sort((a, b) => minEnergyOfLabel(a) - minEnergyOfLabel(b) || a - b);
+    const pairs: [number, number][] = [];
+    for (let i = 0; i < comps.length; i++) {
+      for (let j = i + 1; j < comps.length; j++) {
+        if (!pairs.some(([p, q]) => p === comps[i] && q === comps[j])) pairs.push([comps[i], comps[j]]);
+      }
+    }
+    if (pairs.length === 0) pairs.push([comps[0] ?? OUTSIDE, comps[0] ?? OUTSIDE]);
+    return { k, mult: passMult[k], pairs, rec: base(v, 'transition-state') };
+  });
+  tsTmp.sort((a, b) => a.rec.bestEnergy - b.rec.bestEnergy || a.rec.vertex - b.rec.vertex);
+
+  const minima: MinimumRecord[] = minTmp.map((m) => ({ id: minId[m.k], ...m.rec, basin: { samples: 0, area: 0, freeEnergy: null, population: null } }));
+  const transitionStates: TransitionStateRecord[] = tsTmp.map((t, r) => {
+    const pairs = t.pairs.map(([a, b]) => [labelName(a), labelName(b)] as [string, string]);
+    return {
+      id: `T${r + 1}`, ...t.rec, multiplicity: t.mult, connects: pairs[0], connectsPairs: pairs,
+      inTree: treeVerts.has(t.rec.vertex), path: null, pathNote: null,
+    };
+  });
+  const minById = new Map(minima.map((m) => [m.id, m]));
+  const tsByVertex = new Map(transitionStates.map((t) => [t.vertex, t]));
+
+  // barrier table
+  const barrierRows: BarrierRow[] = [];
+  for (const t of transitionStates) {
+    for (const [a, b] of t.connectsPairs) {
+      const ma = minById.get(a), mb = minById.get(b);
+      const basis: EnergyBasis = t.basis === 'refined' && (ma?.basis ?? 'refined') === 'refined' && (mb?.basis ?? 'refined') === 'refined' ? 'refined' : 'sampled';
+      barrierRows.push({
+        from: a, to: b, via: t.id,
+        forward: ma ? t.bestEnergy - ma.bestEnergy : null,
+        backward: mb ? t.bestEnergy - mb.bestEnergy : null,
+        basis,
+      });
+    }
+  }
+
+  // hierarchy (simplified join tree) and minimax barriers
+  const hierarchy: HierarchyNode[] = [];
+  for (let k = 0; k < tree.vertex.length; k++) {
+    const v = tree.vertex[k];
+    let kind: HierarchyNode['kind'], ref: string | null = null, energy: number | null = null;
+    if (v < 0) kind = 'outside';
+    else if (tree.childCount[k] === 0) {
+      kind = 'minimum';
+      ref = minId[labelOfVertex.get(v)!];
+      energy = minById.get(ref)!.bestEnergy;
+    } else {
+      kind = 'transition-state';
+      const t = tsByVertex.get(v);
+      if (!t) throw new Error(`internal: merge at vertex ${v} is not a transition state`);
+      ref = t.id;
+      energy = t.bestEnergy;
+    }
+    hierarchy.push({ id: k, kind, ref, energy, parent: tree.parent[k] < 0 ? null : tree.parent[k], children: [] });
+  }
+  for (const node of hierarchy) if (node.parent !== null) hierarchy[node.parent].children.push(node.id);
+
+  let minimax: MinimaxRow[] | null = null;
+  if (minima.length <= MINIMAX_LIMIT) minimax = minimaxBarriers(tree, hierarchy, minima);
+  else notes.push(`${minima.length} minima: the pairwise lowest-barrier table is left out above ${MINIMAX_LIMIT} minima (the disconnectivity graph holds the same information)`);
+
+  // basin thermodynamics
+  basinThermodynamics(surface, values, basinOf, minima, minTmp.map((m) => m.k), kT);
+
+  // minimum-energy paths, lowest transition states first
+  const maxPaths = opts.maxPaths ?? 200;
+  let traced = 0;
+  for (const t of transitionStates) {
+    if (t.refined.status !== 'converged') {
+      t.pathNote = `no path: the transition state was not refined (${t.refined.status})`;
+      continue;
+    }
+    if (traced >= maxPaths) {
+      t.pathNote = `no path: only the ${maxPaths} lowest transition states are traced`;
+      continue;
+    }
+    traced++;
+    const [vx, vy] = t.refined.eigen.vectors[0];
+    // each end goes to the minimum whose basin the descent reached (the nearest periodic image)
+    const ends: [string | null, string | null] = [null, null];
+    let side = 0;
+    const target = (x: number, y: number): [number, number] | null => {
+      const k = side++;
+      const i = field.nearestSample(x, y);
+      const label = i >= 0 ? basinOf[i] : -1;
+      if (label < 0) return null;
+      const m = minById.get(minId[label])!;
+      ends[k] = m.id;
+      const [dx, dy] = field.delta(x, y, m.bestX, m.bestY);
+      return [x + dx, y + dy];
+    };
+    const mep = minimumEnergyPath(field, t.refined.x, t.refined.y, vx, vy, { images: opts.images }, target);
+    const endOf = (p: { x: number; y: number } | undefined): string | null => {
+      if (!p) return null;
+      let best: string | null = null, bestD = 3 * field.spacing;
+      for (const m of minima) {
+        const d = Math.hypot(...field.delta(p.x, p.y, m.bestX, m.bestY));
+        if (d <= bestD) { best = m.id; bestD = d; }
+      }
+      return best;
+    };
+    // a free end (no basin found) is identified by the minimum it settled next to
+    if (ends[0] === null) ends[0] = endOf(mep.images[0]);
+    if (ends[1] === null) ends[1] = endOf(mep.images[mep.images.length - 1]);
+    // the smaller of the two barriers sets the tolerance
+    const sides = t.connects.map((id) => minById.get(id)?.bestEnergy).filter((e): e is number => e !== undefined);
+    const barrier = sides.length ? t.bestEnergy - Math.max(...sides) : NaN;
+    const diff = mep.maximum.energy - t.bestEnergy;
+    const offset = Math.hypot(...field.delta(t.bestX, t.bestY, mep.maximum.x, mep.maximum.y));
+    const tolE = Math.max(0.01 * Math.abs(barrier), 1e-9 * Math.abs(t.bestEnergy));
+    const agrees = Number.isFinite(diff) && Math.abs(diff) <= tolE && offset <= 2 * field.spacing;
+    t.path = { ...mep, ends, maximumMinusTs: diff, maximumOffset: offset, agrees };
+    const notesHere: string[] = [];
+    if (mep.status !== 'converged') notesHere.push(mep.message ?? mep.status);
+    if (!agrees && mep.images.length > 0) notesHere.push(`the highest point on the path is ${fmt(diff)} above the transition state and ${fmt(offset)} away from it`);
+    const want = [...t.connects].sort().join(' ');
+    const got = ends.map((e) => e ?? '?').sort().join(' ');
+    if (mep.images.length > 0 && want !== got) notesHere.push(`the path ends at ${ends.map((e) => e ?? 'no minimum').join(' and ')}, not at ${t.connects.join(' and ')}`);
+    t.pathNote = notesHere.length ? notesHere.join('; ') : null;
+  }
+
+  const badMin = minima.filter((m) => m.refined.status !== 'converged').length;
+  const badTs = transitionStates.filter((t) => t.refined.status !== 'converged').length;
+  if (badMin + badTs > 0) notes.push(`refinement failed for ${badMin} minim${badMin === 1 ? 'um' : 'a'} and ${badTs} transition state${badTs === 1 ? '' : 's'}: their sampled values are used (see each point's refinement message)`);
+
+  return {
+    surface, survey: res, field, connectivity: cx.connectivity, boundary, units, temperature: T, kT,
+    minPersistence: { value: minP, source: minPSource },
+    minima, transitionStates, barriers: barrierRows, minimax, hierarchy, basinOf, period: prep.period, notes,
+  };
+}
+
+function fmt(x: number): string {
+  return Number(x.toPrecision(3)).toString();
+}
+
+/** Lowest-barrier (minimax) connection of every pair of minima: their lowest common ancestor in the hierarchy. */
+function minimaxBarriers(tree: MergeTree, hierarchy: HierarchyNode[], minima: MinimumRecord[]): MinimaxRow[] {
+  const leafOf = new Map<string, number>();
+  for (const n of hierarchy) if (n.kind === 'minimum') leafOf.set(n.ref!, n.id);
+  const ancestors = (k: number): number[] => {
+    const out: number[] = [];
+    for (let p: number = k; p >= 0; p = tree.parent[p]) out.push(p);
+    return out;
+  };
+  const rows: MinimaxRow[] = [];
+  const anc = minima.map((m) => ancestors(leafOf.get(m.id)!));
+  for (let i = 0; i < minima.length; i++) {
+    const set = new Set(anc[i]);
+    for (let j = i + 1; j < minima.length; j++) {
+      const lca = anc[j].find((p) => set.has(p));
+      if (lca === undefined) continue; // different trees: not connected below the top of the surface
+      const node = hierarchy[lca];
+      if (node.kind !== 'transition-state' || node.energy === null) continue;
+      rows.push({
+        a: minima[i].id, b: minima[j].id, via: node.ref!, energy: node.energy,
+        fromA: node.energy - minima[i].bestEnergy, fromB: node.energy - minima[j].bestEnergy,
+      });
+    }
+  }
+  return rows;
+}
+
+/** Sample areas, basin sizes, free energies and populations (in place on `minima`). */
+function basinThermodynamics(surface: Grid | Mesh, values: ArrayLike<number>, basinOf: Int32Array, minima: MinimumRecord[], labelOfRank: number[], kT: number | null): void {
+  const nb = minima.length;
+  const count = new Float64Array(nb), area = new Float64Array(nb);
+  const emin = new Float64Array(nb).fill(Infinity);
+  let dA: (i: number) => number;
+  if (surface.kind === 'grid') {
+    const t = surface.transform;
+    const a = Math.abs(t[1] * t[5] - t[2] * t[4]);
+    dA = () => a;
+  } else {
+    const m = surface, va = new Float64Array(m.size);
+    for (let k = 0; k < m.triangles.length; k += 3) {
+      const a = m.triangles[k], b = m.triangles[k + 1], c = m.triangles[k + 2];
+      const ar = Math.abs((m.x[b] - m.x[a]) * (m.y[c] - m.y[a]) - (m.x[c] - m.x[a]) * (m.y[b] - m.y[a])) / 2;
+      va[a] += ar / 3; va[b] += ar / 3; va[c] += ar / 3;
+    }
+    dA = (i) => va[i];
+  }
+  const n = basinOf.length;
+  for (let i = 0; i < n; i++) {
+    const b = basinOf[i];
+    if (b < 0) continue;
+    count[b]++;
+    area[b] += dA(i);
+    if (values[i] < emin[b]) emin[b] = values[i];
+  }
+  const rankOfLabel = new Int32Array(nb);
+  labelOfRank.forEach((label, r) => { rankOfLabel[label] = r; });
+  for (let b = 0; b < nb; b++) {
+    const m = minima[rankOfLabel[b]];
+    m.basin.samples = count[b];
+    m.basin.area = area[b];
+  }
+  if (kT === null) return;
+  const sum = new Float64Array(nb);
+  for (let i = 0; i < n; i++) {
+    const b = basinOf[i];
+    if (b < 0) continue;
+    sum[b] += Math.exp(-(values[i] - emin[b]) / kT) * dA(i);
+  }
+  const F = new Float64Array(nb);
+  let Fmin = Infinity;
+  for (let b = 0; b < nb; b++) {
+    F[b] = emin[b] - kT * Math.log(sum[b]);
+    if (F[b] < Fmin) Fmin = F[b];
+  }
+  let Z = 0;
+  for (let b = 0; b < nb; b++) Z += Math.exp(-(F[b] - Fmin) / kT);
+  for (let b = 0; b < nb; b++) {
+    const m = minima[rankOfLabel[b]];
+    m.basin.freeEnergy = F[b];
+    m.basin.population = Math.exp(-(F[b] - Fmin) / kT) / Z;
+  }
+}
