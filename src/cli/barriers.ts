@@ -1,0 +1,188 @@
+/** `sill barriers IN`: minima, transition states, barriers, minimum-energy paths, basin hierarchy. */
+import type { Command } from 'commander';
+import { barriersReport, pathRows, type BarriersReport } from '../report/barriers.js';
+import type { BarriersResult } from '../chem/barriers.js';
+import { parseEnergyUnit, ENERGY_UNITS, type EnergyUnit } from '../chem/units.js';
+import { disconnectivitySvg } from '../render/disconnectivity.js';
+import { landscapeSvg } from '../render/landscape.js';
+import { toCsv } from '../io/tables.js';
+import { OutputFolder } from '../io/outdir.js';
+import { InputError } from '../errors.js';
+import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, type CommonOptions } from './common.js';
+import { loadInput } from './load.js';
+import type { Boundary } from '../surface/complex.js';
+
+export interface BarriersCliOptions extends CommonOptions {
+  units?: string;
+  to?: string;
+  temperature?: string;
+  cap?: string;
+  periodic?: boolean;
+  period?: string;
+  images?: string;
+  maxPaths?: string;
+  /** Set by the command: --min-persistence was left at its default. */
+  minPersistenceDefault?: boolean;
+  /** Set by the command: --boundary was left at its default. */
+  boundaryDefault?: boolean;
+}
+
+export function registerBarriers(program: Command): void {
+  const cmd = program
+    .command('barriers')
+    .description('energy landscapes: minima, transition states, barriers, minimum-energy paths and the disconnectivity graph')
+    .argument('<input>', 'energy grid or scattered samples (text x y energy, GeoTIFF, .npy)');
+  addCommonOptions(cmd, { boundary: 'closed' })
+    .option('--units <unit>', `energy unit of the input: ${ENERGY_UNITS.join(', ')}`, 'none')
+    .option('--to <unit>', 'report energies in this unit (default: the input unit)')
+    .option('--temperature <kelvin>', 'temperature for kT, free energies and rates', '300')
+    .option('--cap <energy>', 'treat samples above this energy (input unit) as unsampled')
+    .option('--periodic', 'shorthand for --boundary periodic (both axes wrap, e.g. two dihedral angles)')
+    .option('--period <p[,q]>', 'span of a periodic axis (x, or x,y); default 360 or 2π')
+    .option('--images <n>', 'images on each minimum-energy path (string method)', '81')
+    .option('--max-paths <n>', 'trace paths for at most N transition states, lowest first', '200')
+    .action(async (input: string, opts: BarriersCliOptions, command: Command) => {
+      opts.minPersistenceDefault = command.getOptionValueSource('minPersistence') === 'default';
+      opts.boundaryDefault = command.getOptionValueSource('boundary') === 'default';
+      await runBarriersCommand(input, opts);
+    });
+}
+
+function parsePeriod(s: string | undefined): [number | null, number | null] | undefined {
+  if (s === undefined) return undefined;
+  const parts = s.split(',');
+  if (parts.length < 1 || parts.length > 2) throw new InputError(`--period takes one span or two separated by a comma (x,y), got '${s}'`);
+  const v = parts.map((p) => parseNumber('--period', p, { positive: true }));
+  return [v[0], v.length === 2 ? v[1] : v[0]];
+}
+
+export async function runBarriersCommand(input: string, opts: BarriersCliOptions): Promise<BarriersReport> {
+  const progress = new Progress(opts.quiet || opts.json);
+  const connectivity = parseConnectivity(opts.connectivity);
+  let boundary: Boundary = parseBoundary(opts.boundary ?? 'closed');
+  if (opts.periodic) {
+    if (opts.boundaryDefault === false && boundary !== 'periodic') {
+      throw new InputError(`--periodic means --boundary periodic, but --boundary ${boundary} was also given; give one of them`);
+    }
+    boundary = 'periodic';
+  }
+  const units = parseEnergyUnit(opts.units ?? 'none', '--units');
+  const to = opts.to === undefined ? undefined : parseEnergyUnit(opts.to, '--to');
+  const temperature = parseNumber('--temperature', opts.temperature ?? '300');
+  if (!(temperature > 0)) throw new InputError(`--temperature must be a temperature in kelvin above 0, got '${opts.temperature}'`);
+  if (to !== undefined && to !== units && (units === 'none' || to === 'none')) {
+    throw new InputError(units === 'none'
+      ? `--to ${to} needs the input unit: add --units (one of ${ENERGY_UNITS.filter((u) => u !== 'none').join(', ')})`
+      : `--to none would drop the unit; leave --to out to report in ${units}`);
+  }
+  const minPersistence = opts.minPersistenceDefault || opts.minPersistence === undefined
+    ? undefined : parseNumber('--min-persistence', opts.minPersistence, { min: 0 });
+  const cap = opts.cap === undefined ? undefined : parseNumber('--cap', opts.cap);
+  const period = parsePeriod(opts.period);
+  const images = parseNumber('--images', opts.images ?? '81', { integer: true, min: 5 });
+  const maxPaths = parseNumber('--max-paths', opts.maxPaths ?? '200', { integer: true, min: 0 });
+
+  progress.stage(`reading ${input}`);
+  const surface = await loadInput(input, opts);
+  progress.stage('critical points, basins, refinement and paths');
+  const { result, report } = barriersReport(surface, {
+    connectivity, boundary, units, to, temperature, minPersistence, cap, period, images, maxPaths,
+  }, input);
+  progress.done();
+  if (!report.euler.holds) throw new Error(`Euler relation fails (χ = ${report.euler.characteristic}, pits − passes + peaks = ${report.euler.pits - report.euler.passes + report.euler.peaks}); this is a bug in sill, please report it with the input`);
+  if (opts.out) writeBarriersFiles(opts.out, result, report);
+  if (opts.json) process.stdout.write(JSON.stringify(report) + '\n');
+  say(opts, barriersSummary(report, opts.out));
+  return report;
+}
+
+export function writeBarriersFiles(dir: string, result: BarriersResult, report: BarriersReport): string[] {
+  const out = new OutputFolder(dir);
+  try {
+    out.write('report.json', JSON.stringify(report, null, 1) + '\n');
+    const stationaryCols = <T extends BarriersReport['minima'][number] | BarriersReport['transitionStates'][number]>(): [string, (r: T) => unknown][] => [
+      ['id', (r) => r.id],
+      ['x', (r) => r.refined?.x ?? r.x], ['y', (r) => r.refined?.y ?? r.y], ['energy', (r) => r.refined?.energy ?? r.energy],
+      ['energy_basis', (r) => r.energyBasis],
+      ['sampled_x', (r) => r.x], ['sampled_y', (r) => r.y], ['sampled_energy', (r) => r.energy],
+      ['col', (r) => r.col], ['row', (r) => r.row], ['on_edge', (r) => (r.onEdge ? 1 : 0)],
+      ['hessian_xx', (r) => r.hessian?.[0][0]], ['hessian_xy', (r) => r.hessian?.[0][1]], ['hessian_yy', (r) => r.hessian?.[1][1]],
+      ['eigenvalue_1', (r) => r.hessianEigenvalues?.[0]], ['eigenvalue_2', (r) => r.hessianEigenvalues?.[1]],
+      ['refinement', (r) => r.refinement.status],
+    ];
+    out.write('minima.csv', toCsv(report.minima, [
+      ...stationaryCols<BarriersReport['minima'][number]>(),
+      ['basin_samples', (m) => m.basin.samples], ['basin_area', (m) => m.basin.area],
+      ['free_energy', (m) => m.basin.freeEnergy], ['relative_free_energy', (m) => m.basin.relativeFreeEnergy],
+      ['population', (m) => m.basin.population],
+    ]));
+    out.write('transition-states.csv', toCsv(report.transitionStates, [
+      ...stationaryCols<BarriersReport['transitionStates'][number]>(),
+      ['connects_1', (t) => t.connects[0]], ['connects_2', (t) => t.connects[1]],
+      ['multiplicity', (t) => t.multiplicity], ['in_hierarchy', (t) => (t.inTree ? 1 : 0)],
+      ['path_file', (t) => t.path?.file], ['path_maximum', (t) => t.path?.maximum.energy], ['path_agrees', (t) => (t.path ? (t.path.agrees ? 1 : 0) : null)],
+    ]));
+    out.write('barriers.csv', toCsv(report.barriers, [
+      ['from', (b) => b.from], ['to', (b) => b.to], ['via', (b) => b.via],
+      ['forward', (b) => b.forward], ['backward', (b) => b.backward], ['energy_basis', (b) => b.energyBasis],
+      ['rate_forward_per_s', (b) => b.rateForward], ['rate_backward_per_s', (b) => b.rateBackward],
+    ]));
+    if (report.lowestBarriers) {
+      out.write('lowest-barriers.csv', toCsv(report.lowestBarriers, [
+        ['a', (r) => r.a], ['b', (r) => r.b], ['via', (r) => r.via], ['energy', (r) => r.energy], ['from_a', (r) => r.fromA], ['from_b', (r) => r.fromB],
+      ]));
+    }
+    for (const t of result.transitionStates) {
+      if (!t.path || t.path.images.length === 0) continue;
+      out.write(`paths/${t.id}.csv`, toCsv(pathRows(result, t.path, report.units.factor), [
+        ['arc_length', (p) => p.s], ['x', (p) => p.x], ['y', (p) => p.y], ['energy', (p) => p.energy],
+      ]));
+    }
+    out.write('disconnectivity.json', JSON.stringify({ schema: 'sill/disconnectivity@1', unit: report.units.output, ...report.disconnectivity }, null, 1) + '\n');
+    out.write('disconnectivity.svg', disconnectivitySvg(report));
+    out.write('landscape.svg', landscapeSvg(result, report));
+    return out.commit();
+  } catch (e) {
+    out.abort();
+    throw e;
+  }
+}
+
+export function barriersSummary(r: BarriersReport, outDir?: string): string {
+  const s = r.surface;
+  const u = r.units.output === 'none' ? '' : ` ${r.units.output}`;
+  const lines: string[] = [];
+  lines.push(s.kind === 'grid'
+    ? `surface   ${s.width} × ${s.height} grid, ${s.validCells} valid cells`
+    : `surface   ${s.points} scattered samples (Delaunay triangulation)`);
+  lines.push(`complex   connectivity ${r.connectivity ?? 'triangulation'}, boundary ${r.boundary}; Euler ${r.euler.holds ? 'holds' : 'FAILS'} (χ = ${r.euler.characteristic})`);
+  lines.push(`energies  in${u || ' input units'}${r.units.kT !== null ? `, T = ${r.units.temperature} K, kT = ${fmt(r.units.kT, 4)}${u}` : ''}; ${r.minPersistence.source.startsWith('default') ? 'default ' : ''}min persistence ${fmt(r.minPersistence.value, 4)}${u}`);
+  const edgeMin = r.counts.onEdge.minima, edgeTs = r.counts.onEdge.transitionStates;
+  lines.push(`found     ${r.counts.minima} minima${edgeMin ? ` (${edgeMin} on the edge of the samples)` : ''}, ${r.counts.transitionStates} transition states${edgeTs ? ` (${edgeTs} on the edge)` : ''}`);
+  const e = (x: number | null | undefined) => fmt(x ?? null, 5);
+  lines.push('minima:');
+  for (const m of r.minima.slice(0, 20)) {
+    const p = m.refined ?? m;
+    const pop = m.basin.population === null ? '' : `  population ${fmt(m.basin.population, 3)}`;
+    lines.push(`  ${m.id.padEnd(4)} E ${e(p.energy).padStart(10)}  at (${fmt(p.x, 6)}, ${fmt(p.y, 6)})${m.refined ? '' : ` [${m.refinement.status}]`}${m.onEdge ? ' [edge]' : ''}${pop}`);
+  }
+  if (r.minima.length > 20) lines.push(`  … ${r.minima.length - 20} more in report.json`);
+  if (r.transitionStates.length) lines.push('transition states:');
+  for (const t of r.transitionStates.slice(0, 20)) {
+    const p = t.refined ?? t;
+    const path = t.path ? `, path max ${t.path.agrees ? 'agrees' : `differs by ${fmt(t.path.maximumMinusTs, 3)}`}` : '';
+    lines.push(`  ${t.id.padEnd(4)} E ${e(p.energy).padStart(10)}  at (${fmt(p.x, 6)}, ${fmt(p.y, 6)})  joins ${t.connects.join('–')}${t.refined ? '' : ` [${t.refinement.status}]`}${t.onEdge ? ' [edge]' : ''}${path}`);
+  }
+  if (r.transitionStates.length > 20) lines.push(`  … ${r.transitionStates.length - 20} more in report.json`);
+  if (r.barriers.length) {
+    lines.push(`barriers${u ? ` (${u.trim()})` : ''}:   from → to   via   forward   backward${r.rates ? '   k_forward (1/s, order of magnitude)' : ''}`);
+    for (const b of r.barriers.slice(0, 30)) {
+      const rate = r.rates ? `   ${b.rateForward === null ? '—' : b.rateForward.toExponential(1)}` : '';
+      lines.push(`  ${`${b.from} → ${b.to}`.padEnd(14)} ${b.via.padEnd(5)} ${e(b.forward).padStart(9)} ${e(b.backward).padStart(10)}${rate}`);
+    }
+    if (r.barriers.length > 30) lines.push(`  … ${r.barriers.length - 30} more in barriers.csv`);
+  }
+  for (const n of r.notes) lines.push(`note      ${n}`);
+  if (outDir) lines.push(`files     ${outDir}/ report.json minima.csv transition-states.csv barriers.csv paths/ disconnectivity.svg landscape.svg`);
+  return lines.join('\n');
+}
