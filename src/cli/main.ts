@@ -5,6 +5,7 @@ import { InputError } from '../errors.js';
 import { SILL_VERSION } from '../report/common.js';
 import { registerSurvey } from './survey.js';
 import { registerDemo } from './demo.js';
+import { registerBarriers } from './barriers.js';
 
 export function buildProgram(): Command {
   const program = new Command();
@@ -15,6 +16,7 @@ export function buildProgram(): Command {
     .exitOverride()
     .configureOutput({ writeErr: (s) => process.stderr.write(s) });
   registerSurvey(program);
+  registerBarriers(program);
   registerDemo(program);
   for (const c of program.commands) c.exitOverride();
   return program;
