@@ -1,0 +1,65 @@
+/**
+ * The Müller–Brown potential (Müller & Brown, Theor. Chim. Acta 53, 75 (1979)) from its published
+ * parameters, and samplings of it for the tests: a regular grid and scattered points.
+ */
+import { readFileSync } from 'node:fs';
+import { Grid } from '../../src/surface/grid.js';
+import { Mesh } from '../../src/surface/mesh.js';
+
+const A = [-200, -100, -170, 15];
+const a = [-1, -1, -6.5, 0.7];
+const b = [0, 0, 11, 0.6];
+const c = [-10, -10, -6.5, 0.7];
+const x0 = [1, 0, -0.5, -1];
+const y0 = [0, 0.5, 1.5, 1];
+
+export function muellerBrown(x: number, y: number): number {
+  let e = 0;
+  for (let k = 0; k < 4; k++) {
+    const dx = x - x0[k], dy = y - y0[k];
+    e += A[k] * Math.exp(a[k] * dx * dx + b[k] * dx * dy + c[k] * dy * dy);
+  }
+  return e;
+}
+
+export interface MbReference {
+  scipy: string;
+  stationaryPoints: { kind: 'minimum' | 'saddle' | 'maximum'; x: number; y: number; energy: number; hessianEigenvalues: [number, number] }[];
+  codata: Record<string, number | string>;
+}
+
+/** SciPy's stationary points (tests/reference/mueller_brown.py → fixtures/chem/mueller-brown.json). */
+export function mbReference(): MbReference {
+  return JSON.parse(readFileSync(new URL('../../fixtures/chem/mueller-brown.json', import.meta.url), 'utf8'));
+}
+
+/** Grid over x ∈ [x0, x1], y ∈ [y0, y1] at spacing h, row 0 at the top (largest y), as text grids load. */
+export function mbGrid(h = 0.01, win = { x: [-1.5, 1.2], y: [-0.5, 2.0] }): Grid {
+  const w = Math.round((win.x[1] - win.x[0]) / h) + 1;
+  const ht = Math.round((win.y[1] - win.y[0]) / h) + 1;
+  const values = new Float64Array(w * ht);
+  for (let r = 0; r < ht; r++) {
+    const y = win.y[1] - r * h;
+    for (let col = 0; col < w; col++) values[r * w + col] = muellerBrown(win.x[0] + col * h, y);
+  }
+  return new Grid({ width: w, height: ht, values, transform: [win.x[0] - h / 2, h, 0, win.y[1] + h / 2, 0, -h] });
+}
+
+/** Deterministic uniform scattered samples (mulberry32) over the window. */
+export function mbScattered(n = 5000, seed = 1979, win = { x: [-1.5, 1.2], y: [-0.5, 2.0] }): Mesh {
+  let s = seed >>> 0;
+  const rand = () => {
+    s = (s + 0x6d2b79f5) >>> 0;
+    let t = s;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+  const x = new Float64Array(n), y = new Float64Array(n), v = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    x[i] = win.x[0] + (win.x[1] - win.x[0]) * rand();
+    y[i] = win.y[0] + (win.y[1] - win.y[0]) * rand();
+    v[i] = muellerBrown(x[i], y[i]);
+  }
+  return new Mesh(x, y, v);
+}
