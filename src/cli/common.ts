@@ -15,6 +15,8 @@ export interface CommonOptions {
   origin?: string;
   spacing?: string;
   columns?: string;
+  report?: boolean;
+  png?: boolean;
 }
 
 export function addCommonOptions(cmd: Command, defaults: { boundary: Boundary }): Command {
@@ -29,6 +31,8 @@ export function addCommonOptions(cmd: Command, defaults: { boundary: Boundary })
     .option('--origin <x,y>', 'matrix text input: coordinates of the centre of the first value')
     .option('--spacing <dx,dy>', 'matrix text input: step along a line and from one line to the next')
     .option('--columns <x,y,v>', 'column text input: 1-based columns of x, y and value', '1,2,3')
+    .option('--report', 'also write report.html (one self-contained page) and map.svg, tree.svg, persistence.svg into -o DIR')
+    .option('--png', 'also render the map as map.png into -o DIR')
     .option('--quiet', 'no progress or summary on the terminal');
 }
 

@@ -34,13 +34,15 @@ export async function runDemo(dir: string, quiet: boolean): Promise<void> {
 
   log(`== ${dem.description}`);
   log(`   input ${demPath}`);
-  log(`-- sill survey ${demPath} --min-persistence 0.5 -o ${join(root, 'larkmoor-survey')}`);
-  await runSurveyCommand(demPath, { out: join(root, 'larkmoor-survey'), minPersistence: '0.5', connectivity: '8', boundary: 'open', quiet });
+  log(`-- sill survey ${demPath} --min-persistence 0.5 -o ${join(root, 'larkmoor-survey')} --report`);
+  await runSurveyCommand(demPath, { out: join(root, 'larkmoor-survey'), minPersistence: '0.5', connectivity: '8', boundary: 'open', quiet, report: true });
   log('');
   log(`== ${scan.description}`);
   log(`   input ${scanPath}`);
-  log(`-- sill survey ${scanPath} --boundary periodic --min-persistence 1 -o ${join(root, 'dihedral-survey')}`);
-  await runSurveyCommand(scanPath, { out: join(root, 'dihedral-survey'), minPersistence: '1', connectivity: '8', boundary: 'periodic', quiet });
+  log(`-- sill survey ${scanPath} --boundary periodic --min-persistence 1 -o ${join(root, 'dihedral-survey')} --report`);
+  await runSurveyCommand(scanPath, { out: join(root, 'dihedral-survey'), minPersistence: '1', connectivity: '8', boundary: 'periodic', quiet, report: true });
   log('');
   log(`demo results in ${root}`);
+  // the reports, last, so the path to open is what the terminal ends with
+  for (const run of ['larkmoor-survey', 'dihedral-survey']) log(`report: ${join(root, run, 'report.html')}`);
 }

@@ -8,6 +8,8 @@ import { loadInput } from './load.js';
 import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
 import type { SurveyResult } from '../morse/survey.js';
+import { reportRequest, addReport, reportSummary, type ReportRequest } from './report-option.js';
+import { buildSurveyReport } from '../render/html/survey.js';
 
 export function registerSurvey(program: Command): void {
   const cmd = program
@@ -24,19 +26,21 @@ export async function runSurveyCommand(input: string, opts: CommonOptions): Prom
   const connectivity = parseConnectivity(opts.connectivity);
   const boundary = parseBoundary(opts.boundary);
   const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', { min: 0 });
+  const render = reportRequest('survey', [input], { ...opts });
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
   progress.stage('ordering, critical points, merge trees');
   const { result, report } = surveyReport(surface, { connectivity, boundary, minPersistence }, input);
   progress.done();
   if (!report.euler.holds) throw new Error(`Euler relation fails (χ = ${report.euler.characteristic}, pits − passes + peaks = ${report.euler.pits - report.euler.passes + report.euler.peaks}); this is a bug in sill, please report it with the input`);
-  if (opts.out) writeSurveyFiles(opts.out, surface, result, report);
+  if (opts.out) writeSurveyFiles(opts.out, surface, result, report, render);
   if (opts.json) process.stdout.write(JSON.stringify(report) + '\n');
   say(opts, surveySummary(report, opts.out));
+  if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
 }
 
-export function writeSurveyFiles(dir: string, surface: Grid | Mesh, result: SurveyResult, report: SurveyReport): string[] {
+export function writeSurveyFiles(dir: string, surface: Grid | Mesh, result: SurveyResult, report: SurveyReport, render?: ReportRequest | null): string[] {
   const out = new OutputFolder(dir);
   try {
     out.write('report.json', JSON.stringify(report, null, 1) + '\n');
@@ -54,6 +58,7 @@ export function writeSurveyFiles(dir: string, surface: Grid | Mesh, result: Surv
       join: { description: 'components of sublevel sets: leaves are pits, inner nodes passes; node "outside" is the outside vertex at −∞', nodes: mergeTreeRecords(surface, values, result.join) },
       split: { description: 'components of superlevel sets: leaves are peaks, inner nodes passes; node "top" is the wall/edge vertex at +∞', nodes: mergeTreeRecords(surface, values, result.split) },
     }) + '\n');
+    addReport(out, render, ['report.json', 'critical-points.csv', 'critical-points.geojson', 'merge-tree.json'], (ctx) => buildSurveyReport(surface, result, report, ctx));
     return out.commit();
   } catch (e) {
     out.abort();
