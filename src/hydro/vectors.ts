@@ -1,0 +1,132 @@
+/**
+ * Depression outlines as GeoJSON polygons, traced with d3-contour on each depression's cell
+ * mask and georeferenced with the grid's transform.
+ *
+ * d3-contour runs marching squares with samples at cell centres, so at an isolated corner it
+ * cuts diagonally across the cell. Every segment it returns joins two edge midpoints of one
+ * marching square, whose centre is a cell corner; putting that corner back between the two
+ * ends of each diagonal segment gives the exact outline along cell edges (the polygon area is
+ * then exactly the cells' area — a check the tests make).
+ */
+import { contours } from 'd3-contour';
+import type { Grid } from '../surface/grid.js';
+import type { Hierarchy } from './hierarchy.js';
+
+export type Ring = [number, number][];
+export type PolygonCoords = Ring[];
+
+export interface DepressionOutline {
+  id: number;
+  /** Polygons (exterior ring first, then holes), in map coordinates, exterior counter-clockwise. */
+  polygons: PolygonCoords[];
+}
+
+/** Bounding boxes [c0, r0, c1, r1] (inclusive) of each depression's wet cells, nested ones included. */
+export function depressionBoxes(labels: Int32Array, width: number, hier: Hierarchy): Int32Array {
+  const R = hier.count + 1;
+  const box = new Int32Array(4 * R);
+  for (let d = 0; d < R; d++) { box[4 * d] = 0x7fffffff; box[4 * d + 1] = 0x7fffffff; box[4 * d + 2] = -1; box[4 * d + 3] = -1; }
+  const height = labels.length / width;
+  for (let r = 0; r < height; r++) {
+    for (let c = 0; c < width; c++) {
+      const d = labels[r * width + c];
+      if (d <= 0) continue;
+      const b = 4 * d;
+      if (c < box[b]) box[b] = c;
+      if (r < box[b + 1]) box[b + 1] = r;
+      if (c > box[b + 2]) box[b + 2] = c;
+      if (r > box[b + 3]) box[b + 3] = r;
+    }
+  }
+  for (let d = 1; d < R; d++) {
+    const p = hier.parent[d];
+    if (p <= 0) continue;
+    const b = 4 * d, q = 4 * p;
+    if (box[b + 2] < 0) continue;
+    if (box[b] < box[q]) box[q] = box[b];
+    if (box[b + 1] < box[q + 1]) box[q + 1] = box[b + 1];
+    if (box[b + 2] > box[q + 2]) box[q + 2] = box[b + 2];
+    if (box[b + 3] > box[q + 3]) box[q + 3] = box[b + 3];
+  }
+  return box;
+}
+
+/** Signed area of a ring (shoelace), positive when counter-clockwise in (x, y). */
+export function ringArea(ring: Ring): number {
+  let s = 0;
+  for (let i = 0, j = ring.length - 1; i < ring.length; j = i++) s += (ring[j][0] - ring[i][0]) * (ring[j][1] + ring[i][1]);
+  return s / 2;
+}
+
+/** Turn a d3-contour ring (midpoints of cell edges, closed) into cell-corner vertices without collinear points. */
+function cornerRing(ring: number[][]): Ring {
+  const pts: [number, number][] = [];
+  for (let i = 0; i + 1 < ring.length; i++) {
+    const [x1, y1] = ring[i], [x2, y2] = ring[i + 1];
+    pts.push([x1, y1]);
+    if (x1 !== x2 && y1 !== y2) pts.push([Number.isInteger(x1) ? x1 : x2, Number.isInteger(y1) ? y1 : y2]);
+  }
+  // drop collinear vertices (cyclically) until none is left
+  let cur = pts;
+  for (let changed = true; changed && cur.length > 3;) {
+    changed = false;
+    const out: [number, number][] = [];
+    const L = cur.length;
+    for (let i = 0; i < L; i++) {
+      const a = out.length ? out[out.length - 1] : cur[(i + L - 1) % L];
+      const b = cur[i], c = cur[(i + 1) % L];
+      if ((b[0] - a[0]) * (c[1] - b[1]) - (b[1] - a[1]) * (c[0] - b[0]) === 0) { changed = true; continue; }
+      out.push(b);
+    }
+    cur = out;
+  }
+  return cur;
+}
+
+/**
+ * Outline of every depression at its spill level (its wet cells, nested depressions included).
+ * @param labels innermost depression id per cell (0 none, −1 nodata)
+ */
+export function depressionOutlines(grid: Grid, labels: Int32Array, hier: Hierarchy): DepressionOutline[] {
+  const W = grid.width;
+  const box = depressionBoxes(labels, W, hier);
+  const [x0, dx, rx, y0, ry, dy] = grid.transform;
+  const { tin, tout } = hier;
+  const gen = contours().smooth(false).thresholds([0.5]);
+  const out: DepressionOutline[] = [];
+  for (let d = 1; d <= hier.count; d++) {
+    const b = 4 * d;
+    const c0 = box[b], r0 = box[b + 1], c1 = box[b + 2], r1 = box[b + 3];
+    if (c1 < 0) { out.push({ id: d, polygons: [] }); continue; }
+    const bw = c1 - c0 + 1, bh = r1 - r0 + 1;
+    const mask = new Uint8Array(bw * bh);
+    const lo = tin[d], hi = tout[d];
+    for (let r = 0; r < bh; r++) {
+      const row = (r0 + r) * W + c0;
+      for (let c = 0; c < bw; c++) {
+        const e = labels[row + c];
+        if (e > 0 && tin[e] >= lo && tin[e] < hi) mask[r * bw + c] = 1;
+      }
+    }
+    const geom = gen.size([bw, bh]).contour(mask as unknown as number[], 0.5);
+    const polygons: PolygonCoords[] = [];
+    for (const poly of geom.coordinates) {
+      const rings: Ring[] = [];
+      poly.forEach((ring, k) => {
+        const px = cornerRing(ring);
+        const mapped: Ring = px.map(([X, Y]) => {
+          const C = c0 + X, Rr = r0 + Y;
+          return [x0 + C * dx + Rr * rx, y0 + C * ry + Rr * dy];
+        });
+        const a = ringArea(mapped);
+        // exterior counter-clockwise, holes clockwise (RFC 7946 §3.1.6)
+        if ((k === 0 && a < 0) || (k > 0 && a > 0)) mapped.reverse();
+        mapped.push([mapped[0][0], mapped[0][1]]);
+        rings.push(mapped);
+      });
+      polygons.push(rings);
+    }
+    out.push({ id: d, polygons });
+  }
+  return out;
+}
