@@ -1,0 +1,198 @@
+/**
+ * The demo reports in a real browser: Debian's Chromium driven by playwright-core (no browser
+ * download). Every report.html written by `sill demo` is opened from disk and checked: no console
+ * errors, no network requests, the figures carry the expected markers, markers sit on their cells,
+ * and selection links tables and figures both ways. Screenshots go to test-output/browser/.
+ */
+import { describe, it, expect, beforeAll, afterAll } from 'vitest';
+import { existsSync, mkdirSync, mkdtempSync, readFileSync, readdirSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join, basename, dirname } from 'node:path';
+import { fileURLToPath, pathToFileURL } from 'node:url';
+import { chromium, type BrowserContext, type Page } from 'playwright-core';
+import { sill } from '../cli/run.js';
+
+const CHROMIUM = process.env.SILL_CHROMIUM ?? '/usr/bin/chromium';
+const SHOTS = join(dirname(fileURLToPath(import.meta.url)), '..', '..', 'test-output', 'browser');
+
+let demo: string;
+let profile: string;
+let ctx: BrowserContext;
+const reports: string[] = [];
+
+beforeAll(async () => {
+  if (!existsSync(CHROMIUM)) {
+    throw new Error(`browser tests need Chromium at ${CHROMIUM}: apt-get update && apt-get install -y chromium (.ci/run does this)`);
+  }
+  demo = mkdtempSync(join(tmpdir(), 'sill-browser-'));
+  const r = sill(['demo', '-o', demo]);
+  if (r.code !== 0) throw new Error(`sill demo failed: ${r.stderr}`);
+  for (const d of readdirSync(demo)) if (existsSync(join(demo, d, 'report.html'))) reports.push(join(demo, d, 'report.html'));
+  mkdirSync(SHOTS, { recursive: true });
+  profile = mkdtempSync(join(tmpdir(), 'sill-chromium-'));
+  ctx = await chromium.launchPersistentContext(profile, {
+    executablePath: CHROMIUM,
+    args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-background-networking', '--disable-component-update'],
+    viewport: { width: 1400, height: 1000 },
+  });
+}, 60_000);
+
+afterAll(async () => {
+  await ctx?.close();
+  if (profile) rmSync(profile, { recursive: true, force: true });
+  if (demo) rmSync(demo, { recursive: true, force: true });
+});
+
+interface Opened { page: Page; errors: string[]; requests: string[]; url: string }
+
+async function open(file: string): Promise<Opened> {
+  const page = await ctx.newPage();
+  const errors: string[] = [], requests: string[] = [];
+  page.on('console', (m) => { if (m.type() === 'error' || m.type() === 'warning') errors.push(`${m.type()}: ${m.text()}`); });
+  page.on('pageerror', (e) => errors.push(`pageerror: ${e.message}`));
+  page.on('request', (q) => requests.push(q.url()));
+  const url = pathToFileURL(file).href;
+  await page.goto(url);
+  await page.waitForSelector('html[data-ready="1"]', { timeout: 10_000 });
+  return { page, errors, requests, url };
+}
+
+/** Markers each figure should show, from the run's own report.json (and merge-tree.json). */
+function expectedMarkers(dir: string): { map: number; tree: number; persistence: number } {
+  const rep = JSON.parse(readFileSync(join(dir, 'report.json'), 'utf8'));
+  if (rep.schema === 'sill/survey@1') {
+    const tree = JSON.parse(readFileSync(join(dir, 'merge-tree.json'), 'utf8'));
+    const removedNonzero = rep.counts.removedPairs.dim0 + rep.counts.removedPairs.dim1 - (rep.minPersistence > 0 ? rep.counts.zeroPersistencePairs : 0);
+    const born = new Set(rep.pairs.filter((p: { dim: number }) => p.dim === 0).map((p: { birthAt: { index: number } }) => p.birthAt.index));
+    const essential = rep.criticalPoints.filter((c: { kind: string; index: number }) => c.kind === 'pit' && !born.has(c.index)).length;
+    return { map: rep.criticalPoints.length, tree: tree.join.nodes.length, persistence: rep.pairs.length + removedNonzero + essential };
+  }
+  throw new Error(`no marker expectations for ${rep.schema}`);
+}
+
+describe('demo reports in Chromium', () => {
+  it('the demo wrote reports to check', () => {
+    expect(reports.length).toBeGreaterThanOrEqual(2);
+  });
+
+  it('open from disk with no console errors and no network requests, figures with the expected markers', async () => {
+    for (const file of reports) {
+      const dir = dirname(file), name = basename(dir);
+      const { page, errors, requests, url } = await open(file);
+      const want = expectedMarkers(dir);
+      expect(await page.locator('#map g.mk').count(), `${name}: map markers`).toBe(want.map);
+      expect(await page.locator('#tree g.mk').count(), `${name}: tree markers`).toBe(want.tree);
+      expect(await page.locator('#persistence g.mk').count(), `${name}: diagram markers`).toBe(want.persistence);
+      // the raster layer decoded and drew
+      const img = await page.evaluate(() => {
+        const im = document.querySelector('#map image') as SVGImageElement;
+        const r = im.getBoundingClientRect();
+        return { w: r.width, h: r.height };
+      });
+      expect(img.w).toBeGreaterThan(100);
+      await page.screenshot({ path: join(SHOTS, `${name}.png`), fullPage: true });
+      expect(errors, `${name}: console`).toEqual([]);
+      expect(requests.filter((u) => u !== url && !u.startsWith('data:')), `${name}: requests`).toEqual([]);
+      await page.close();
+    }
+  });
+
+  it('markers sit on their cells, before and after zooming', async () => {
+    for (const file of reports) {
+      const dir = dirname(file);
+      const rep = JSON.parse(readFileSync(join(dir, 'report.json'), 'utf8'));
+      const feats: { col: number; row: number; index: number }[] = (rep.criticalPoints ?? []).slice(0, 5);
+      const { page } = await open(file);
+      const check = async () => {
+        for (const f of feats) {
+          const got = await page.evaluate(({ k, col, row }) => {
+            const plot = document.getElementById('map-plot') as unknown as SVGSVGElement;
+            // the plot's viewport on screen: the frame drawn around it (the nested <svg>'s own box would include clipped overflow)
+            const vb = plot.viewBox.baseVal, r = document.querySelector('#map .plot-frame')!.getBoundingClientRect();
+            const g = document.querySelector(`#map g.mk[data-k="${k}"]`) as SVGGElement | null;
+            if (!g) return null;
+            const m = g.getScreenCTM()!;
+            // expected: cell centre (col + ½, row + ½) through the current viewBox onto the plot's box
+            return { x: m.e, y: m.f, ex: r.left + ((col + 0.5 - vb.x) / vb.width) * r.width, ey: r.top + ((row + 0.5 - vb.y) / vb.height) * r.height };
+          }, { k: `v${f.index}`, col: f.col, row: f.row });
+          expect(got).not.toBeNull();
+          expect(Math.abs(got!.x - got!.ex)).toBeLessThan(0.75);
+          expect(Math.abs(got!.y - got!.ey)).toBeLessThan(0.75);
+        }
+      };
+      await check();
+      const box = (await page.locator('#map-plot').boundingBox())!;
+      await page.mouse.move(box.x + box.width * 0.4, box.y + box.height * 0.6);
+      await page.mouse.wheel(0, -400);
+      await page.waitForTimeout(100);
+      const vb = await page.evaluate(() => (document.getElementById('map-plot') as unknown as SVGSVGElement).viewBox.baseVal.width);
+      expect(vb).toBeLessThan(rep.surface.width);
+      await check();
+      // pointer read-out over the raster names the cell under it
+      await page.mouse.move(box.x + box.width * 0.5, box.y + box.height * 0.5);
+      await expect.poll(async () => page.locator('#map-readout').textContent()).toMatch(/cell \(\d+, \d+\)/);
+      await page.close();
+    }
+  });
+
+  it('clicking a table row highlights its feature on the map, and clicking a marker highlights its row', async () => {
+    for (const file of reports) {
+      const name = basename(dirname(file));
+      const { page } = await open(file);
+      const row = page.locator('#table-critical-points tbody tr').first();
+      const key = (await row.getAttribute('data-k'))!;
+      await row.click();
+      await expect.poll(() => page.locator(`#map g.mk[data-k="${key}"]`).getAttribute('class')).toMatch(/\bsel\b/);
+      expect(await row.getAttribute('class')).toMatch(/\bsel\b/);
+      // a marker elsewhere: the third row's feature, clicked on the map
+      const other = (await page.locator('#table-critical-points tbody tr').nth(2).getAttribute('data-k'))!;
+      await page.locator('[data-zoom="reset"]').click();
+      await page.locator(`#map g.mk[data-k="${other}"] .mk-body`).click({ force: true });
+      const selRows = page.locator('#table-critical-points tbody tr.sel');
+      await expect.poll(() => selRows.count()).toBe(1);
+      expect(await selRows.first().getAttribute('data-k')).toBe(other);
+      expect(await page.locator(`#map g.mk[data-k="${key}"]`).getAttribute('class')).not.toMatch(/\bsel\b/);
+      // the tree node of the same feature is highlighted too, when it is in the tree
+      const inTree = await page.locator(`#tree g.mk[data-k="${other}"]`).count();
+      if (inTree) expect(await page.locator(`#tree g.mk[data-k="${other}"]`).getAttribute('class')).toMatch(/\bsel\b/);
+      await page.locator('#sec-map').screenshot({ path: join(SHOTS, `${name}-selected.png`) });
+      // sorting by a column reorders the rows
+      await page.locator('#table-critical-points th button').filter({ hasText: /^value/ }).click();
+      const vals = await page.locator('#table-critical-points tbody tr td:nth-child(6)').allTextContents();
+      const nums = vals.map((v) => Number(v.replace('−', '-')));
+      expect(nums).toEqual([...nums].sort((a, b) => a - b));
+      await page.close();
+    }
+  });
+
+  it('text on the page meets the WCAG AA contrast ratio (computed styles, in the browser)', async () => {
+    const { page } = await open(reports[0]);
+    const worst = await page.evaluate(() => {
+      // WCAG 2.x relative luminance and contrast ratio
+      const lum = (c: number[]) => {
+        const l = c.map((v) => { const s = v / 255; return s <= 0.04045 ? s / 12.92 : ((s + 0.055) / 1.055) ** 2.4; });
+        return 0.2126 * l[0] + 0.7152 * l[1] + 0.0722 * l[2];
+      };
+      const rgb = (s: string) => (s.match(/[\d.]+/g) ?? []).map(Number);
+      const bgOf = (e: Element | null): number[] => {
+        for (; e; e = e.parentElement) {
+          const c = rgb(getComputedStyle(e).backgroundColor);
+          if (c.length >= 3 && (c.length < 4 || c[3] > 0.5)) return c.slice(0, 3);
+        }
+        return [255, 255, 255];
+      };
+      let min = { ratio: 99, text: '' };
+      for (const e of Array.from(document.querySelectorAll('body *:not(svg):not(svg *):not(script):not(style)'))) {
+        const own = Array.from(e.childNodes).some((n) => n.nodeType === 3 && (n.textContent ?? '').trim());
+        if (!own || (e as HTMLElement).offsetParent === null) continue;
+        const fg = rgb(getComputedStyle(e).color).slice(0, 3), bg = bgOf(e);
+        const a = lum(fg), b = lum(bg);
+        const ratio = (Math.max(a, b) + 0.05) / (Math.min(a, b) + 0.05);
+        if (ratio < min.ratio) min = { ratio, text: (e.textContent ?? '').trim().slice(0, 40) };
+      }
+      return min;
+    });
+    expect(worst.ratio, `lowest contrast at "${worst.text}"`).toBeGreaterThanOrEqual(4.5);
+    await page.close();
+  });
+});

@@ -1,0 +1,116 @@
+import { describe, it, expect, beforeAll } from 'vitest';
+import { writeFileSync, readFileSync, existsSync, readdirSync } from 'node:fs';
+import { join } from 'node:path';
+import { sill, tempDir } from '../cli/run.js';
+import { Grid } from '../../src/surface/grid.js';
+import { surveyReport } from '../../src/report/survey.js';
+import { buildSurveyReport } from '../../src/render/html/survey.js';
+import { renderHtml, clientScript } from '../../src/render/html/page.js';
+
+let dir: string;
+beforeAll(() => {
+  dir = tempDir('sill-report-');
+  // paraboloid with a small tilt on a 9 × 7 lattice: one pit (analytic)
+  const lines = ['x y z'];
+  for (let r = 0; r < 7; r++) for (let c = 0; c < 9; c++) lines.push(`${c * 10} ${r * 10} ${(c - 4) ** 2 + (r - 3) ** 2 + 0.01 * c}`);
+  writeFileSync(join(dir, 'bowl.txt'), lines.join('\n') + '\n');
+});
+
+/** sin x · sin y on a 24 × 24 torus: 2 pits, 4 passes, 2 peaks (analytic). */
+function torus(): Grid {
+  const n = 24, v = new Float64Array(n * n);
+  for (let r = 0; r < n; r++) for (let c = 0; c < n; c++) v[r * n + c] = Math.sin((2 * Math.PI * (c + 0.5)) / n) * Math.sin((2 * Math.PI * (r + 0.5)) / n) + 1e-6 * (r * n + c);
+  return new Grid({ width: n, height: n, values: v });
+}
+
+function dataOf(html: string): Record<string, any> {
+  const m = /<script type="application\/json" id="sill-data">([\s\S]*?)<\/script>/.exec(html)!;
+  return JSON.parse(m[1]);
+}
+
+describe('report page (library)', () => {
+  const surface = torus();
+  const { result, report } = surveyReport(surface, { boundary: 'periodic' }, 'torus');
+  const built = buildSurveyReport(surface, result, report, { commandLine: 'sill survey torus --boundary periodic', files: [] });
+  const html = renderHtml(built.doc);
+
+  it('shows every critical point of sin·sin on a torus, each kind with its own shape', () => {
+    // Source: analytic — sin x sin y on the torus has 2 minima, 4 saddles, 2 maxima.
+    expect(report.euler).toMatchObject({ pits: 2, passes: 4, peaks: 2, characteristic: 0, holds: true });
+    const kinds = [...built.svgs.map.matchAll(/class="mk mk-(pit|pass|peak)"/g)].map((m) => m[1]);
+    expect(kinds.sort()).toEqual(['pass', 'pass', 'pass', 'pass', 'peak', 'peak', 'pit', 'pit']);
+    expect(built.doc.map.markers).toBe(8);
+  });
+
+  it('is one self-contained file: no external scripts, styles, fonts, images or fetches', () => {
+    expect(html).not.toMatch(/<link\b/i);
+    expect(html).not.toMatch(/<script[^>]+src=/i);
+    expect(html).not.toMatch(/@import|[^.\w]url\(\s*['"]?(?!#)/i);
+    expect(html).not.toMatch(/\bfetch\(|XMLHttpRequest|WebSocket|EventSource/);
+    // the only http(s) text is the SVG namespace name (an identifier, never fetched)
+    const urls = [...html.matchAll(/https?:\/\/[^\s"'<>)]+/g)].map((m) => m[0]);
+    expect(new Set(urls)).toEqual(new Set(['http://www.w3.org/2000/svg']));
+    for (const m of html.matchAll(/\shref="([^"]*)"/g)) expect(m[1]).toMatch(/^(data:image\/png;base64,|#|[\w.-]+\.(csv|json|geojson|svg|png)$)/);
+    expect(html).toMatch(/Content-Security-Policy" content="default-src 'none'/);
+  });
+
+  it('carries parseable data and a script that compiles', () => {
+    const d = dataOf(html);
+    expect(d.frame).toMatchObject({ width: 24, height: 24, factor: 1 });
+    expect(d.tables.map((t: { id: string }) => t.id)).toEqual(['critical-points', 'pairs']);
+    expect(d.tables[0].rows).toHaveLength(8);
+    expect(d.tables[0].columns.every((c: { unit: string; type: string }) => c.type !== 'num' || c.unit.length > 0)).toBe(true);
+    expect(() => new Function(clientScript())).not.toThrow();
+  });
+
+  it('has a header with the run facts and no terrain caution for an energy surface', () => {
+    const labels = built.doc.header.map((h) => h.label);
+    expect(labels).toEqual(['Input', 'Size', 'CRS', 'Connectivity', 'Boundary', 'Euler check', 'Parameters', 'Command', 'sill version']);
+    expect(built.doc.cautions).toEqual([]);
+    expect(html).toContain('χ = 0 by counting simplices');
+  });
+
+  it('gives every figure a title and a description', () => {
+    for (const id of ['map', 'tree', 'persistence']) {
+      expect(html).toMatch(new RegExp(`<svg[^>]*id="${id}"[^>]*role="img" aria-labelledby="${id}-title ${id}-desc"`));
+      expect(html).toMatch(new RegExp(`<title id="${id}-title">[^<]+</title><desc id="${id}-desc">[^<]+</desc>`));
+    }
+  });
+});
+
+describe('sill survey --report / --png (command line)', () => {
+  it('writes report.html and the standalone figures beside the other files', () => {
+    const out = join(dir, 'r1');
+    const r = sill(['survey', join(dir, 'bowl.txt'), '-o', out, '--report']);
+    expect(r.code).toBe(0);
+    expect(readdirSync(out).sort()).toEqual(['critical-points.csv', 'critical-points.geojson', 'map.svg', 'merge-tree.json', 'persistence.svg', 'report.html', 'report.json', 'tree.svg']);
+    expect(r.stdout).toContain(join(out, 'report.html'));
+    const html = readFileSync(join(out, 'report.html'), 'utf8');
+    // open boundary reads as terrain: the screening caution is in the page
+    expect(html).toContain('not replace hydraulic modelling');
+    expect(html).toContain('Local codes and floodplain rules govern');
+    expect(html).toContain(`sill survey ${join(dir, 'bowl.txt')} --connectivity 8 --boundary open --min-persistence 0 -o ${out} --report`);
+    for (const f of ['map.svg', 'tree.svg', 'persistence.svg']) expect(readFileSync(join(out, f), 'utf8')).toMatch(/^<\?xml version="1.0" encoding="UTF-8"\?>\n<svg xmlns="http:\/\/www.w3.org\/2000\/svg"/);
+  });
+
+  it('refuses --report without -o (exit 2, one line) and writes nothing', () => {
+    const r = sill(['survey', join(dir, 'bowl.txt'), '--report']);
+    expect(r.code).toBe(2);
+    expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    expect(r.stderr).toMatch(/--report writes files: add -o DIR/);
+  });
+
+  it('--png renders the map to a PNG at twice the figure size', () => {
+    const out = join(dir, 'r2');
+    const r = sill(['survey', join(dir, 'bowl.txt'), '-o', out, '--png', '--quiet']);
+    expect(r.code).toBe(0);
+    expect(existsSync(join(out, 'report.html'))).toBe(false);
+    const png = readFileSync(join(out, 'map.png'));
+    expect([...png.subarray(0, 8)]).toEqual([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]);
+    // IHDR width: the map figure's width times 2 (the same figure --report writes as map.svg)
+    const again = join(dir, 'r3');
+    expect(sill(['survey', join(dir, 'bowl.txt'), '-o', again, '--report', '--quiet']).code).toBe(0);
+    const figW = Number(/viewBox="0 0 ([\d.]+) /.exec(readFileSync(join(again, 'map.svg'), 'utf8'))![1]);
+    expect(png.readUInt32BE(16)).toBe(Math.round(figW * 2));
+  });
+});
