@@ -195,9 +195,15 @@ export function reportClient(): void {
     view.u = Math.max(0, Math.min(F.width - view.w, view.u));
     view.v = Math.max(0, Math.min(F.height - view.h, view.v));
   };
+  const outer = document.getElementById('map') as unknown as SVGSVGElement | null;
+  /** The plot viewport on screen (the nested <svg>'s bounding box would include clipped overflow). */
+  const plotRect = () => {
+    const m = outer!.getScreenCTM()!;
+    return { left: m.e + G.ml * m.a, top: m.f + G.mt * m.d, width: G.pw * m.a, height: G.ph * m.d };
+  };
   /** Plot coordinates under a client point. */
   const toPlot = (cx: number, cy: number): [number, number] => {
-    const r = plot!.getBoundingClientRect();
+    const r = plotRect();
     return [view.u + ((cx - r.left) / r.width) * view.w, view.v + ((cy - r.top) / r.height) * view.h];
   };
   const zoomAt = (cx: number, cy: number, f: number) => {
@@ -284,7 +290,7 @@ export function reportClient(): void {
         const dx = ev.clientX - drag.x, dy = ev.clientY - drag.y;
         if (!drag.moved && Math.hypot(dx, dy) > 4) { drag.moved = true; dragged = true; plot.classList.add('dragging'); plot.setPointerCapture(ev.pointerId); hideTip(); }
         if (drag.moved) {
-          const r = plot.getBoundingClientRect();
+          const r = plotRect();
           view.u = drag.u - (dx / r.width) * view.w;
           view.v = drag.v - (dy / r.height) * view.h;
           clampView();
@@ -309,7 +315,7 @@ export function reportClient(): void {
     const z = b.getAttribute('data-zoom');
     if (!plot) return;
     if (z === 'reset') { view = { u: 0, v: 0, w: F.width, h: F.height }; apply(); return; }
-    const r = plot.getBoundingClientRect();
+    const r = plotRect();
     zoomAt(r.left + r.width / 2, r.top + r.height / 2, z === 'in' ? 1.6 : 1 / 1.6);
   }));
   document.querySelectorAll('input[data-toggle]').forEach((inp) => inp.addEventListener('change', () => {
