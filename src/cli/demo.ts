@@ -5,6 +5,7 @@ import { join, resolve } from 'node:path';
 import { larkmoorDem, dihedralScan } from '../demo/generate.js';
 import { writeGeoTiff } from '../io/index.js';
 import { runSurveyCommand } from './survey.js';
+import { runPondsCommand } from './ponds.js';
 
 interface DemoOptions { out?: string; quiet?: boolean }
 
@@ -36,6 +37,8 @@ export async function runDemo(dir: string, quiet: boolean): Promise<void> {
   log(`   input ${demPath}`);
   log(`-- sill survey ${demPath} --min-persistence 0.5 -o ${join(root, 'larkmoor-survey')} --report`);
   await runSurveyCommand(demPath, { out: join(root, 'larkmoor-survey'), minPersistence: '0.5', connectivity: '8', boundary: 'open', quiet, report: true });
+  log(`-- sill ponds ${demPath} --min-depth 0.05 -o ${join(root, 'larkmoor-ponds')}`);
+  await runPondsCommand(demPath, { out: join(root, 'larkmoor-ponds'), minDepth: '0.05', connectivity: '8', boundary: 'open', quiet });
   log('');
   log(`== ${scan.description}`);
   log(`   input ${scanPath}`);

@@ -6,6 +6,7 @@ import { SILL_VERSION } from '../report/common.js';
 import { registerSurvey } from './survey.js';
 import { registerDemo } from './demo.js';
 import { registerBarriers } from './barriers.js';
+import { registerPonds } from './ponds.js';
 
 export function buildProgram(): Command {
   const program = new Command();
@@ -17,6 +18,7 @@ export function buildProgram(): Command {
     .configureOutput({ writeErr: (s) => process.stderr.write(s) });
   registerSurvey(program);
   registerBarriers(program);
+  registerPonds(program);
   registerDemo(program);
   for (const c of program.commands) c.exitOverride();
   return program;

@@ -76,6 +76,10 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   const stageStep = opts.stageStep === undefined ? undefined : parseNumber('--stage-step', opts.stageStep, { positive: true });
   if (stageStep !== undefined && stageId === undefined) throw new InputError('--stage-step needs --stage-volume ID');
   if (stageId !== undefined && !opts.out) throw new InputError('--stage-volume writes a table: give an output folder with -o/--out');
+  const flags = opts as PondsCliOptions & { report?: boolean; png?: boolean };
+  if (flags.report || flags.png) {
+    throw new InputError(`${flags.report ? '--report' : '--png'} is not available for ponds yet; the files written with -o (GeoTIFF, GeoJSON, CSV, report.json) open in a GIS`);
+  }
   if (opts.wgs84 && !opts.out) throw new InputError('--wgs84 writes depressions-wgs84.geojson: give an output folder with -o/--out');
 
   progress.stage(`reading ${input}`);
