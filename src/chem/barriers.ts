@@ -436,26 +436,27 @@ function basinThermodynamics(surface: Grid | Mesh, values: ArrayLike<number>, ba
   const nb = minima.length;
   const count = new Float64Array(nb), area = new Float64Array(nb);
   const emin = new Float64Array(nb).fill(Infinity);
-  let dA: (i: number) => number;
+  // sample areas: one constant for a grid; a third of the incident triangles on a mesh
+  let cellArea = 0;
+  let va: Float64Array | null = null;
   if (surface.kind === 'grid') {
     const t = surface.transform;
-    const a = Math.abs(t[1] * t[5] - t[2] * t[4]);
-    dA = () => a;
+    cellArea = Math.abs(t[1] * t[5] - t[2] * t[4]);
   } else {
-    const m = surface, va = new Float64Array(m.size);
+    const m = surface;
+    va = new Float64Array(m.size);
     for (let k = 0; k < m.triangles.length; k += 3) {
       const a = m.triangles[k], b = m.triangles[k + 1], c = m.triangles[k + 2];
       const ar = Math.abs((m.x[b] - m.x[a]) * (m.y[c] - m.y[a]) - (m.x[c] - m.x[a]) * (m.y[b] - m.y[a])) / 2;
       va[a] += ar / 3; va[b] += ar / 3; va[c] += ar / 3;
     }
-    dA = (i) => va[i];
   }
   const n = basinOf.length;
   for (let i = 0; i < n; i++) {
     const b = basinOf[i];
     if (b < 0) continue;
     count[b]++;
-    area[b] += dA(i);
+    area[b] += va === null ? cellArea : va[i];
     if (values[i] < emin[b]) emin[b] = values[i];
   }
   const rankOfLabel = new Int32Array(nb);
@@ -467,10 +468,11 @@ function basinThermodynamics(surface: Grid | Mesh, values: ArrayLike<number>, ba
   }
   if (kT === null) return;
   const sum = new Float64Array(nb);
+  const beta = 1 / kT;
   for (let i = 0; i < n; i++) {
     const b = basinOf[i];
     if (b < 0) continue;
-    sum[b] += Math.exp(-(values[i] - emin[b]) / kT) * dA(i);
+    sum[b] += Math.exp(-(values[i] - emin[b]) * beta) * (va === null ? cellArea : va[i]);
   }
   const F = new Float64Array(nb);
   let Fmin = Infinity;

@@ -71,33 +71,23 @@ export function descentLabels(cx: SurfaceComplex, order: Uint32Array, rep: Map<n
     if (k === undefined) throw new Error(`internal: representative pit ${r} is not a minimum`);
     return k;
   };
-  const nbr = new Int32Array(cx.maxDegree + 1);
   const omega = cx.hasOmega ? cx.omegaAdj : null;
-  const inv = inverseDistances(cx);
-  const grid = cx.surface.kind === 'grid' ? cx.surface : null;
-  const mesh = cx.surface.kind === 'mesh' ? cx.surface : null;
-  const w = grid ? grid.width : 0;
+  if (cx.surface.kind === 'grid') {
+    gridDescent(cx as GridComplex, label, pitLabel, omega);
+    return label;
+  }
+  const mesh = cx.surface;
+  const nbr = new Int32Array(cx.maxDegree + 1);
   for (let s = 0; s < order.length; s++) {
     const i = order[s];
     const k = cx.sublevelNbrs(i, nbr);
     const vi = v[i];
     let best = -1, bestSlope = 0;
-    const ri = grid ? (i / w) | 0 : 0, ci = i - ri * w;
     for (let q = 0; q < k; q++) {
       const j = nbr[q];
       const vj = v[j];
       if (!(vj < vi || (vj === vi && j < i))) continue;
-      let d: number;
-      if (grid) {
-        const rj = (j / w) | 0, cj = j - rj * w;
-        let dc = cj - ci, dr = rj - ri;
-        if (dc > 1) dc = -1; else if (dc < -1) dc = 1;
-        if (dr > 1) dr = -1; else if (dr < -1) dr = 1;
-        d = inv[(dr + 1) * 3 + dc + 1];
-      } else {
-        d = 1 / Math.hypot(mesh!.x[j] - mesh!.x[i], mesh!.y[j] - mesh!.y[i]);
-      }
-      const slope = (vi - vj) * d;
+      const slope = (vi - vj) / Math.hypot(mesh.x[j] - mesh.x[i], mesh.y[j] - mesh.y[i]);
       if (best < 0 || slope > bestSlope || (slope === bestSlope && (vj < v[best] || (vj === v[best] && j < best)))) {
         best = j; bestSlope = slope;
       }
@@ -109,18 +99,66 @@ export function descentLabels(cx: SurfaceComplex, order: Uint32Array, rep: Map<n
   return label;
 }
 
-/** 1/distance to the 3×3 neighbour offsets (dr, dc) of a grid, indexed (dr+1)*3 + dc+1. */
-function inverseDistances(cx: SurfaceComplex): Float64Array {
-  const inv = new Float64Array(9);
-  if (cx.surface.kind !== 'grid') return inv;
-  const t = cx.surface.transform;
-  for (let dr = -1; dr <= 1; dr++) {
-    for (let dc = -1; dc <= 1; dc++) {
-      const d = Math.hypot(dc * t[1] + dr * t[2], dc * t[4] + dr * t[5]);
-      inv[(dr + 1) * 3 + dc + 1] = d > 0 ? 1 / d : 0;
+/**
+ * descentLabels on a grid. First, in memory order, each cell's steepest lower neighbour (ring
+ * offsets read directly for interior cells, wrapped at the edges); then each cell follows its chain
+ * of steepest neighbours to a labelled cell or a pit, and the whole chain takes that label.
+ */
+function gridDescent(cx: GridComplex, label: Int32Array, pitLabel: (p: number) => number, omega: Uint8Array | null): void {
+  const g = cx.surface, w = g.width, h = g.height, v = cx.values, t = g.transform, n = w * h;
+  const six = cx.connectivity === 6;
+  const ringDc = six ? RING6_DC : RING8_DC, ringDr = six ? RING6_DR : RING8_DR;
+  const pos = cx.connectivity === 4 ? [0, 2, 4, 6] : six ? [0, 1, 2, 3, 4, 5] : [0, 1, 2, 3, 4, 5, 6, 7];
+  const K = pos.length;
+  const dc = Int32Array.from(pos, (k) => ringDc[k]), dr = Int32Array.from(pos, (k) => ringDr[k]);
+  const off = Int32Array.from(pos, (_, q) => dr[q] * w + dc[q]);
+  const inv = Float64Array.from(pos, (_, q) => 1 / Math.hypot(dc[q] * t[1] + dr[q] * t[2], dc[q] * t[4] + dr[q] * t[5]));
+  const wrapX = cx.wrapX, wrapY = cx.wrapY;
+  // down[i]: steepest lower neighbour, −1 for none (pit or outlet), −2 for nodata
+  const down = new Int32Array(n);
+  for (let r = 0; r < h; r++) {
+    const edgeRow = r === 0 || r === h - 1;
+    for (let c = 0; c < w; c++) {
+      const i = r * w + c;
+      const vi = v[i];
+      if (vi !== vi) { down[i] = -2; continue; }
+      const interior = !edgeRow && c > 0 && c < w - 1;
+      let best = -1, bestSlope = 0;
+      for (let q = 0; q < K; q++) {
+        let j: number;
+        if (interior) j = i + off[q];
+        else {
+          let cc = c + dc[q], rr = r + dr[q];
+          if (cc < 0 || cc >= w) { if (!wrapX) continue; cc = (cc + w) % w; }
+          if (rr < 0 || rr >= h) { if (!wrapY) continue; rr = (rr + h) % h; }
+          j = rr * w + cc;
+        }
+        const vj = v[j];
+        if (!(vj < vi || (vj === vi && j < i))) continue; // also skips nodata (NaN)
+        const slope = (vi - vj) * inv[q];
+        if (best < 0 || slope > bestSlope || (slope === bestSlope && (vj < v[best] || (vj === v[best] && j < best)))) {
+          best = j; bestSlope = slope;
+        }
+      }
+      down[i] = best;
     }
   }
-  return inv;
+  const UNSET = -3;
+  label.fill(UNSET);
+  const chain = new Int32Array(n);
+  for (let i = 0; i < n; i++) {
+    if (label[i] !== UNSET) continue;
+    if (down[i] === -2) { label[i] = NO_LABEL; continue; }
+    let len = 0, j = i, lab = UNSET;
+    while (label[j] === UNSET) {
+      chain[len++] = j;
+      const d = down[j];
+      if (d < 0) { lab = omega !== null && omega[j] ? OUTSIDE : pitLabel(j); break; }
+      j = d;
+    }
+    if (lab === UNSET) lab = label[j];
+    for (let k = 0; k < len; k++) label[chain[k]] = lab;
+  }
 }
 
 const RING8_DC = [1, 1, 0, -1, -1, -1, 0, 1];

@@ -25,7 +25,7 @@ export interface PathOptions {
   images?: number;
   /** Iteration limit of the string method; default 4000. */
   maxIterations?: number;
-  /** Convergence: largest image displacement per iteration, in sample spacings; default 1e-6. */
+  /** Convergence: largest image displacement per iteration, in sample spacings; default 1e-4. */
   tolerance?: number;
 }
 
@@ -83,10 +83,11 @@ export function steepestDescent(field: Field, x0: number, y0: number, maxSteps =
   return { xs, ys, ok: true };
 }
 
-/** Resample a polyline to `n` points at equal arc length. */
-export function resample(xs: ArrayLike<number>, ys: ArrayLike<number>, n: number, outX: Float64Array, outY: Float64Array): number {
+/** Resample a polyline to `n` points at equal arc length (`work`: optional scratch of ≥ xs.length). */
+export function resample(xs: ArrayLike<number>, ys: ArrayLike<number>, n: number, outX: Float64Array, outY: Float64Array, work?: Float64Array): number {
   const m = xs.length;
-  const cum = new Float64Array(m);
+  const cum = work !== undefined && work.length >= m ? work : new Float64Array(m);
+  cum[0] = 0;
   for (let i = 1; i < m; i++) cum[i] = cum[i - 1] + Math.hypot(xs[i] - xs[i - 1], ys[i] - ys[i - 1]);
   const L = cum[m - 1];
   if (!(L > 0)) {
@@ -119,7 +120,7 @@ export function minimumEnergyPath(field: Field, tx: number, ty: number, vx: numb
   const n = opts.images ?? 81;
   const maxIt = opts.maxIterations ?? 4000;
   const h = field.spacing;
-  const tol = (opts.tolerance ?? 1e-6) * h;
+  const tol = (opts.tolerance ?? 1e-4) * h;
   const s = newSample();
   const empty: PathPoint = { s: 0, x: tx, y: ty, energy: NaN };
   if (!field.evaluate(tx, ty, s)) {
@@ -136,9 +137,12 @@ export function minimumEnergyPath(field: Field, tx: number, ty: number, vx: numb
   const py = [...(ta ? [ta[1]] : []), ...a.ys.slice().reverse(), ty, ...b.ys, ...(tb ? [tb[1]] : [])];
   let X = new Float64Array(n), Y = new Float64Array(n);
   let X2 = new Float64Array(n), Y2 = new Float64Array(n);
+  let Xn = new Float64Array(n), Yn = new Float64Array(n);
+  const work = new Float64Array(n);
   resample(px, py, n, X, Y);
 
-  // Δt below the stability limit 2/|λ|max of explicit gradient steps, |λ|max over the images
+  // L ≥ |λ|max over the initial images (Gershgorin bound); Δt = 1/L is below the stability limit
+  // 2/|λ|max of explicit gradient steps, without overshoot along any mode
   const curvature = (): number => {
     let L = 0;
     for (let k = 0; k < n; k++) {
@@ -151,8 +155,9 @@ export function minimumEnergyPath(field: Field, tx: number, ty: number, vx: numb
   if (!Number.isFinite(L)) {
     return { status: 'left-fit', message: 'the descent from the transition state reached unsampled cells or the edge of the samples', images: [], length: 0, maximum: empty, iterations: 0 };
   }
-  let dt = 0.5 / Math.max(L, 1e-300);
-  const maxMove = 0.2 * h;
+  const dt = 1 / Math.max(L, 1e-300);
+  // an image moves at most a fifth of a sample spacing, or a quarter of the image spacing on a long string
+  const maxMove = Math.max(0.2 * h, (0.25 * resample(X, Y, n, X2, Y2, work)) / (n - 1));
   let status: PathStatus = 'not-converged';
   let message: string | null = null;
   let it = 0;
@@ -161,24 +166,26 @@ export function minimumEnergyPath(field: Field, tx: number, ty: number, vx: numb
     for (let k = 0; k < n; k++) {
       if (!field.evaluate(X[k], Y[k], s)) { left = true; break; }
       if ((k === 0 && ta) || (k === n - 1 && tb)) { X2[k] = X[k]; Y2[k] = Y[k]; continue; }
-      let dx = -dt * s[1], dy = -dt * s[2];
+      // each image steps with its own Δt = 1/Lᵢ (Lᵢ ≥ the largest |eigenvalue| of its Hessian): a
+      // diagonal preconditioning of the gradient flow that leaves its fixed point, the string with no
+      // gradient across it, unchanged while converging far faster where the surface is flat
+      const Lk = Math.max(Math.abs(s[3]) + Math.abs(s[4]), Math.abs(s[4]) + Math.abs(s[5]), 1e-3 * L);
+      const dtk = Math.min(1 / Lk, 1e3 * dt);
+      let dx = -dtk * s[1], dy = -dtk * s[2];
       const m = Math.hypot(dx, dy);
       if (m > maxMove) { dx *= maxMove / m; dy *= maxMove / m; }
       X2[k] = X[k] + dx; Y2[k] = Y[k] + dy;
-      const Lk = Math.max(Math.abs(s[3]) + Math.abs(s[4]), Math.abs(s[4]) + Math.abs(s[5]));
-      if (Lk > L) { L = Lk; dt = 0.5 / L; }
     }
     if (left) {
       status = 'left-fit';
       message = 'the string reached unsampled cells or the edge of the samples';
       break;
     }
-    const Xn = new Float64Array(n), Yn = new Float64Array(n);
-    resample(X2, Y2, n, Xn, Yn);
+    resample(X2, Y2, n, Xn, Yn, work);
     let moved = 0;
     for (let k = 0; k < n; k++) moved = Math.max(moved, Math.hypot(Xn[k] - X[k], Yn[k] - Y[k]));
-    [X2, Y2] = [X, Y];
-    X = Xn; Y = Yn;
+    const tx0 = X, ty0 = Y;
+    X = Xn; Y = Yn; Xn = tx0; Yn = ty0;
     if (moved < tol) { status = 'converged'; it++; break; }
   }
   if (status === 'not-converged') message = `the string method did not settle in ${maxIt} iterations`;
