@@ -1,0 +1,245 @@
+/**
+ * `sill ponds` on the command line (the built binary): the JSON contract, the files of -o and
+ * how GDAL reads them back, the options, and bad input (exit 2, one line, nothing written).
+ * Outside sources: GDAL (python3-gdal) reading the GeoTIFFs and the GeoJSON, and scikit-image's
+ * reconstruction by erosion for the filled DEM — both live, skipped when not installed
+ * (the committed scikit-image references in tests/hydro run everywhere).
+ */
+import { describe, it, expect, beforeAll } from 'vitest';
+import { writeFileSync, readFileSync, existsSync, readdirSync } from 'node:fs';
+import { join } from 'node:path';
+import { spawnSync } from 'node:child_process';
+import { sill, tempDir } from './run.js';
+import { larkmoorDem } from '../../src/demo/generate.js';
+import { writeGeoTiff, readGeoTiff } from '../../src/io/index.js';
+import { Grid } from '../../src/surface/grid.js';
+import { pondsReport } from '../../src/report/ponds.js';
+
+const PY = '/usr/bin/python3';
+const has = (mod: string) => existsSync(PY) && spawnSync(PY, ['-c', `import ${mod}`], { stdio: 'ignore' }).status === 0;
+const hasGdal = has('osgeo.gdal');
+const hasSkimage = has('skimage');
+
+let dir: string;
+let dem: string;
+
+beforeAll(async () => {
+  dir = tempDir('sill-ponds-');
+  const d = larkmoorDem();
+  // a few nodata cells: an edge notch and an interior void
+  const v = d.grid.values.slice();
+  for (const [c, r] of [[0, 100], [0, 101], [150, 30], [151, 30]]) v[r * d.grid.width + c] = NaN;
+  dem = join(dir, 'larkmoor.tif');
+  await writeGeoTiff(dem, { ...d.grid, values: v, nodata: -9999 });
+  await writeGeoTiff(join(dir, 'flat.tif'), { width: 4, height: 3, values: new Float32Array(12).fill(7), transform: [0, 1, 0, 0, 0, -1], crs: null, nodata: -9999 });
+  await writeGeoTiff(join(dir, 'empty.tif'), { width: 4, height: 3, values: new Float32Array(12).fill(-9999), transform: [0, 1, 0, 0, 0, -1], crs: null, nodata: -9999 });
+  const g = new Float32Array(20).map((_, i) => (i % 7) + (i === 7 ? -5 : 0));
+  await writeGeoTiff(join(dir, 'geo-bad.tif'), { width: 5, height: 4, values: g, transform: [512000, 5, 0, 5874000, 0, -5], crs: { epsg: 4326, geographic: true }, nodata: -9999 });
+  await writeGeoTiff(join(dir, 'geo.tif'), { width: 5, height: 4, values: g, transform: [10, 0.01, 0, 50, 0, -0.01], crs: { epsg: 4326, geographic: true }, nodata: -9999 });
+  writeFileSync(join(dir, 'matrix.txt'), ['5 5 5 5 5', '5 1 1 1 5', '5 1 0 1 3', '5 1 1 1 5', '5 5 5 5 5'].join('\n') + '\n');
+});
+
+describe('sill ponds (command line)', () => {
+  it('--json prints the report with the contract keys, and nothing else on stdout', () => {
+    const r = sill(['ponds', dem, '--json']);
+    expect(r.code).toBe(0);
+    const rep = JSON.parse(r.stdout);
+    expect(rep.schema).toBe('sill/ponds@1');
+    expect(rep.surface).toMatchObject({ width: 320, height: 240, validCells: 320 * 240 - 4, crs: { epsg: 32633 }, cellSize: [5, 5] });
+    expect(rep.connectivity).toBe(8);
+    expect(rep.boundary).toBe('open');
+    expect(rep.euler).toMatchObject({ characteristic: expect.any(Number), holds: true });
+    expect(Object.keys(rep.euler)).toEqual(expect.arrayContaining(['characteristic', 'pits', 'passes', 'peaks', 'holds']));
+    expect(rep.caution).toMatch(/screening/i);
+    expect(rep.units).toMatchObject({ area: 'm²', volume: 'm³', elevation: 'm' });
+    expect(Object.keys(rep.totals)).toEqual(expect.arrayContaining(['depressions', 'volume', 'area']));
+    expect(rep.totals.depressions).toBe(rep.depressions.length);
+    expect(rep.depressions.length).toBeGreaterThan(10);
+    for (const d of rep.depressions) {
+      expect(Object.keys(d)).toEqual(expect.arrayContaining(['id', 'parent', 'children', 'pitValue', 'spillValue', 'pour', 'into', 'cells', 'area', 'volume', 'maxDepth']));
+      expect(Object.keys(d.pour)).toEqual(expect.arrayContaining(['col', 'row', 'x', 'y']));
+      expect(d.spillValue).toBeGreaterThan(d.pitValue);
+    }
+    const top = rep.depressions.filter((d: { parent: number | null }) => d.parent === null);
+    expect(rep.totals.volume).toBeCloseTo(top.reduce((s: number, d: { volume: number }) => s + d.volume, 0), 6);
+    expect(r.stderr).toBe('');
+  });
+
+  it('-o writes the six files; GDAL reads the rasters back with the same transform, CRS, nodata and values', () => {
+    const out = join(dir, 'out');
+    const r = sill(['ponds', dem, '-o', out, '--quiet']);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toBe('');
+    expect(readdirSync(out).sort()).toEqual(['depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'report.json']);
+    const rep = JSON.parse(readFileSync(join(out, 'report.json'), 'utf8'));
+    const csv = readFileSync(join(out, 'depressions.csv'), 'utf8').trim().split('\n');
+    expect(csv[0]).toMatch(/^id,parent,/);
+    expect(csv[0]).toMatch(/area_m2/);
+    expect(csv[0]).toMatch(/volume_m3/);
+    expect(csv[0]).toMatch(/spill_value_m/);
+    expect(csv).toHaveLength(rep.depressions.length + 1);
+    const gj = JSON.parse(readFileSync(join(out, 'depressions.geojson'), 'utf8'));
+    expect(gj.crs.properties.name).toBe('urn:ogc:def:crs:EPSG::32633');
+    expect(gj.features.filter((f: { geometry: { type: string } }) => f.geometry.type === 'Point')).toHaveLength(rep.depressions.length);
+    expect(gj.caution).toMatch(/screening/i);
+    if (!hasGdal) return;
+    // Source: GDAL (python3-gdal) reading sill's files
+    const script = `
+import json, sys
+from osgeo import gdal, ogr
+gdal.UseExceptions()
+out = {}
+for name in ('filled', 'depth', 'labels'):
+    ds = gdal.Open(sys.argv[1] + '/' + name + '.tif')
+    b = ds.GetRasterBand(1)
+    srs = ds.GetSpatialRef()
+    a = b.ReadAsArray()
+    out[name] = {'gt': list(ds.GetGeoTransform()), 'epsg': int(srs.GetAuthorityCode(None)) if srs else None,
+                 'nodata': b.GetNoDataValue(), 'type': gdal.GetDataTypeName(b.DataType), 'sum': float(a[a != b.GetNoDataValue()].sum()),
+                 'count': int((a != b.GetNoDataValue()).sum()), 'sample': [float(a[r, c]) for r, c in ((120, 247), (0, 0), (100, 0))]}
+v = ogr.Open(sys.argv[1] + '/depressions.geojson')
+l = v.GetLayer(0)
+area = 0.0
+n = 0
+for f in l:
+    g = f.GetGeometryRef()
+    if g.GetGeometryType() in (ogr.wkbPolygon, ogr.wkbMultiPolygon) and f.GetField('parent') is None:
+        area += g.GetArea()
+        n += 1
+out['vector'] = {'epsg': int(l.GetSpatialRef().GetAuthorityCode(None)), 'topArea': area, 'top': n, 'features': l.GetFeatureCount()}
+print(json.dumps(out))
+`;
+    const py = spawnSync(PY, ['-c', script, out], { encoding: 'utf8' });
+    expect(py.status, py.stderr).toBe(0);
+    const g = JSON.parse(py.stdout);
+    for (const name of ['filled', 'depth', 'labels']) {
+      expect(g[name].gt).toEqual([512000, 5, 0, 5874000, 0, -5]);
+      expect(g[name].epsg).toBe(32633);
+      expect(g[name].count).toBe(320 * 240 - 4);
+    }
+    expect(g.filled.nodata).toBe(-9999);
+    expect(g.depth.nodata).toBe(-9999);
+    expect(g.labels.nodata).toBe(-1);
+    expect(g.filled.type).toBe('Float32');
+    expect(g.labels.type).toBe('Int32');
+    expect(g.filled.sample[2]).toBe(-9999); // the nodata cell (col 0, row 100)
+    expect(g.labels.sample[2]).toBe(-1);
+    // Σ depth × 25 m² = the total volume; GDAL's sum of the float32 depths, so to float32 precision
+    expect(g.depth.sum * 25).toBeCloseTo(rep.totals.volume, -1);
+    expect(Math.abs(g.depth.sum * 25 - rep.totals.volume) / rep.totals.volume).toBeLessThan(1e-5);
+    // OGR's polygon areas of the top-level depressions = their wet areas in the report
+    const top = rep.depressions.filter((d: { parent: number | null }) => d.parent === null);
+    expect(g.vector.epsg).toBe(32633);
+    expect(g.vector.top).toBe(top.length);
+    expect(g.vector.topArea).toBeCloseTo(rep.totals.area, 6);
+    expect(g.vector.features).toBe(2 * rep.depressions.length);
+  });
+
+  it.skipIf(!hasSkimage)('filled.tif equals scikit-image reconstruction by erosion on the demo DEM (live)', () => {
+    const out = join(dir, 'out-sk');
+    expect(sill(['ponds', dem, '-o', out, '--quiet']).code).toBe(0);
+    // Source: skimage.morphology.reconstruction, 3×3 footprint, grid frame and nodata seeded
+    const script = `
+import sys, numpy as np
+from osgeo import gdal
+from skimage.morphology import reconstruction
+z = gdal.Open(sys.argv[1]).ReadAsArray().astype(np.float64)
+f = gdal.Open(sys.argv[2] + '/filled.tif').ReadAsArray().astype(np.float64)
+valid = z != -9999
+lo, hi = z[valid].min() - 1, z[valid].max() + 1
+m = np.full((z.shape[0] + 2, z.shape[1] + 2), lo); m[1:-1, 1:-1] = np.where(valid, z, lo)
+seed = np.full_like(m, hi); seed[0, :] = m[0, :]; seed[-1, :] = m[-1, :]; seed[:, 0] = m[:, 0]; seed[:, -1] = m[:, -1]
+seed[1:-1, 1:-1][~valid] = lo
+ref = reconstruction(seed, m, method='erosion', footprint=np.ones((3, 3)))[1:-1, 1:-1]
+print(int((ref[valid] != f[valid]).sum()))
+`;
+    if (!hasGdal) return;
+    const py = spawnSync(PY, ['-c', script, dem, out], { encoding: 'utf8' });
+    expect(py.status, py.stderr).toBe(0);
+    expect(Number(py.stdout.trim())).toBe(0);
+  });
+
+  it('options: filters, --label-level top, --fill-only-below, --stage-volume, --wgs84', async () => {
+    const out = join(dir, 'out-opts');
+    const r = sill(['ponds', dem, '-o', out, '--min-depth', '0.05', '--min-area', '100', '--label-level', 'top', '--fill-only-below', '5000', '--stage-volume', '1', '--wgs84', '--json']);
+    expect(r.code).toBe(0);
+    const rep = JSON.parse(r.stdout);
+    expect(rep.filters).toMatchObject({ minDepth: 0.05, minArea: 100, fillOnlyBelow: 5000 });
+    expect(rep.removed.filtered).toBeGreaterThan(0);
+    for (const d of rep.depressions) { expect(d.maxDepth).toBeGreaterThanOrEqual(0.05); expect(d.area).toBeGreaterThanOrEqual(100); }
+    expect(readdirSync(out).sort()).toEqual(['depressions-wgs84.geojson', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'report.json', 'stage-volume-1.csv']);
+    const labels = await readGeoTiff(join(out, 'labels.tif'));
+    const ids = new Set<number>();
+    for (const v of labels.values) if (v > 0) ids.add(v);
+    const tops = new Set(rep.depressions.filter((d: { parent: number | null }) => d.parent === null).map((d: { id: number }) => d.id));
+    for (const id of ids) expect(tops.has(id)).toBe(true);
+    const stage = readFileSync(join(out, 'stage-volume-1.csv'), 'utf8').trim().split('\n');
+    expect(stage[0]).toBe('level_m,area_m2,volume_m3,cells');
+    const last = stage[stage.length - 1].split(',').map(Number);
+    expect(last[0]).toBeCloseTo(rep.depressions[0].spillValue, 4);
+    expect(last[2]).toBeCloseTo(rep.depressions[0].volume, 3);
+    const w = JSON.parse(readFileSync(join(out, 'depressions-wgs84.geojson'), 'utf8'));
+    expect(w.crs).toBeUndefined();
+    const [lon, lat] = w.features.find((f: { geometry: { type: string } }) => f.geometry.type === 'Point').geometry.coordinates;
+    expect(lon).toBeGreaterThan(15.1); expect(lon).toBeLessThan(15.3);
+    expect(lat).toBeGreaterThan(52.9); expect(lat).toBeLessThan(53.1);
+  });
+
+  it('text matrix without a CRS: areas in map units, stated; a geographic grid measures m² on the ellipsoid', () => {
+    const r = sill(['ponds', join(dir, 'matrix.txt'), '--origin', '0,0', '--spacing', '1,1', '--json']);
+    expect(r.code).toBe(0);
+    const rep = JSON.parse(r.stdout);
+    expect(rep.units.area).toBe('map unit²');
+    expect(rep.depressions).toHaveLength(1);
+    expect(rep.depressions[0]).toMatchObject({ pitValue: 0, spillValue: 3, cells: 9, volume: 19, into: 'outside' });
+    const g = sill(['ponds', join(dir, 'geo.tif'), '--json']);
+    expect(g.code).toBe(0);
+    expect(JSON.parse(g.stdout).cellArea.uniform).toBe(false);
+  });
+
+  it('the summary names the counts, totals, largest depressions and the caution', () => {
+    const r = sill(['ponds', dem]);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/depressions\s+\d+ \(\d+ leaf, \d+ merged; \d+ top-level\)/);
+    expect(r.stdout).toMatch(/totals\s+[\d.]+ m³ over [\d.]+ m²/);
+    expect(r.stdout).toMatch(/largest:\n  #\d+/);
+    expect(r.stdout).toMatch(/pours at cell/);
+    expect(r.stdout).toMatch(/Screening information/);
+    expect(r.stdout).toMatch(/Euler .* holds/);
+  });
+
+  it('the library gives the same report as the command', async () => {
+    const g = await readGeoTiff(dem);
+    const { report } = pondsReport(g as Grid, {}, dem);
+    const r = JSON.parse(sill(['ponds', dem, '--json']).stdout);
+    expect(r.depressions).toEqual(JSON.parse(JSON.stringify(report.depressions)));
+  });
+
+  describe('bad input: exit 2, one line on stderr, nothing written', () => {
+    const cases: [string, () => string[], RegExp][] = [
+      ['missing file', () => ['ponds', join(dir, 'nope.tif')], /cannot read/],
+      ['all nodata', () => ['ponds', join(dir, 'empty.tif')], /nodata/],
+      ['entirely flat', () => ['ponds', join(dir, 'flat.tif')], /same value/],
+      ['closed boundary', () => ['ponds', dem, '--boundary', 'closed'], /--boundary open/],
+      ['negative filter', () => ['ponds', dem, '--min-depth', '-1'], /--min-depth/],
+      ['bad nodata mode', () => ['ponds', dem, '--nodata-as', 'sea'], /nodata-as/],
+      ['latitudes beyond ±90', () => ['ponds', join(dir, 'geo-bad.tif')], /beyond ±90/],
+      ['unknown z unit', () => ['ponds', dem, '--z-units', 'yard'], /--z-units/],
+      ['xy units contradict the CRS', () => ['ponds', dem, '--xy-units', 'deg'], /contradicts the CRS/],
+      ['--wgs84 without a CRS', () => ['ponds', join(dir, 'matrix.txt'), '--origin', '0,0', '--spacing', '1,1', '--wgs84'], /--wgs84/],
+      ['--stage-volume of no depression', () => ['ponds', dem, '--stage-volume', '99999'], /--stage-volume/],
+      ['scattered samples', () => { writeFileSync(join(dir, 'pts.txt'), '0 0 1\n1 0.3 2\n0.2 1 3\n1.4 1.1 0\n0.7 0.5 4\n'); return ['ponds', join(dir, 'pts.txt')]; }, /regular grid/],
+    ];
+    for (const [name, args, msg] of cases) {
+      it(name, () => {
+        const out = join(dir, `bad-${name.replace(/\W+/g, '-')}`);
+        const r = sill([...args(), '-o', out]);
+        expect(r.code).toBe(2);
+        expect(r.stdout).toBe('');
+        expect(r.stderr.trim().split('\n')).toHaveLength(1);
+        expect(r.stderr).toMatch(msg);
+        expect(existsSync(out)).toBe(false);
+      });
+    }
+  });
+});
