@@ -61,7 +61,8 @@ export function disconnectivitySvg(report: BarriersReport): string {
   }
   out.push('</g>');
 
-  // joins (transition states) and leaves (minima)
+  // joins (transition states) and leaves (minima); ids only while they fit
+  const labels = nLeaves <= 60;
   out.push('<g>');
   for (const n of nodes) {
     if (n.energy === null) continue;
@@ -69,12 +70,12 @@ export function disconnectivitySvg(report: BarriersReport): string {
     if (n.children.length > 0) {
       const s = 5;
       out.push(`<path d="M${px(x)} ${px(y - s)}L${px(x + s)} ${px(y)}L${px(x)} ${px(y + s)}L${px(x - s)} ${px(y)}Z" fill="${SADDLE_FILL}" stroke="#ffffff" stroke-width="1"/>`);
-      out.push(`<text x="${px(x + 8)}" y="${px(y - 7)}" font-size="11" fill="${SADDLE_FILL}">${esc(n.ref ?? '')}</text>`);
+      if (labels) out.push(`<text x="${px(x + 8)}" y="${px(y - 7)}" font-size="11" fill="${SADDLE_FILL}">${esc(n.ref ?? '')}</text>`);
     } else {
       const p = n.ref ? pop.get(n.ref) : null;
       const r = p === null || p === undefined ? 5 : 3.5 + 9 * Math.sqrt(p);
       out.push(`<circle cx="${px(x)}" cy="${px(y)}" r="${px(r)}" fill="${MINIMUM_FILL}" stroke="${INK}" stroke-width="1.8"/>`);
-      out.push(`<text x="${px(x)}" y="${px(Math.min(H - B + 30, y + r + 15))}" text-anchor="middle" fill="${INK}">${esc(n.ref ?? 'outside')}</text>`);
+      if (labels) out.push(`<text x="${px(x)}" y="${px(Math.min(H - B + 30, y + r + 15))}" text-anchor="middle" fill="${INK}">${esc(n.ref ?? 'outside')}</text>`);
     }
   }
   out.push('</g>');

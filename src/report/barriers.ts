@@ -4,7 +4,7 @@ import type { Mesh } from '../surface/mesh.js';
 import { barriers, type BarriersOptions, type BarriersResult, type StationaryRecord, type PathRecord } from '../chem/barriers.js';
 import { layoutDisconnectivity } from '../chem/disconnectivity.js';
 import { CODATA_EDITION, conversionFactor, eyringPrefactor, eyringRate, kTIn, type EnergyUnit } from '../chem/units.js';
-import { surfaceInfo, eulerInfo, num, SILL_VERSION, type SurfaceInfo, type EulerInfo } from './common.js';
+import { surfaceInfo, eulerInfo, SILL_VERSION, type SurfaceInfo, type EulerInfo } from './common.js';
 
 export interface BarriersReportOptions extends BarriersOptions {
   /** Unit of the reported energies; default the input unit. */
@@ -208,7 +208,7 @@ export function reportFromResult(r: BarriersResult, to: EnergyUnit | undefined, 
       nodes: layout.nodes.map((n) => ({ id: n.id, kind: n.kind, ref: n.ref, energy: En(n.energy), parent: n.parent, children: n.children, x: n.x })),
       leafOrder: layout.leafOrder.map((k) => layout.nodes[k].ref ?? 'outside'),
     },
-    notes: [...r.notes, `minimum persistence ${num(E(r.minPersistence.value))} ${out === 'none' ? '' : out} (${r.minPersistence.source})`.replace(/ {2}/g, ' ')],
+    notes: [...r.notes, `minimum persistence ${Number(E(r.minPersistence.value).toPrecision(4))}${out === 'none' ? '' : ` ${out}`} (${r.minPersistence.source})`],
   };
   return report;
 }
