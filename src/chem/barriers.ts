@@ -326,7 +326,7 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
   for (const node of hierarchy) if (node.parent !== null) hierarchy[node.parent].children.push(node.id);
 
   let minimax: MinimaxRow[] | null = null;
-  if (minima.length <= MINIMAX_LIMIT) minimax = minimaxBarriers(tree, hierarchy, minima);
+  if (minima.length <= MINIMAX_LIMIT) minimax = minimaxBarriers(hierarchy, minima);
   else notes.push(`${minima.length} minima: the pairwise lowest-barrier table is left out above ${MINIMAX_LIMIT} minima (the disconnectivity graph holds the same information)`);
 
   // basin thermodynamics
@@ -404,30 +404,36 @@ function fmt(x: number): string {
   return Number(x.toPrecision(3)).toString();
 }
 
-/** Lowest-barrier (minimax) connection of every pair of minima: their lowest common ancestor in the hierarchy. */
-function minimaxBarriers(tree: MergeTree, hierarchy: HierarchyNode[], minima: MinimumRecord[]): MinimaxRow[] {
-  const leafOf = new Map<string, number>();
-  for (const n of hierarchy) if (n.kind === 'minimum') leafOf.set(n.ref!, n.id);
-  const ancestors = (k: number): number[] => {
-    const out: number[] = [];
-    for (let p: number = k; p >= 0; p = tree.parent[p]) out.push(p);
-    return out;
-  };
+/**
+ * Lowest-barrier (minimax) connection of every pair of minima: the join where their branches of the
+ * hierarchy meet (their lowest common ancestor). Each join pairs the minima of one child branch with
+ * those of another, so every pair is produced once.
+ */
+function minimaxBarriers(hierarchy: HierarchyNode[], minima: MinimumRecord[]): MinimaxRow[] {
+  const byId = new Map(minima.map((m, k) => [m.id, k]));
+  const leaves: number[][] = hierarchy.map(() => []);
   const rows: MinimaxRow[] = [];
-  const anc = minima.map((m) => ancestors(leafOf.get(m.id)!));
-  for (let i = 0; i < minima.length; i++) {
-    const set = new Set(anc[i]);
-    for (let j = i + 1; j < minima.length; j++) {
-      const lca = anc[j].find((p) => set.has(p));
-      if (lca === undefined) continue; // different trees: not connected below the top of the surface
-      const node = hierarchy[lca];
-      if (node.kind !== 'transition-state' || node.energy === null) continue;
-      rows.push({
-        a: minima[i].id, b: minima[j].id, via: node.ref!, energy: node.energy,
-        fromA: node.energy - minima[i].bestEnergy, fromB: node.energy - minima[j].bestEnergy,
-      });
+  // children come before parents in the tree
+  for (const node of hierarchy) {
+    if (node.kind === 'minimum') { leaves[node.id].push(byId.get(node.ref!)!); continue; }
+    const kids = node.children.map((c) => leaves[c]);
+    if (node.kind === 'transition-state' && node.energy !== null) {
+      for (let p = 0; p < kids.length; p++) {
+        for (let q = p + 1; q < kids.length; q++) {
+          for (const i of kids[p]) {
+            for (const j of kids[q]) {
+              const [a, b] = i < j ? [minima[i], minima[j]] : [minima[j], minima[i]];
+              rows.push({ a: a.id, b: b.id, via: node.ref!, energy: node.energy, fromA: node.energy - a.bestEnergy, fromB: node.energy - b.bestEnergy });
+            }
+          }
+        }
+      }
     }
+    leaves[node.id] = kids.flat();
+    for (const c of node.children) leaves[c] = [];
   }
+  const rank = (id: string) => byId.get(id)!;
+  rows.sort((x, y) => rank(x.a) - rank(y.a) || rank(x.b) - rank(y.b));
   return rows;
 }
 
