@@ -178,6 +178,21 @@ describe('periodic analytic surfaces', () => {
   });
 });
 
+describe('monkey saddle', () => {
+  it('three lower pieces: one transition state of multiplicity 2 joining three basins pairwise', () => {
+    // Source: definition — the lower link {E, NW, SW} of the centre cell has three pieces in the
+    // 8-neighbour ring, each draining to its own pit.
+    const vals = [9, 9, 9, 9, 9, 9, -1, 9, 9, 9, 9, 9, 0, -3, 9, 9, -2, 9, 9, 9, 9, 9, 9, 9, 9].map((v, i) => v + 1e-3 * i);
+    const g = new Grid({ width: 5, height: 5, values: Float64Array.from(vals) });
+    const r = barriers(g, { minPersistence: 0.5 });
+    expect(r.minima).toHaveLength(3);
+    const centre = r.transitionStates.find((t) => t.vertex === 12)!;
+    expect(centre.multiplicity).toBe(2);
+    expect(centre.connectsPairs.map((p) => p.join('-')).sort()).toEqual(['M1-M2', 'M1-M3', 'M2-M3']);
+    expect(r.barriers.filter((b) => b.via === centre.id)).toHaveLength(3);
+  });
+});
+
 describe('basin thermodynamics', () => {
   it('a harmonic well: F = −kT ln(2π kT / √(ab)) (Gaussian integral)', () => {
     // Source: analytic — ∫∫ exp(−(a x² + b y²)/2) dx dy = 2π/√(ab) (energies in kT).

@@ -81,6 +81,15 @@ describe('Müller–Brown potential against SciPy', () => {
     expect(root.kind).toBe('transition-state');
     expect(root.energy).toBeCloseTo(Math.max(...refTs.map((p) => p.energy)), 1);
     expect(r.survey.euler.holds).toBe(true);
+    // lowest-barrier connections: the two shallower minima meet over the lower saddle; the deepest
+    // meets either of them only over the higher one (SciPy's saddles: which pairs each joins)
+    const [lo, hi] = refTs.slice().sort((a, b) => a.energy - b.energy);
+    const lowId = nearest(r.transitionStates, lo.x, lo.y).id, highId = nearest(r.transitionStates, hi.x, hi.y).id;
+    expect(r.minimax).toEqual([
+      expect.objectContaining({ a: 'M1', b: 'M2', via: highId }),
+      expect.objectContaining({ a: 'M1', b: 'M3', via: highId }),
+      expect.objectContaining({ a: 'M2', b: 'M3', via: lowId }),
+    ]);
   });
 
   it('5000 scattered samples (moving least squares): the same points within the same tolerances', () => {
