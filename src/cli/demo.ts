@@ -1,6 +1,6 @@
 /** `sill demo`: write the bundled (invented) demo inputs and run the main jobs on them. */
 import type { Command } from 'commander';
-import { mkdirSync, writeFileSync } from 'node:fs';
+import { mkdirSync, writeFileSync, readdirSync, existsSync } from 'node:fs';
 import { join, resolve } from 'node:path';
 import { larkmoorDem, dihedralScan } from '../demo/generate.js';
 import { writeGeoTiff } from '../io/index.js';
@@ -37,8 +37,8 @@ export async function runDemo(dir: string, quiet: boolean): Promise<void> {
   log(`   input ${demPath}`);
   log(`-- sill survey ${demPath} --min-persistence 0.5 -o ${join(root, 'larkmoor-survey')} --report`);
   await runSurveyCommand(demPath, { out: join(root, 'larkmoor-survey'), minPersistence: '0.5', connectivity: '8', boundary: 'open', quiet, report: true });
-  log(`-- sill ponds ${demPath} --min-depth 0.05 -o ${join(root, 'larkmoor-ponds')}`);
-  await runPondsCommand(demPath, { out: join(root, 'larkmoor-ponds'), minDepth: '0.05', connectivity: '8', boundary: 'open', quiet });
+  log(`-- sill ponds ${demPath} --min-depth 0.05 -o ${join(root, 'larkmoor-ponds')} --report`);
+  await runPondsCommand(demPath, { out: join(root, 'larkmoor-ponds'), minDepth: '0.05', connectivity: '8', boundary: 'open', quiet, report: true });
   log('');
   log(`== ${scan.description}`);
   log(`   input ${scanPath}`);
@@ -47,5 +47,5 @@ export async function runDemo(dir: string, quiet: boolean): Promise<void> {
   log('');
   log(`demo results in ${root}`);
   // the reports, last, so the path to open is what the terminal ends with
-  for (const run of ['larkmoor-survey', 'dihedral-survey']) log(`report: ${join(root, run, 'report.html')}`);
+  for (const run of readdirSync(root).sort()) if (existsSync(join(root, run, 'report.html'))) log(`report: ${join(root, run, 'report.html')}`);
 }

@@ -12,6 +12,8 @@ import { toCsv, featureCollection, pointFeature, type Feature } from '../io/tabl
 import { OutputFolder } from '../io/outdir.js';
 import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, fmtCoord, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
+import { reportRequest, addReport, reportSummary, flagsOf, PONDS_FLAGS, type ReportRequest } from './report-option.js';
+import { buildPondsReport as buildPondsHtml } from '../render/html/ponds.js';
 
 export interface PondsCliOptions extends CommonOptions {
   nodataAs?: string;
@@ -76,10 +78,7 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   const stageStep = opts.stageStep === undefined ? undefined : parseNumber('--stage-step', opts.stageStep, { positive: true });
   if (stageStep !== undefined && stageId === undefined) throw new InputError('--stage-step needs --stage-volume ID');
   if (stageId !== undefined && !opts.out) throw new InputError('--stage-volume writes a table: give an output folder with -o/--out');
-  const flags = opts as PondsCliOptions & { report?: boolean; png?: boolean };
-  if (flags.report || flags.png) {
-    throw new InputError(`${flags.report ? '--report' : '--png'} is not available for ponds yet; the files written with -o (GeoTIFF, GeoJSON, CSV, report.json) open in a GIS`);
-  }
+  const render = reportRequest('ponds', [input], { ...opts }, flagsOf({ ...opts }, PONDS_FLAGS));
   if (opts.wgs84 && !opts.out) throw new InputError('--wgs84 writes depressions-wgs84.geojson: give an output folder with -o/--out');
 
   progress.stage(`reading ${input}`);
@@ -103,11 +102,12 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   let written: string[] = [];
   if (opts.out) {
     progress.stage('writing files');
-    written = await writePondsFiles(opts.out, result, report, { project, stageId, stageStep, progress });
+    written = await writePondsFiles(opts.out, result, report, { project, stageId, stageStep, progress, render });
   }
   progress.done();
   if (opts.json) process.stdout.write(JSON.stringify(report) + '\n');
   say(opts, pondsSummary(report, opts.out, written));
+  if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
 }
 
@@ -116,6 +116,7 @@ interface WriteOptions {
   stageId?: number;
   stageStep?: number;
   progress?: Progress;
+  render?: ReportRequest | null;
 }
 
 export async function writePondsFiles(dir: string, result: PondsResult, report: PondsReport, w: WriteOptions = { project: null }): Promise<string[]> {
@@ -155,6 +156,8 @@ export async function writePondsFiles(dir: string, result: PondsResult, report: 
       ]));
     }
     out.write('report.json', JSON.stringify(report, null, 1) + '\n');
+    w.progress?.stage('writing the report');
+    addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'filled.tif', 'depth.tif', 'labels.tif'], (ctx) => buildPondsHtml(result, report, ctx, outlines));
     return out.commit();
   } catch (e) {
     out.abort();

@@ -52,6 +52,27 @@ export function commandLineOf(command: string, positional: string[], opts: Recor
   return parts.join(' ');
 }
 
+/** A command's own options that shape its result: [option key, flag, default]. */
+export type FlagSpec = [string, string, string | undefined][];
+
+export const PONDS_FLAGS: FlagSpec = [
+  ['nodataAs', '--nodata-as', 'outlet'], ['minDepth', '--min-depth', undefined], ['minArea', '--min-area', undefined],
+  ['minVolume', '--min-volume', undefined], ['fillOnlyBelow', '--fill-only-below', undefined], ['labelLevel', '--label-level', 'leaf'],
+  ['zUnits', '--z-units', undefined], ['zFactor', '--z-factor', undefined], ['xyUnits', '--xy-units', undefined],
+];
+
+/** The flags of `spec` set to something other than their default, as command-line words. */
+export function flagsOf(opts: Record<string, unknown>, spec: FlagSpec): string[] {
+  const out: string[] = [];
+  for (const [key, flag, dflt] of spec) {
+    const v = opts[key];
+    if (v === undefined || v === null || v === false || (dflt !== undefined && String(v) === dflt)) continue;
+    out.push(flag);
+    if (v !== true) out.push(String(v));
+  }
+  return out;
+}
+
 /**
  * What to render for this run, or null. `--report`/`--png` need `-o DIR`; `--png` checks up front
  * that the renderer loads, so a missing binary fails before the analysis rather than after it.

@@ -57,17 +57,48 @@ async function open(file: string): Promise<Opened> {
   return { page, errors, requests, url };
 }
 
-/** Markers each figure should show, from the run's own report.json (and merge-tree.json). */
-function expectedMarkers(dir: string): { map: number; tree: number; persistence: number } {
+interface Expect {
+  /** Markers in the map, the tree and the persistence diagram. */
+  map: number;
+  tree: number;
+  persistence: number;
+  /** Features with their cells, to check placement: the map marker `selector` of link key `key`. */
+  cells: { key: string; selector: string; col: number; row: number }[];
+  /** The first table's id and a numeric column to sort by. */
+  table: string;
+  sortBy: string;
+}
+
+/** What each figure should show, from the run's own report.json (and merge-tree.json). */
+function expected(dir: string): Expect {
   const rep = JSON.parse(readFileSync(join(dir, 'report.json'), 'utf8'));
   if (rep.schema === 'sill/survey@1') {
     const tree = JSON.parse(readFileSync(join(dir, 'merge-tree.json'), 'utf8'));
     const removedNonzero = rep.counts.removedPairs.dim0 + rep.counts.removedPairs.dim1 - (rep.minPersistence > 0 ? rep.counts.zeroPersistencePairs : 0);
     const born = new Set(rep.pairs.filter((p: { dim: number }) => p.dim === 0).map((p: { birthAt: { index: number } }) => p.birthAt.index));
     const essential = rep.criticalPoints.filter((c: { kind: string; index: number }) => c.kind === 'pit' && !born.has(c.index)).length;
-    return { map: rep.criticalPoints.length, tree: tree.join.nodes.length, persistence: rep.pairs.length + removedNonzero + essential };
+    return {
+      map: rep.criticalPoints.length, tree: tree.join.nodes.length, persistence: rep.pairs.length + removedNonzero + essential,
+      cells: rep.criticalPoints.slice(0, 5).map((c: { index: number; col: number; row: number }) => ({ key: `v${c.index}`, selector: 'g.mk', col: c.col, row: c.row })),
+      table: 'critical-points', sortBy: 'value',
+    };
   }
-  throw new Error(`no marker expectations for ${rep.schema}`);
+  if (rep.schema === 'sill/ponds@1') {
+    const deps = rep.depressions as { id: number; parent: number | null; children: number[]; pit: { col: number; row: number }; pour: { col: number; row: number } }[];
+    const top = deps.filter((d) => d.parent === null).length;
+    const leaves = deps.filter((d) => d.children.length === 0);
+    return {
+      // a pour point ➤ per depression and a pit ▽ per innermost one; a tree node per depression and a spill cap on each
+      // outermost one; one pair (pit, spill) each
+      map: deps.length + leaves.length, tree: deps.length + top, persistence: deps.length,
+      cells: [
+        ...leaves.slice(0, 3).map((d) => ({ key: `d${d.id}`, selector: 'g.mk-pit', col: d.pit.col, row: d.pit.row })),
+        ...deps.slice(0, 3).map((d) => ({ key: `d${d.id}`, selector: 'g.mk-pour', col: d.pour.col, row: d.pour.row })),
+      ],
+      table: 'depressions', sortBy: 'spill level',
+    };
+  }
+  throw new Error(`no expectations for ${rep.schema}`);
 }
 
 describe('demo reports in Chromium', () => {
@@ -79,7 +110,7 @@ describe('demo reports in Chromium', () => {
     for (const file of reports) {
       const dir = dirname(file), name = basename(dir);
       const { page, errors, requests, url } = await open(file);
-      const want = expectedMarkers(dir);
+      const want = expected(dir);
       expect(await page.locator('#map g.mk').count(), `${name}: map markers`).toBe(want.map);
       expect(await page.locator('#tree g.mk').count(), `${name}: tree markers`).toBe(want.tree);
       expect(await page.locator('#persistence g.mk').count(), `${name}: diagram markers`).toBe(want.persistence);
@@ -101,20 +132,20 @@ describe('demo reports in Chromium', () => {
     for (const file of reports) {
       const dir = dirname(file);
       const rep = JSON.parse(readFileSync(join(dir, 'report.json'), 'utf8'));
-      const feats: { col: number; row: number; index: number }[] = (rep.criticalPoints ?? []).slice(0, 5);
+      const feats = expected(dir).cells;
       const { page } = await open(file);
       const check = async () => {
         for (const f of feats) {
-          const got = await page.evaluate(({ k, col, row }) => {
+          const got = await page.evaluate(({ k, sel, col, row }) => {
             const plot = document.getElementById('map-plot') as unknown as SVGSVGElement;
             // the plot's viewport on screen: the frame drawn around it (the nested <svg>'s own box would include clipped overflow)
             const vb = plot.viewBox.baseVal, r = document.querySelector('#map .plot-frame')!.getBoundingClientRect();
-            const g = document.querySelector(`#map g.mk[data-k="${k}"]`) as SVGGElement | null;
+            const g = document.querySelector(`#map ${sel}[data-k="${k}"]`) as SVGGElement | null;
             if (!g) return null;
             const m = g.getScreenCTM()!;
             // expected: cell centre (col + ½, row + ½) through the current viewBox onto the plot's box
             return { x: m.e, y: m.f, ex: r.left + ((col + 0.5 - vb.x) / vb.width) * r.width, ey: r.top + ((row + 0.5 - vb.y) / vb.height) * r.height };
-          }, { k: `v${f.index}`, col: f.col, row: f.row });
+          }, { k: f.key, sel: f.selector, col: f.col, row: f.row });
           expect(got).not.toBeNull();
           expect(Math.abs(got!.x - got!.ex)).toBeLessThan(0.75);
           expect(Math.abs(got!.y - got!.ey)).toBeLessThan(0.75);
@@ -138,28 +169,34 @@ describe('demo reports in Chromium', () => {
   it('clicking a table row highlights its feature on the map, and clicking a marker highlights its row', async () => {
     for (const file of reports) {
       const name = basename(dirname(file));
+      const want = expected(dirname(file));
+      const T = `#table-${want.table}`;
       const { page } = await open(file);
-      const row = page.locator('#table-critical-points tbody tr').first();
+      const row = page.locator(`${T} tbody tr`).first();
       const key = (await row.getAttribute('data-k'))!;
       await row.click();
-      await expect.poll(() => page.locator(`#map g.mk[data-k="${key}"]`).getAttribute('class')).toMatch(/\bsel\b/);
+      await expect.poll(() => page.locator(`#map g.mk[data-k="${key}"]`).first().getAttribute('class')).toMatch(/\bsel\b/);
       expect(await row.getAttribute('class')).toMatch(/\bsel\b/);
       // a marker elsewhere: the third row's feature, clicked on the map
-      const other = (await page.locator('#table-critical-points tbody tr').nth(2).getAttribute('data-k'))!;
+      const other = (await page.locator(`${T} tbody tr`).nth(2).getAttribute('data-k'))!;
       await page.locator('[data-zoom="reset"]').click();
-      await page.locator(`#map g.mk[data-k="${other}"] .mk-body`).click({ force: true });
-      const selRows = page.locator('#table-critical-points tbody tr.sel');
+      await page.locator(`#map g.mk[data-k="${other}"] .mk-body`).first().click({ force: true });
+      const selRows = page.locator(`${T} tbody tr.sel`);
       await expect.poll(() => selRows.count()).toBe(1);
       expect(await selRows.first().getAttribute('data-k')).toBe(other);
-      expect(await page.locator(`#map g.mk[data-k="${key}"]`).getAttribute('class')).not.toMatch(/\bsel\b/);
+      expect(await page.locator(`#map g.mk[data-k="${key}"]`).first().getAttribute('class')).not.toMatch(/\bsel\b/);
       // the tree node of the same feature is highlighted too, when it is in the tree
       const inTree = await page.locator(`#tree g.mk[data-k="${other}"]`).count();
-      if (inTree) expect(await page.locator(`#tree g.mk[data-k="${other}"]`).getAttribute('class')).toMatch(/\bsel\b/);
+      if (inTree) expect(await page.locator(`#tree g.mk[data-k="${other}"]`).first().getAttribute('class')).toMatch(/\bsel\b/);
       await page.locator('#sec-map').screenshot({ path: join(SHOTS, `${name}-selected.png`) });
-      // sorting by a column reorders the rows
-      await page.locator('#table-critical-points th button').filter({ hasText: /^value/ }).click();
-      const vals = await page.locator('#table-critical-points tbody tr td:nth-child(6)').allTextContents();
+      // sorting by a numeric column orders the rows
+      const heads = await page.locator(`${T} th`).allTextContents();
+      const col = heads.findIndex((h) => h.startsWith(want.sortBy)) + 1;
+      expect(col).toBeGreaterThan(0);
+      await page.locator(`${T} th`).nth(col - 1).locator('button').click();
+      const vals = await page.locator(`${T} tbody tr td:nth-child(${col})`).allTextContents();
       const nums = vals.map((v) => Number(v.replace('−', '-')));
+      expect(nums.every((x) => Number.isFinite(x))).toBe(true);
       expect(nums).toEqual([...nums].sort((a, b) => a - b));
       await page.close();
     }

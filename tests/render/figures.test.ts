@@ -155,3 +155,21 @@ describe('persistence diagram', () => {
     expect(r.svg).toMatch(/class="binned"/);
   });
 });
+
+describe('depression outlines and pour arrows', async () => {
+  const { outlinePath, pourAngle } = await import('../../src/render/html/ponds.js');
+  it('a ring along cell edges keeps only its corners, in plot coordinates (inverse transform)', () => {
+    // cells (2..3, 1..2) of a grid with 10 m cells, origin (500, 900), north-up: corners at cols 2,4 and rows 1,3
+    const t: GeoTransform = [500, 10, 0, 900, 0, -10];
+    const X = (c: number) => 500 + 10 * c, Y = (r: number) => 900 - 10 * r;
+    const ring: [number, number][] = [[X(2), Y(1)], [X(3), Y(1)], [X(4), Y(1)], [X(4), Y(2)], [X(4), Y(3)], [X(3), Y(3)], [X(2), Y(3)], [X(2), Y(2)], [X(2), Y(1)]];
+    const d = outlinePath({ id: 1, polygons: [[ring]] }, t);
+    expect(d).toBe('M2 1L4 1L4 3L2 3Z');
+  });
+  it('pour arrows point from the pass cell to the cell beyond it', () => {
+    const dep = (dc: number, dr: number) => ({ pour: { col: 5, row: 5, to: { col: 5 + dc, row: 5 + dr } } }) as Parameters<typeof pourAngle>[0];
+    expect(pourAngle(dep(1, 0))).toBe(0);
+    expect(pourAngle(dep(0, 1))).toBe(90); // rows run down the screen
+    expect(pourAngle(dep(-1, -1))).toBe(-135);
+  });
+});

@@ -114,3 +114,35 @@ describe('sill survey --report / --png (command line)', () => {
     expect(png.readUInt32BE(16)).toBe(Math.round(figW * 2));
   });
 });
+
+describe('sill ponds --report (command line)', () => {
+  it('writes the report with the depressions linked across map, tree and table', () => {
+    // two bowls side by side, joined by a saddle, in a rim that drains east: z = matrix rows
+    const W = 14, H = 9, rows: string[] = [];
+    for (let r = 0; r < H; r++) {
+      const line: number[] = [];
+      for (let c = 0; c < W; c++) {
+        const a = (c - 4) ** 2 + (r - 4) ** 2, b = (c - 9) ** 2 + (r - 4) ** 2;
+        line.push(Math.round(100 * (10 + Math.min(a, b + 1) * 0.3 - (c === W - 1 ? 2 : 0))) / 100);
+      }
+      rows.push(line.join(' '));
+    }
+    writeFileSync(join(dir, 'bowls.txt'), rows.join('\n') + '\n');
+    const out = join(dir, 'p1');
+    const r = sill(['ponds', join(dir, 'bowls.txt'), '--origin', '0.5,8.5', '--spacing', '1,-1', '-o', out, '--report', '--quiet']);
+    expect(r.code, r.stderr).toBe(0);
+    const rep = JSON.parse(readFileSync(join(out, 'report.json'), 'utf8'));
+    expect(rep.depressions.length).toBeGreaterThan(0);
+    const html = readFileSync(join(out, 'report.html'), 'utf8');
+    const data = dataOf(html);
+    expect(data.tables[0].id).toBe('depressions');
+    expect(data.tables[0].keys.sort()).toEqual(rep.depressions.map((d: { id: number }) => `d${d.id}`).sort());
+    for (const d of rep.depressions) {
+      // each depression: an outline on the map, a node in the tree, a row in the table
+      expect(html).toMatch(new RegExp(`<path class="ol" data-k="d${d.id}" d="M`));
+      expect(html).toMatch(new RegExp(`<g class="mk mk-(pit|pass)" data-k="d${d.id}"[^>]*transform="translate`));
+    }
+    expect(html).toContain('Screening information only');
+    expect(html).toContain('--origin 0.5,8.5 --spacing 1,-1');
+  });
+});

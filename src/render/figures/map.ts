@@ -158,7 +158,7 @@ function legendSvg(spec: MapSpec, g: MapGeometry): string {
   let kx = x0 + Math.max(1, spec.ramps.length) * 250;
   let ky = y0 - 4;
   for (const { kind, count, name } of spec.kinds) {
-    parts.push(`<g transform="translate(${n(kx + 7)} ${n(ky)})"><path d="${shapePath(kind, MARKER_RADIUS)}" fill="${MARKER_FILL[kind]}" stroke="${THEME.markerStroke}" stroke-width="1"/></g>`
+    parts.push(`<g transform="translate(${n(kind === 'pour' ? kx + 2 : kx + 7)} ${n(ky)})"><path d="${shapePath(kind, kind === 'pour' ? 6.5 : MARKER_RADIUS)}" fill="${MARKER_FILL[kind]}" stroke="${THEME.markerStroke}" stroke-width="1"/></g>`
       + `<text x="${n(kx + 18)}" y="${n(ky + 4)}">${esc(`${name ?? MARKER_NAMES[kind]} (${count})`)}</text>`);
     ky += 17;
     if (ky > y0 + 40) { ky = y0 - 4; kx += 150; }

@@ -1,6 +1,6 @@
 /**
  * Feature markers, told apart by shape first (colour only helps): pit ▽ (points down, into the
- * hollow), peak △, pass ◇, pour point ➤ (an arrow toward the cell the water spills into).
+ * hollow), peak △, pass ◇, pour point ➤ (an arrow from the pour cell toward the cell the water spills into).
  * Shapes are drawn in figure pixels around (0, 0); a halo keeps them readable on any background.
  */
 import { esc, n } from './svg.js';
@@ -13,7 +13,8 @@ export const SHAPES: Record<MarkerKind, string> = {
   pit: 'M-1 -0.78L1 -0.78L0 0.95Z',
   peak: 'M-1 0.78L1 0.78L0 -0.95Z',
   pass: 'M0 -1L1 0L0 1L-1 0Z',
-  pour: 'M-0.9 -0.85L1 0L-0.9 0.85L-0.35 0Z',
+  // tail at the pour cell, tip toward where the water goes (two depressions meeting at one pass point apart)
+  pour: 'M0.1 -0.85L2 0L0.1 0.85L0.65 0Z',
   outside: 'M-1 -1L1 -1L1 1L-1 1Z',
 };
 

@@ -36,6 +36,8 @@ export interface PersistenceSpec {
   essential: DiagramEssential[];
   threshold: number;
   valueLabel: string;
+  /** Legend lines under the plot (default: what filled/hollow and the two shapes mean). */
+  legend?: string[];
   /** Largest number of pairs drawn one by one. */
   maxPoints?: number;
   notes: string[];
@@ -64,8 +66,10 @@ export function persistenceSvg(spec: PersistenceSpec): { svg: string; drawn: num
   const nRest = Math.max(0, all.length - maxPoints);
   const fw = ml + side + 16;
   const noteLines = [
-    `filled: kept (${nKept}); hollow: dropped (${all.length - nKept})${t > 0 ? `; shaded band: persistence < ${fmtNum(t)}` : ''}`,
-    '▽ pit → pass (dimension 0); △ pass → peak (dimension 1)',
+    ...(spec.legend ?? [
+      `filled: kept (${nKept}); hollow: dropped (${all.length - nKept})${t > 0 ? `; shaded band: persistence < ${fmtNum(t)}` : ''}`,
+      '▽ pit → pass (dimension 0); △ pass → peak (dimension 1)',
+    ]),
     ...spec.notes,
     ...(nRest ? [`${all.length - nRest} most persistent pairs drawn; ${nRest} more counted in grey cells`] : []),
   ].flatMap((s) => wrapText(s, Math.floor((fw - 24) / 6.6)));

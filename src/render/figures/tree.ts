@@ -25,6 +25,9 @@ export interface TreeNodeIn {
   weight?: number;
   /** Ranking for keeping leaves when the tree is too large (higher = more important). */
   importance?: number;
+  /** For a root: the level where its stem ends (default: the top of the plot), with a marker there. */
+  top?: number;
+  cap?: { kind: MarkerKind; title: string; angle?: number };
 }
 
 export interface TreeSpec {
@@ -143,7 +146,7 @@ export interface TreeGeometry { fw: number; fh: number; ml: number; mt: number; 
 export function treeSvg(spec: TreeSpec): { svg: string; markers: number; geometry: TreeGeometry } {
   const nodes = spec.nodes;
   const L = layoutTree(nodes);
-  const finite = nodes.map((nd) => nd.value).filter((v) => Number.isFinite(v));
+  const finite = nodes.flatMap((nd) => (nd.top !== undefined ? [nd.value, nd.top] : [nd.value])).filter((v) => Number.isFinite(v));
   const [lo, hi] = finite.length ? padded(Math.min(...finite), Math.max(...finite), 0.06) : [0, 1];
   const hasOutside = nodes.some((nd) => nd.value === -Infinity);
   const ml = 64, mt = 14, mr = 14;
@@ -181,7 +184,7 @@ export function treeSvg(spec: TreeSpec): { svg: string; markers: number; geometr
     const xx = xs.map(L.x[i]);
     const y0 = yOf(nd.value);
     const p = nd.parent >= 0 ? idx.get(nd.parent) ?? -1 : -1;
-    const y1 = p >= 0 ? yOf(nodes[p].value) : mt;
+    const y1 = p >= 0 ? yOf(nodes[p].value) : nd.top !== undefined ? yOf(nd.top) : mt;
     const dash = nd.value === -Infinity ? ' stroke-dasharray="4 3"' : '';
     edges.push(`<line class="stem"${nd.key ? ` data-k="${esc(nd.key)}"` : ''} x1="${n(xx)}" y1="${n(y0)}" x2="${n(xx)}" y2="${n(y1)}" stroke-width="${n(stemW(nd))}"${dash}/>`);
     const k = L.kids[i];
@@ -195,11 +198,14 @@ export function treeSvg(spec: TreeSpec): { svg: string; markers: number; geometr
   const mk: string[] = [];
   nodes.forEach((nd, i) => {
     mk.push(marker({ key: nd.key ?? `tree-${nd.id}`, kind: nd.kind, x: xs.map(L.x[i]), y: yOf(nd.value), scale: 1, radius: 5, title: nd.title, label: nd.label }));
+    if (nd.cap && nd.parent < 0 && nd.top !== undefined) {
+      mk.push(marker({ key: nd.key ?? `tree-${nd.id}`, kind: nd.cap.kind, x: xs.map(L.x[i]), y: yOf(nd.top), scale: 1, radius: 5, angle: nd.cap.angle, title: nd.cap.title, extraClass: 'cap' }));
+    }
   });
   parts.push(`<g class="markers">${mk.join('')}</g>`);
   let ny = mt + ph + mb;
   const notes = noteLines.map((t) => { const s = `<text x="16" y="${n(ny)}" fill="${THEME.muted}">${esc(t)}</text>`; ny += 16; return s; });
   parts.push(`<g class="notes" font-size="12">${notes.join('')}</g>`);
   parts.push('</svg>');
-  return { svg: parts.join(''), markers: nodes.length, geometry: { fw, fh, ml, mt, pw, ph } };
+  return { svg: parts.join(''), markers: mk.length, geometry: { fw, fh, ml, mt, pw, ph } };
 }

@@ -81,6 +81,8 @@ export interface ReportDoc {
   cautions: string[];
   map: MapBlock;
   tree: FigureBlock | null;
+  /** Heading of the tree section (default: 'Merge tree'). */
+  treeTitle?: string;
   persistence: FigureBlock | null;
   tables: TableSpec[];
   /** Tooltip rows per link key. */

@@ -59,7 +59,7 @@ export function renderHtml(doc: ReportDoc): string {
 <main>
 ${caution}
 <section class="card" id="sec-run" aria-labelledby="h-run"><h2 id="h-run">Run</h2><dl class="run">${header}</dl></section>
-<div class="figs"><div>${mapSection}</div><div class="side">${fig('tree', doc.domain === 'energy' ? 'Basin tree' : 'Merge tree', doc.tree)}${fig('persistence', 'Persistence diagram', doc.persistence)}</div></div>
+<div class="figs"><div>${mapSection}</div><div class="side">${fig('tree', doc.treeTitle ?? 'Merge tree', doc.tree)}${fig('persistence', 'Persistence diagram', doc.persistence)}</div></div>
 ${tables}
 <section class="card" id="sec-notes" aria-labelledby="h-notes"><h2 id="h-notes">How this page was made</h2>${notes}${files}</section>
 </main>

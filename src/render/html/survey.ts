@@ -179,6 +179,7 @@ export function buildSurveyReport(surface: Grid | Mesh, result: SurveyResult, re
       hover: [surfaceHover(sd, valueName, unitShort)],
       xyUnit: sd.xyUnit, geographic: sd.geographic,
     },
+    treeTitle: domain === 'energy' ? 'Merge tree of the basins' : 'Merge tree',
     tree: { svg: tree.svg, markers: tree.markers, caption: 'Level rises upward: each pit starts a branch; branches join at the pass where their sublevel sets meet. Click a node to find it on the map.' },
     persistence: { svg: diagram.svg, markers: diagram.drawn, caption: 'Distance above the diagonal is persistence: how far a feature stands out from its surroundings. Pairs in the shaded band fell below --min-persistence.' },
     tables,

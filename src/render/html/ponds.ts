@@ -1,0 +1,238 @@
+/**
+ * The ponds report page: the DEM in greys with hillshade, water depth at the spill levels on top,
+ * depression outlines, pits and pour points; the spill-level tree with volumes; depth against
+ * spill level as a persistence diagram; the depressions table.
+ */
+import type { PondsResult } from '../../hydro/ponds.js';
+import type { PondsReport, DepressionRecord } from '../../report/ponds.js';
+import { depressionOutlines, type DepressionOutline } from '../../hydro/vectors.js';
+import { mapSvg, type MapMarker, type MapShape } from '../figures/map.js';
+import { treeSvg, limitLeaves, type TreeNodeIn } from '../figures/tree.js';
+import { persistenceSvg, type DiagramPoint } from '../figures/persistence.js';
+import { blockStats, blockCentreSample, mapToPlot, finiteRange } from '../figures/raster.js';
+import { makeRamp } from '../figures/colour.js';
+import { overlay } from '../figures/layers.js';
+import { encodePng, pngDataUri } from '../figures/png.js';
+import { fmtNum } from '../figures/scale.js';
+import { n } from '../figures/svg.js';
+import { RAMPS } from '../figures/theme.js';
+import type { ReportDoc, TableSpec, ReportContext, BuiltReport, HoverLayer } from './model.js';
+import {
+  surfaceDisplay, surfaceLayer, surfaceContours, surfaceHover, displayNotes, commonHeader, TERRAIN_CAUTION, valueDecimals, fmtDec, packArray,
+} from './surface.js';
+import { axesLabels } from './survey.js';
+
+export const PONDS_LIMITS = { outlines: 2000, markers: 3000, treeLeaves: 250, tableRows: 5000 };
+
+export const dkey = (id: number): string => `d${id}`;
+
+/** Outline rings (map coordinates) as SVG path data in plot coordinates, collinear points dropped. */
+export function outlinePath(o: DepressionOutline, t: PondsResult['grid']['transform']): string {
+  const parts: string[] = [];
+  for (const poly of o.polygons) {
+    for (const ring of poly) {
+      const pts = ring.map(([x, y]) => mapToPlot(t, x, y));
+      const keep: [number, number][] = [];
+      for (let k = 0; k < pts.length - 1; k++) {
+        const a = keep.length ? keep[keep.length - 1] : pts[pts.length - 2], b = pts[k], c = pts[k + 1];
+        const cross = (b[0] - a[0]) * (c[1] - b[1]) - (b[1] - a[1]) * (c[0] - b[0]);
+        if (Math.abs(cross) > 1e-9) keep.push(b);
+      }
+      if (keep.length < 3) continue;
+      parts.push('M' + keep.map(([u, v]) => `${n(u, 3)} ${n(v, 3)}`).join('L') + 'Z');
+    }
+  }
+  return parts.join('');
+}
+
+/** Direction (degrees, plot coordinates) from the pour cell to the cell the water spills into. */
+export function pourAngle(d: DepressionRecord): number {
+  return (Math.atan2(d.pour.to.row - d.pour.row, d.pour.to.col - d.pour.col) * 180) / Math.PI;
+}
+
+export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: ReportContext, outlines?: DepressionOutline[]): BuiltReport {
+  const g = result.grid;
+  const u = report.units;
+  const zu = u.elevation, au = u.area, vu = u.volume;
+  const sd = surfaceDisplay(g);
+  const layer = surfaceLayer(sd, { domain: 'terrain', label: `elevation [${zu}]`, underWater: true });
+  const contours = surfaceContours(sd, 10);
+  const dec = valueDecimals(g.values, finiteRange(sd.stats.min)[0], finiteRange(sd.stats.max)[1]);
+  const fz = (x: number) => fmtDec(x, dec);
+  const geo = sd.geographic;
+  const xyUnit = sd.xyUnit || (g.crs ? 'CRS units' : 'input units');
+
+  // water depth overlay: block means of the depth at the spill levels
+  const R = result.rasters;
+  const f = sd.frame.factor;
+  const dstats = blockStats(R.depth, g.width, g.height, f);
+  const [, dmax] = finiteRange(dstats.max);
+  const depthRamp = makeRamp(RAMPS.depth.name, RAMPS.depth.lo, RAMPS.depth.hi);
+  const dTop = dmax > 0 ? dmax : 1;
+  const depthPng = pngDataUri(encodePng(overlay(dstats.mean, depthRamp, 0, dTop, 0.88), sd.frame.dw, sd.frame.dh, 4));
+
+  // depressions, largest first for the caps
+  const deps = report.depressions;
+  const byVolume = [...deps].sort((a, b) => b.volume - a.volume || a.id - b.id);
+  const drawn = new Set(byVolume.slice(0, PONDS_LIMITS.outlines).map((d) => d.id));
+  const ol = outlines ?? depressionOutlines(g, R.labels, result.hierarchy);
+  const shapes: MapShape[] = ol.filter((o) => drawn.has(o.id)).sort((a, b) => deps[a.id - 1].level - deps[b.id - 1].level)
+    .map((o) => ({ key: dkey(o.id), d: outlinePath(o, g.transform), title: `depression #${o.id}` })).filter((s) => s.d);
+  const markers: MapMarker[] = [];
+  for (const d of byVolume.slice(0, Math.floor(PONDS_LIMITS.markers / 2))) {
+    // a merged depression's pit is its deepest child's pit: one marker there, the child's
+    if (d.children.length === 0) markers.push({ key: dkey(d.id), kind: 'pit', u: d.pit.col + 0.5, v: d.pit.row + 0.5, title: `depression #${d.id}: pit ${fz(d.pitValue)} ${zu}` });
+    markers.push({ key: dkey(d.id), kind: 'pour', u: d.pour.col + 0.5, v: d.pour.row + 0.5, angle: pourAngle(d), title: `depression #${d.id}: pours at ${fz(d.spillValue)} ${zu} into ${d.into === 'outside' ? 'the outside' : `#${d.into}`}` });
+  }
+  const shownDeps = Math.min(deps.length, Math.floor(PONDS_LIMITS.markers / 2));
+
+  const tips: ReportDoc['tips'] = {};
+  for (const d of byVolume.slice(0, PONDS_LIMITS.tableRows)) {
+    tips[dkey(d.id)] = [
+      ['', `depression #${d.id}${d.parent === null ? '' : ` (inside #${d.parent})`}`],
+      ['spill level', `${fz(d.spillValue)} ${zu}`],
+      ['pit', `${fz(d.pitValue)} ${zu} at cell (${d.pit.col}, ${d.pit.row})`],
+      ['max depth', `${fz(d.maxDepth)} ${zu}`],
+      ['volume', `${fmtNum(d.volume, 6)} ${vu}`],
+      ['area', `${fmtNum(d.area, 6)} ${au}`],
+      ['pour point', `cell (${d.pour.col}, ${d.pour.row}), x, y ${geo ? `${d.pour.x.toFixed(6)}, ${d.pour.y.toFixed(6)}` : `${fmtNum(d.pour.x, 9)}, ${fmtNum(d.pour.y, 9)}`}`],
+      ['spills into', d.into === 'outside' ? 'the outside (leaves the map)' : `depression #${d.into}`],
+      ...(d.children.length ? [['contains', d.children.map((c) => `#${c}`).join(', ')] as [string, string]] : []),
+    ];
+  }
+
+  const mapNotes = [...displayNotes(sd, g, contours, zu), ...layer.notes,
+    `water depth: each display cell's mean depth with every depression filled to its spill level (deepest ${fz(dmax)} ${zu})`];
+  if (shownDeps < deps.length) mapNotes.push(`${shownDeps} largest of ${deps.length} depressions marked (outlines: ${Math.min(deps.length, PONDS_LIMITS.outlines)})`);
+  const map = mapSvg({
+    id: 'map', title: `Depressions of ${report.input ?? 'the DEM'}`,
+    desc: `${g.width} by ${g.height} DEM in grey with hillshade; water depth at the spill levels in colour; ${shapes.length} depression outlines; `
+      + `pits of the innermost depressions (downward triangles) and ${shownDeps} pour points (arrows pointing where the water spills).`,
+    frame: sd.frame,
+    layers: [layer.layer, { id: 'depth', label: 'water depth', href: depthPng, visible: true }],
+    contours, contourUnit: zu, outlines: shapes, markers,
+    kinds: [{ kind: 'pit', count: markers.filter((m) => m.kind === 'pit').length }, { kind: 'pour', count: shownDeps }],
+    lineKeys: [{ label: 'depression outline', kind: 'outline' }],
+    ramps: [layer.legend, { label: `water depth [${zu}]`, ramp: depthRamp, lo: 0, hi: dTop }],
+    notes: mapNotes, axes: axesLabels(sd),
+  });
+
+  // spill-level tree: each depression from its floor (pit, or where its children merged) up to its spill level
+  const childSpill = new Map<number, number>();
+  for (const d of deps) if (d.parent !== null) childSpill.set(d.parent, Math.max(childSpill.get(d.parent) ?? -Infinity, d.spillValue));
+  const nodes: TreeNodeIn[] = deps.map((d) => ({
+    id: d.id, parent: d.parent ?? -1,
+    value: d.children.length ? childSpill.get(d.id)! : d.pitValue,
+    kind: d.children.length ? 'pass' : 'pit', key: dkey(d.id),
+    title: `#${d.id}: ${d.children.length ? `${d.children.length} depressions merge at ${fz(childSpill.get(d.id)!)}` : `pit ${fz(d.pitValue)}`} ${zu}; spills at ${fz(d.spillValue)} ${zu}; ${fmtNum(d.volume, 4)} ${vu}`,
+    weight: d.volume, importance: d.volume,
+    ...(d.parent === null ? { top: d.spillValue, cap: { kind: 'pour' as const, angle: -90, title: `#${d.id} spills at ${fz(d.spillValue)} ${zu} into ${d.into === 'outside' ? 'the outside' : `#${d.into}`}` } } : {}),
+  }));
+  const lim = limitLeaves(nodes, PONDS_LIMITS.treeLeaves);
+  const tree = treeSvg({
+    id: 'tree', title: 'Spill-level tree of the depressions',
+    desc: `Each depression is a stem from its floor to its spill level; nested depressions join their parent where they merge. Stem width grows with volume. ${lim.nodes.length} depressions.`,
+    nodes: lim.nodes, valueLabel: `level [${zu}]`,
+    notes: ['stem width ∝ √volume; ➤ at the top of an outer stem: where it spills', ...(lim.shown < lim.leaves ? [`${lim.shown} largest of ${lim.leaves} innermost depressions shown`] : [])],
+  });
+
+  // depth (spill − pit) of every reported depression as a persistence pair
+  const thr = Math.max(report.filters.minDepth, report.filters.minPersistence);
+  const points: DiagramPoint[] = deps.map((d) => ({
+    key: dkey(d.id), dim: 0, birth: d.pitValue, death: d.spillValue, kept: true,
+    title: `#${d.id}: pit ${fz(d.pitValue)} → spill ${fz(d.spillValue)} (depth ${fz(d.maxDepth)})`,
+  }));
+  const rm = report.removed;
+  const diagram = persistenceSvg({
+    id: 'persistence', title: 'Depth of each depression: pit level against spill level',
+    desc: `${points.length} depressions as (pit level, spill level); the distance above the diagonal is the depth.`,
+    points, essential: [], threshold: thr, valueLabel: `level [${zu}]`,
+    legend: [`▽ one per depression (${points.length})${thr > 0 ? `; shaded band: depth < ${fmtNum(thr)} ${zu}, the threshold` : ''}`],
+    notes: [
+      ...(rm.filtered ? [`${rm.filtered} depressions removed by the filters (depth, area, volume) are not drawn`] : []),
+      ...(rm.flats ? [`${rm.flats} flats at their own spill level hold no water`] : []),
+    ],
+  });
+
+  const rows = byVolume.slice(0, PONDS_LIMITS.tableRows);
+  const table: TableSpec = {
+    id: 'depressions', title: 'Depressions',
+    caption: 'Every depression at its spill level, largest volume first. Click a row to find it on the map and in the tree.',
+    columns: [
+      { key: 'id', label: 'id', unit: '', type: 'int' },
+      { key: 'level', label: 'nesting', unit: '', type: 'int' },
+      { key: 'parent', label: 'inside', unit: 'id', type: 'int' },
+      { key: 'pit', label: 'pit', unit: zu, type: 'num', decimals: dec },
+      { key: 'spill', label: 'spill level', unit: zu, type: 'num', decimals: dec },
+      { key: 'depth', label: 'max depth', unit: zu, type: 'num', decimals: dec },
+      { key: 'volume', label: 'volume', unit: vu, type: 'num' },
+      { key: 'area', label: 'area', unit: au, type: 'num' },
+      { key: 'cells', label: 'cells', unit: '', type: 'int' },
+      { key: 'pour_col', label: 'pour col', unit: 'cell', type: 'int' },
+      { key: 'pour_row', label: 'pour row', unit: 'cell', type: 'int' },
+      { key: 'pour_x', label: 'pour x', unit: xyUnit, type: 'num', digits: 10 },
+      { key: 'pour_y', label: 'pour y', unit: xyUnit, type: 'num', digits: 10 },
+      { key: 'into', label: 'spills into', unit: '', type: 'text' },
+    ],
+    rows: rows.map((d) => [d.id, d.level, d.parent, d.pitValue, d.spillValue, d.maxDepth, d.volume, d.area, d.cells, d.pour.col, d.pour.row, d.pour.x, d.pour.y, d.into === 'outside' ? 'outside' : `#${d.into}`]),
+    keys: rows.map((d) => dkey(d.id)),
+    total: deps.length,
+    csv: 'depressions.csv',
+  };
+
+  const hover: HoverLayer[] = [surfaceHover(sd, 'elevation', zu)];
+  if (f === 1) {
+    hover.push({ label: 'water depth', unit: zu, mode: 'exact', b64: packArray(Float32Array.from(dstats.mean)) });
+    hover.push({ label: 'depression', unit: '', mode: 'label', prefix: 'in depression #', b64: packArray(Int32Array.from(R.labels)) });
+  } else {
+    hover.push({ label: 'water depth', unit: zu, mode: 'range', b64: `${packArray(dstats.min)},${packArray(dstats.max)}` });
+    hover.push({ label: 'depression', unit: '', mode: 'label', prefix: 'block centre in depression #', b64: packArray(blockCentreSample(R.labels, g.width, g.height, f)) });
+  }
+
+  const fl = report.filters;
+  const params = [
+    `nodata as ${report.nodataAs}`,
+    `min-depth ${fmtNum(fl.minDepth)} ${zu}`, `min-area ${fmtNum(fl.minArea)} ${au}`, `min-volume ${fmtNum(fl.minVolume)} ${vu}`,
+    `min-persistence ${fmtNum(fl.minPersistence)}`,
+    ...(fl.fillOnlyBelow !== null ? [`fill only below ${fmtNum(fl.fillOnlyBelow)} ${vu}`] : []),
+    `labels: ${report.labelLevel}`,
+  ];
+  const header = report.euler
+    ? commonHeader({ ...report, euler: report.euler }, params.join(', '), ctx.commandLine)
+    : commonHeader({ ...report, euler: { characteristic: 0, pits: 0, passes: 0, peaks: 0, holds: true, outsidePit: false, simplices: [] } }, params.join(', '), ctx.commandLine).filter((h) => h.label !== 'Euler check');
+  header.splice(header.findIndex((h) => h.label === 'Parameters'), 0, { label: 'Units', value: `elevations and depths in ${zu}, areas in ${au}, volumes in ${vu}; horizontal: ${u.horizontal}${u.notes.length ? ` (${u.notes.join(' ')})` : ''}` });
+  const t = report.totals, c = report.counts;
+  const doc: ReportDoc = {
+    command: 'ponds',
+    title: `Depressions, spill levels and volumes of ${report.input ?? 'a DEM'}`,
+    subtitle: report.input ? report.input.split(/[\\/]/).pop()! : 'DEM',
+    domain: 'terrain',
+    header,
+    cautions: [report.caution ?? TERRAIN_CAUTION.join(' ')],
+    map: {
+      svg: map.svg, geometry: map.geometry, frame: sd.frame, markers: markers.length,
+      caption: 'Scroll or pinch to zoom, drag to pan. ▽ marks the pit, ➤ the pour point and the way the water leaves. Click an outline, a marker or a row to link them.',
+      toggles: [
+        { id: 'surface', label: 'terrain', on: true }, { id: 'depth', label: 'water depth', on: true }, { id: 'contours', label: 'contours', on: true },
+        { id: 'outlines', label: 'outlines', on: true }, { id: 'markers', label: 'markers', on: true },
+      ],
+      hover, xyUnit: sd.xyUnit, geographic: geo,
+    },
+    treeTitle: 'Spill-level tree',
+    tree: { svg: tree.svg, markers: tree.markers, caption: 'Level rises upward. Nested depressions fill first and merge at their spill level into the depression that holds them; outer ones spill (➤) into a neighbour or off the map.' },
+    persistence: { svg: diagram.svg, markers: diagram.drawn, caption: 'Height above the diagonal is the depth from pit to spill level. The dashed line is the depth threshold (--min-depth or --min-persistence).' },
+    tables: [table],
+    tips,
+    facts: [
+      `${c.depressions} depressions (${c.topLevel} outermost)`,
+      `${fmtNum(t.volume, 4)} ${vu} over ${fmtNum(t.area, 4)} ${au}`,
+      ...(report.euler ? [`Euler ${report.euler.holds ? 'holds ✓' : 'FAILS ✗'} (χ = ${report.euler.characteristic})`] : []),
+    ],
+    notes: [...mapNotes, 'Markers: pit ▽, pour point ➤ (pointing to the cell the water spills into), nesting ◇ where depressions merge.',
+      `Colour ramps: ${layer.ramp.name} for the terrain, ${depthRamp.name} (reversed) for the depth — d3-scale-chromatic.`],
+    files: ctx.files,
+    version: report.sill,
+    generated: ctx.generated ?? new Date().toISOString(),
+  };
+  return { doc, svgs: { map: map.svg, tree: tree.svg, persistence: diagram.svg } };
+}
