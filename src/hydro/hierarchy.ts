@@ -15,7 +15,7 @@
  * Components that never meet the outside (walled in by nodata with --nodata-as wall) have no
  * spill level; they are reported as closed regions and left unfilled.
  */
-import type { DepressionSweep } from './sweep.js';
+import type { DepressionSweep, NodeSums } from './sweep.js';
 
 export interface HierarchyFilters {
   /** Smallest depth (spill − pit) kept, in the DEM's vertical unit. */
@@ -88,11 +88,11 @@ export interface HierarchyOptions extends HierarchyFilters {
   fillOnlyBelow?: number;
 }
 
-export function buildHierarchy(sw: DepressionSweep, values: ArrayLike<number>, opts: HierarchyOptions): Hierarchy {
+export function buildHierarchy(sw: DepressionSweep, sums: NodeSums, values: ArrayLike<number>, opts: HierarchyOptions): Hierarchy {
   const K = sw.count;
   const { areaScale, zFactor } = opts;
   const minDepth = opts.minDepth ?? 0, minArea = opts.minArea ?? 0, minVolume = opts.minVolume ?? 0;
-  const z0 = sw.z0;
+  const z0 = sums.z0;
 
   // per raw node: closed (no outlet above), statistics, kept
   const closed = new Uint8Array(K);
@@ -101,15 +101,14 @@ export function buildHierarchy(sw: DepressionSweep, values: ArrayLike<number>, o
   let closedCount = 0, closedCells = 0;
   for (let k = K - 1; k >= 1; k--) {
     const p = sw.parent[k];
-    if (p === -1) { closed[k] = 1; closedCount++; closedCells += sw.cells[k]; continue; }
+    if (p === -1) { closed[k] = 1; closedCount++; closedCells += sums.cells[k]; continue; }
     if (p > 0 && closed[p]) { closed[k] = 1; continue; }
     const hs = values[sw.spill[k]];
     const pz = values[sw.birth[k]];
     depth[k] = hs - pz;
-    const atTop = sw.lastZ[k] === hs;
-    wetN[k] = sw.cells[k] - (atTop ? sw.tieCells[k] : 0);
-    wetA[k] = (sw.sumA[k] - (atTop ? sw.tieA[k] : 0)) * areaScale;
-    const v = ((hs - z0) * sw.sumA[k] - sw.sumAz[k]) * areaScale * zFactor;
+    wetN[k] = sums.cells[k] - sums.tieCells[k];
+    wetA[k] = (sums.sumA[k] - sums.tieA[k]) * areaScale;
+    const v = ((hs - z0) * sums.sumA[k] - sums.sumAz[k]) * areaScale * zFactor;
     vol[k] = v > 0 ? v : 0;
   }
   let flats = 0, filtered = 0;

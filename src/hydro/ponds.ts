@@ -9,9 +9,9 @@ import { buildComplex, GridComplex, type Connectivity, type Boundary, type Simpl
 import { sortOrder } from '../morse/order.js';
 import { findCriticalPoints, type CriticalPoints } from '../morse/critical.js';
 import { cellAreas, type CellAreas, type UnitOptions } from './areas.js';
-import { sweepDepressions } from './sweep.js';
+import { sweepDepressions, nodeSums } from './sweep.js';
 import { buildHierarchy, type Hierarchy, type HierarchyFilters } from './hierarchy.js';
-import { pondRasters, type PondRasters } from './rasters.js';
+import { pondRasters, type PondRasters, type SpareMemory } from './rasters.js';
 
 export interface PondsOptions extends UnitOptions, HierarchyFilters {
   connectivity?: Connectivity;
@@ -106,18 +106,19 @@ export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResul
   const order = sortOrder(grid.values);
   stage('depression sweep');
   const areaScale = areas.uniform ? areas.rowArea[0] : 1;
-  const sw = sweepDepressions(complex, order, areas.rowArea, areas.uniform);
+  const sw = sweepDepressions(complex, order);
+  stage('volume sums');
+  const sums = nodeSums(sw, grid.values, grid.width, areas.rowArea, areas.uniform);
   stage('depression hierarchy');
-  const hierarchy = buildHierarchy(sw, grid.values, {
+  const hierarchy = buildHierarchy(sw, sums, grid.values, {
     minDepth: Math.max(minDepth, minPersistence), minArea, minVolume,
     areaScale, zFactor: areas.zFactor, fillOnlyBelow: opts.fillOnlyBelow,
   });
   let sweepPits = 0;
   for (let k = 1; k < sw.count; k++) if (sw.vertex[k] === sw.birth[k]) sweepPits++;
   stage('filled, depth and label rasters');
-  const spare: ArrayBuffer[] = [];
-  if (order.length === grid.size && order.byteOffset === 0) spare.push(order.buffer as ArrayBuffer);
-  spare.push(sw.scratch.buffer as ArrayBuffer);
+  const spare: SpareMemory[] = [sw.spare];
+  if (order.length === grid.size) spare.push({ buffer: order.buffer as ArrayBuffer, byteOffset: order.byteOffset, byteLength: order.byteLength });
   const rasters = pondRasters(grid.values, grid.width, sw.label, hierarchy, areas.rowArea, spare);
 
   let euler: PondsEuler | null = null, critical: CriticalPoints | null = null;

@@ -8,6 +8,13 @@
  */
 import type { Hierarchy } from './hierarchy.js';
 
+/** A stretch of memory free for reuse. */
+export interface SpareMemory {
+  buffer: ArrayBuffer;
+  byteOffset: number;
+  byteLength: number;
+}
+
 export interface PondRasters {
   filled: Float32Array | Float64Array;
   depth: Float32Array | Float64Array;
@@ -31,16 +38,16 @@ export function pondRasters(
   label: Int32Array,
   hier: Hierarchy,
   rowArea: Float64Array,
-  spare: ArrayBuffer[] = [],
+  spare: SpareMemory[] = [],
 ): PondRasters {
   const n = values.length;
   const f32 = values instanceof Float32Array;
-  const bytes = n * (f32 ? 4 : 8);
+  const size = f32 ? 4 : 8;
   const take = (): Float32Array | Float64Array => {
-    const k = spare.findIndex((b) => b.byteLength >= bytes);
+    const k = spare.findIndex((b) => b.byteLength >= n * size && b.byteOffset % size === 0);
     if (k >= 0) {
-      const buf = spare.splice(k, 1)[0];
-      return f32 ? new Float32Array(buf, 0, n) : new Float64Array(buf, 0, n);
+      const b = spare.splice(k, 1)[0];
+      return f32 ? new Float32Array(b.buffer, b.byteOffset, n) : new Float64Array(b.buffer, b.byteOffset, n);
     }
     return f32 ? new Float32Array(n) : new Float64Array(n);
   };

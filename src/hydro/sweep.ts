@@ -1,15 +1,19 @@
 /**
  * The depression sweep: one union-find pass over the cells in (value, index) order — the same
- * order, neighbour graph and outside vertex ω as the join tree of src/morse — that also keeps,
- * for every tree node, the running sums a volume needs:
- *   cells N, Σ a (area), Σ a·(z − z0), and how many of the latest cells share the top value
- * (they lie exactly at the spill level and hold no water).
- * At the pass where a component meets another one its sums are final, so its volume at the
- * spill level h is  V = (h − z0)·Σa − Σa·(z − z0)  without a second pass over its cells.
- * Per cell it records the node whose component the cell joined (Int32 label).
+ * order, neighbour graph and outside vertex ω as the join tree of src/morse — that records the
+ * tree of components (pits, the passes where components meet, the pass where each one reaches
+ * the outside) and, per cell, the node whose component the cell joined (Int32 label).
+ *
+ * The volume sums then come from one pass over the cells in storage order (sequential, so
+ * cheap), added up the tree: for every node, its cells N, Σ a (area), Σ a·(z − z0), and the
+ * cells that lie exactly at its spill level (ties on the rim; they hold no water). With these,
+ * the volume at the spill level h is  V = (h − z0)·Σa − Σa·(z − z0)  — no pass per depression.
  *
  * Node 0 is ω (the outside: grid edge and draining nodata). Nodes are numbered in sweep order,
  * so a child always has a smaller number than its parent.
+ *
+ * Memory: the union-find parent and the label of a cell sit side by side (one cache line holds
+ * both for a cell and its row neighbours), 8 bytes per cell, plus one byte "swept" flag.
  */
 import type { GridComplex } from '../surface/complex.js';
 
@@ -28,23 +32,22 @@ export interface DepressionSweep {
   entry: Int32Array;
   /** Node that spilled to the outside → the neighbour of the spill cell in the outside's component, or −2 when the spill cell touches an outlet itself. */
   to: Int32Array;
-  /** Node → number of cells of its component when it spilled. */
-  cells: Float64Array;
-  /** Node → Σ a over its cells (a = row weight, see `rowArea`). */
-  sumA: Float64Array;
-  /** Node → Σ a·(z − z0). */
-  sumAz: Float64Array;
-  /** Node → value of the latest cell joined. */
-  lastZ: Float64Array;
-  /** Node → cells (and Σ a) at that latest value. */
-  tieCells: Float64Array;
-  tieA: Float64Array;
+  /** Cell → node whose component it joined (0 = the outside); undefined on nodata cells. */
+  label: Int32Array;
+  /** Memory free after the sweep (the union-find half of the cell array), for reuse. */
+  spare: { buffer: ArrayBuffer; byteOffset: number; byteLength: number };
+}
+
+export interface NodeSums {
   /** Offset subtracted from every value in the sums (the lowest value), for precision. */
   z0: number;
-  /** Cell → node whose component it joined: 0 = the outside, −1 = nodata. */
-  label: Int32Array;
-  /** The union-find array (length n + 1), handed back so its memory can be reused. */
-  scratch: Int32Array;
+  /** Node → cells of its component when it spilled, Σ a, Σ a·(z − z0). */
+  cells: Float64Array;
+  sumA: Float64Array;
+  sumAz: Float64Array;
+  /** Node → cells (and Σ a) of its component exactly at its spill level. */
+  tieCells: Float64Array;
+  tieA: Float64Array;
 }
 
 /** Ring offsets (dcol, drow) of the sublevel graph, as in src/surface/complex.ts. */
@@ -99,41 +102,37 @@ function groupRepresentatives(conn: 4 | 6 | 8): { dc: number[]; dr: number[]; re
 
 /** Union-find value of a cell not swept yet (or nodata, which is never swept). */
 const UNSWEPT = -0x80000000;
-/** Fields of a node's record in the interleaved Float64 statistics (one cache line per node). */
-const STRIDE = 8, CELLS = 0, SUMA = 1, SUMAZ = 2, LASTZ = 3, TIEN = 4, TIEA = 5;
 
 /**
- * @param cx      the grid complex (open boundary) — its ω-adjacency and neighbour graph are used
- * @param order   ascending (value, index) order of the valid cells (src/morse/order.ts)
- * @param rowArea weight of each row's cells (ignored when `uniform`: every cell weighs 1 and the caller scales)
+ * @param cx    the grid complex (open boundary) — its ω-adjacency and neighbour graph are used
+ * @param order ascending (value, index) order of the valid cells (src/morse/order.ts)
  */
-export function sweepDepressions(cx: GridComplex, order: Uint32Array, rowArea: Float64Array, uniform: boolean): DepressionSweep {
+export function sweepDepressions(cx: GridComplex, order: Uint32Array): DepressionSweep {
   const values = cx.values;
   const n = cx.n, w = cx.w, h = cx.h;
   const omegaAdj = cx.omegaAdj;
   if (omegaAdj === null) throw new Error('internal: the depression sweep needs the open boundary');
   const m = order.length;
-  const z0 = m > 0 ? values[order[0]] : 0;
 
   const { dc, dr, reps } = groupRepresentatives(cx.connectivity);
   const rs = dc.length;
   const roff = new Int32Array(rs);
   for (let q = 0; q < rs; q++) roff[q] = dr[q] * w + dc[q];
 
-  const label = new Int32Array(n);
+  // cell i: cv[2i] union-find parent (UNSWEPT, a cell, or −1 − node at a root), cv[2i + 1] label.
+  // Until the cell is swept its label slot holds its ω-adjacency. Entry 2n is ω's root (node 0).
+  const cv = new Int32Array(2 * n + 2);
+  for (let i = 0; i < n; i++) { cv[2 * i] = UNSWEPT; cv[2 * i + 1] = omegaAdj[i]; }
+  cv[2 * n] = -1;
   const swept = new Uint8Array(n);
-  const uf = new Int32Array(n + 1).fill(UNSWEPT);
-  uf[n] = -1; // ω's root holds node 0
 
   let cap = 1024;
   let vertex = new Int32Array(cap), birth = new Int32Array(cap), parent = new Int32Array(cap);
   let spill = new Int32Array(cap), entry = new Int32Array(cap), to = new Int32Array(cap);
-  let st = new Float64Array(cap * STRIDE);
   const grow = () => {
     cap *= 2;
     const gi = (a: Int32Array) => { const b = new Int32Array(cap); b.set(a); return b; };
     vertex = gi(vertex); birth = gi(birth); parent = gi(parent); spill = gi(spill); entry = gi(entry); to = gi(to);
-    const b = new Float64Array(cap * STRIDE); b.set(st); st = b;
   };
   vertex[0] = -1; birth[0] = -1; parent[0] = -1; spill[0] = -1; entry[0] = -1; to[0] = -1;
   let count = 1;
@@ -144,13 +143,13 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array, rowArea: F
 
   for (let s = 0; s < m; s++) {
     const v = order[s];
-    const z = values[v];
     const r = (v / w) | 0;
     const c = v - r * w;
     let nr = 0;
     if (c > 0 && c < w1 && r > 0 && r < h1) {
       let mask = 0;
-      for (let q = 0; q < rs; q++) mask |= swept[v + roff[q]] << q; // branch-free: the flags are unpredictable
+      // branch-free (the flags are unpredictable): swept[j] is 0, or 1 + the union-find rank
+      for (let q = 0; q < rs; q++) mask |= ((swept[v + roff[q]] + 255) >> 8) << q;
       let rep = reps[mask];
       while (rep !== 0) {
         const q = 31 - Math.clz32(rep & -rep);
@@ -158,11 +157,11 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array, rowArea: F
         const j = v + roff[q];
         let x = j;
         for (;;) {
-          const p = uf[x];
+          const p = cv[2 * x];
           if (p < 0) break;
-          const gp = uf[p];
+          const gp = cv[2 * p];
           if (gp < 0) { x = p; break; }
-          uf[x] = gp;
+          cv[2 * x] = gp;
           x = gp;
         }
         let t = 0;
@@ -173,14 +172,14 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array, rowArea: F
       const k = cx.sublevelNbrs(v, nbr);
       for (let q = 0; q < k; q++) {
         const j = nbr[q];
-        if (uf[j] === UNSWEPT) continue;
+        if (cv[2 * j] === UNSWEPT) continue;
         let x = j;
         for (;;) {
-          const p = uf[x];
+          const p = cv[2 * x];
           if (p < 0) break;
-          const gp = uf[p];
+          const gp = cv[2 * p];
           if (gp < 0) { x = p; break; }
-          uf[x] = gp;
+          cv[2 * x] = gp;
           x = gp;
         }
         let t = 0;
@@ -189,34 +188,24 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array, rowArea: F
       }
     }
     swept[v] = 1;
-    const atOutlet = omegaAdj[v] === 1;
+    const atOutlet = cv[2 * v + 1] === 1;
     if (atOutlet) {
       let t = 0;
       while (t < nr && roots[t] !== n) t++;
       if (t === nr) { roots[nr] = n; ents[nr++] = -2; }
     }
-    const a = uniform ? 1 : rowArea[r];
-    const zr = z - z0;
 
     if (nr === 0) {
       // a pit: a new component
       if (count === cap) grow();
       const k = count++;
       vertex[k] = v; birth[k] = v; parent[k] = -1; spill[k] = -1; entry[k] = -1; to[k] = -1;
-      const b = k * STRIDE;
-      st[b + CELLS] = 1; st[b + SUMA] = a; st[b + SUMAZ] = a * zr; st[b + LASTZ] = z; st[b + TIEN] = 1; st[b + TIEA] = a;
-      uf[v] = -1 - k;
-      label[v] = k;
+      cv[2 * v] = -1 - k;
+      cv[2 * v + 1] = k;
     } else if (nr === 1) {
       const R = roots[0];
-      const k = -1 - uf[R];
-      uf[v] = R;
-      label[v] = k;
-      if (k !== 0) {
-        const b = k * STRIDE;
-        st[b + CELLS] += 1; st[b + SUMA] += a; st[b + SUMAZ] += a * zr;
-        if (st[b + LASTZ] === z) { st[b + TIEN] += 1; st[b + TIEA] += a; } else { st[b + LASTZ] = z; st[b + TIEN] = 1; st[b + TIEA] = a; }
-      }
+      cv[2 * v] = R;
+      cv[2 * v + 1] = -1 - cv[2 * R];
     } else {
       let omegaAt = -1;
       for (let t = 0; t < nr; t++) if (roots[t] === n) { omegaAt = t; break; }
@@ -226,53 +215,83 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array, rowArea: F
         for (let t = 0; t < nr; t++) {
           if (t === omegaAt) continue;
           const R = roots[t];
-          const k = -1 - uf[R];
+          const k = -1 - cv[2 * R];
           parent[k] = 0; spill[k] = v; entry[k] = ents[t]; to[k] = toCell;
-          uf[R] = n;
+          cv[2 * R] = n;
         }
-        uf[v] = n;
-        label[v] = 0;
+        cv[2 * v] = n;
+        cv[2 * v + 1] = 0;
       } else {
-        // components meet at a pass: a new node over them
+        // components meet at a pass: a new node over them (union by rank for the union-find)
         if (count === cap) grow();
         const k = count++;
-        let top = roots[0], topCells = -1;
-        let eb = -1, ebz = Infinity;
-        let N = 1, SA = a, SAZ = a * zr, TN = 1, TA = a;
+        let top = roots[0], eb = -1, ebz = Infinity;
         for (let t = 0; t < nr; t++) {
           const R = roots[t];
-          const ch = -1 - uf[R];
+          const ch = -1 - cv[2 * R];
           parent[ch] = k; spill[ch] = v; entry[ch] = ents[t]; to[ch] = -1;
-          const b = ch * STRIDE;
-          const cells = st[b + CELLS];
-          N += cells; SA += st[b + SUMA]; SAZ += st[b + SUMAZ];
-          if (st[b + LASTZ] === z) { TN += st[b + TIEN]; TA += st[b + TIEA]; }
           const bi = birth[ch], bz = values[bi];
           if (bz < ebz || (bz === ebz && bi < eb)) { eb = bi; ebz = bz; }
-          if (cells > topCells) { top = R; topCells = cells; }
+          if (swept[R] > swept[top]) top = R;
         }
         vertex[k] = v; birth[k] = eb; parent[k] = -1; spill[k] = -1; entry[k] = -1; to[k] = -1;
-        const b = k * STRIDE;
-        st[b + CELLS] = N; st[b + SUMA] = SA; st[b + SUMAZ] = SAZ; st[b + LASTZ] = z; st[b + TIEN] = TN; st[b + TIEA] = TA;
-        for (let t = 0; t < nr; t++) if (roots[t] !== top) uf[roots[t]] = top;
-        uf[top] = -1 - k;
-        uf[v] = top;
-        label[v] = k;
+        for (let t = 0; t < nr; t++) {
+          const R = roots[t];
+          if (R === top) continue;
+          cv[2 * R] = top;
+          if (swept[R] === swept[top] && swept[top] < 255) swept[top]++;
+        }
+        cv[2 * top] = -1 - k;
+        cv[2 * v] = top;
+        cv[2 * v + 1] = k;
       }
     }
   }
+  // labels into the first half of the cell array (reading ahead of writing), the rest is free
+  for (let i = 0; i < n; i++) cv[i] = cv[2 * i + 1];
   const cut = (a: Int32Array): Int32Array => a.slice(0, count);
-  const field = (f: number): Float64Array => {
-    const out = new Float64Array(count);
-    for (let k = 0; k < count; k++) out[k] = st[k * STRIDE + f];
-    return out;
-  };
   return {
     count,
     vertex: cut(vertex), birth: cut(birth), parent: cut(parent), spill: cut(spill), entry: cut(entry), to: cut(to),
-    cells: field(CELLS), sumA: field(SUMA), sumAz: field(SUMAZ), lastZ: field(LASTZ), tieCells: field(TIEN), tieA: field(TIEA),
-    z0,
-    label,
-    scratch: uf,
+    label: new Int32Array(cv.buffer, 0, n),
+    spare: { buffer: cv.buffer as ArrayBuffer, byteOffset: 4 * n, byteLength: 4 * (n + 2) },
   };
+}
+
+/**
+ * Per-node sums from the labels, in one pass over the cells in storage order, then added up the
+ * tree (children have smaller numbers than their parents).
+ * @param rowArea weight of each row's cells (ignored when `uniform`: every cell weighs 1)
+ */
+export function nodeSums(sw: DepressionSweep, values: Float32Array | Float64Array, width: number, rowArea: Float64Array, uniform: boolean): NodeSums {
+  const K = sw.count, n = values.length;
+  const height = n / width;
+  const cells = new Float64Array(K), sumA = new Float64Array(K), sumAz = new Float64Array(K);
+  const tieCells = new Float64Array(K), tieA = new Float64Array(K);
+  const spillZ = new Float64Array(K);
+  for (let k = 1; k < K; k++) spillZ[k] = sw.spill[k] >= 0 ? values[sw.spill[k]] : Infinity;
+  let z0 = Infinity;
+  for (let i = 0; i < n; i++) { const z = values[i]; if (z < z0) z0 = z; }
+  if (z0 === Infinity) z0 = 0;
+  const label = sw.label;
+  for (let r = 0, i = 0; r < height; r++) {
+    const a = uniform ? 1 : rowArea[r];
+    for (let c = 0; c < width; c++, i++) {
+      const z = values[i];
+      if (z !== z) continue;
+      const k = label[i];
+      if (k === 0) continue;
+      cells[k] += 1; sumA[k] += a; sumAz[k] += a * (z - z0);
+      if (z === spillZ[k]) { tieCells[k] += 1; tieA[k] += a; }
+    }
+  }
+  const parent = sw.parent;
+  for (let k = 1; k < K; k++) {
+    const p = parent[k];
+    if (p <= 0) continue;
+    cells[p] += cells[k]; sumA[p] += sumA[k]; sumAz[p] += sumAz[k];
+    // a child's cells at its spill level lie at the parent's spill level only when the two are equal
+    if (spillZ[k] === spillZ[p]) { tieCells[p] += tieCells[k]; tieA[p] += tieA[k]; }
+  }
+  return { z0, cells, sumA, sumAz, tieCells, tieA };
 }
