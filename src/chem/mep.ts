@@ -11,7 +11,9 @@
  *    φᵢ ← φᵢ − Δt ∇V(φᵢ), then redistributes the images at equal arc length along the polyline
  *    through them. Ends pinned to a named minimum stay there; an end without one is free and
  *    settles into the nearest minimum. The iteration stops when no image moves more than a small
- *    fraction of the sample spacing in an iteration.
+ *    fraction of the sample spacing in an iteration ('converged'), or — on a rough surface where
+ *    images keep shuffling between small bumps — when the highest and lowest energies on the
+ *    string have stopped changing ('stalled', reported as such).
  * 3. The highest point on the converged string (the polyline sampled finely) is reported; it
  *    should coincide with the refined transition state.
  *
@@ -23,7 +25,7 @@ import { newSample, type Field } from './field.js';
 export interface PathOptions {
   /** Number of images on the string; default 81. */
   images?: number;
-  /** Iteration limit of the string method; default 4000. */
+  /** Iteration limit of the string method; default 2000. */
   maxIterations?: number;
   /** Convergence: largest image displacement per iteration, in sample spacings; default 1e-4. */
   tolerance?: number;
@@ -36,7 +38,7 @@ export interface PathPoint {
   energy: number;
 }
 
-export type PathStatus = 'converged' | 'not-converged' | 'left-fit' | 'no-fit';
+export type PathStatus = 'converged' | 'stalled' | 'not-converged' | 'left-fit' | 'no-fit';
 
 export interface MinimumEnergyPath {
   status: PathStatus;
@@ -118,7 +120,7 @@ export type EndTarget = (x: number, y: number) => [number, number] | null;
  */
 export function minimumEnergyPath(field: Field, tx: number, ty: number, vx: number, vy: number, opts: PathOptions = {}, endTarget: EndTarget = () => null): MinimumEnergyPath {
   const n = opts.images ?? 81;
-  const maxIt = opts.maxIterations ?? 4000;
+  const maxIt = opts.maxIterations ?? 2000;
   const h = field.spacing;
   const tol = (opts.tolerance ?? 1e-4) * h;
   const s = newSample();
@@ -161,10 +163,16 @@ export function minimumEnergyPath(field: Field, tx: number, ty: number, vx: numb
   let status: PathStatus = 'not-converged';
   let message: string | null = null;
   let it = 0;
+  // on a rough surface the images may keep shuffling between small bumps while the path's profile
+  // no longer changes: watch the highest and lowest image energies every 50 iterations
+  let hiE = -Infinity, loE = Infinity, lastHi = NaN, lastLo = NaN, moved = Infinity;
   for (; it < maxIt; it++) {
     let left = false;
+    hiE = -Infinity; loE = Infinity;
     for (let k = 0; k < n; k++) {
       if (!field.evaluate(X[k], Y[k], s)) { left = true; break; }
+      if (s[0] > hiE) hiE = s[0];
+      if (s[0] < loE) loE = s[0];
       if ((k === 0 && ta) || (k === n - 1 && tb)) { X2[k] = X[k]; Y2[k] = Y[k]; continue; }
       // each image steps with its own Δt = 1/Lᵢ (Lᵢ ≥ the largest |eigenvalue| of its Hessian): a
       // diagonal preconditioning of the gradient flow that leaves its fixed point, the string with no
@@ -182,13 +190,23 @@ export function minimumEnergyPath(field: Field, tx: number, ty: number, vx: numb
       break;
     }
     resample(X2, Y2, n, Xn, Yn, work);
-    let moved = 0;
+    moved = 0;
     for (let k = 0; k < n; k++) moved = Math.max(moved, Math.hypot(Xn[k] - X[k], Yn[k] - Y[k]));
     const tx0 = X, ty0 = Y;
     X = Xn; Y = Yn; Xn = tx0; Yn = ty0;
     if (moved < tol) { status = 'converged'; it++; break; }
+    if (it > 0 && it % 50 === 0) {
+      const scale = 1e-5 * Math.max(hiE - loE, 1e-300);
+      if (it >= 500 && Math.abs(hiE - lastHi) <= scale && Math.abs(loE - lastLo) <= scale) {
+        status = 'stalled';
+        message = `the images still move up to ${Number((moved / h).toPrecision(2))} sample spacings per iteration (a rough surface), but the highest and lowest energies on the string have not changed by 1e-5 of its energy range in 50 iterations`;
+        it++;
+        break;
+      }
+      lastHi = hiE; lastLo = loE;
+    }
   }
-  if (status === 'not-converged') message = `the string method did not settle in ${maxIt} iterations`;
+  if (status === 'not-converged') message = `the string method did not settle in ${maxIt} iterations (images still move up to ${Number((moved / h).toPrecision(2))} sample spacings per iteration)`;
 
   const images: PathPoint[] = [];
   let cum = 0;
