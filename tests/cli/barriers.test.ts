@@ -152,6 +152,21 @@ describe('sill barriers (command line)', () => {
     expect(rep.transitionStates.filter((t: { onEdge: boolean }) => !t.onEdge)).toHaveLength(2);
   });
 
+  it('sill demo runs barriers on the invented periodic scan', () => {
+    const out = join(dir, 'demo');
+    const r = sill(['demo', '-o', out, '--quiet']);
+    expect(r.code).toBe(0);
+    const rep = JSON.parse(readFileSync(join(out, 'dihedral-barriers', 'report.json'), 'utf8'));
+    expect(rep.schema).toBe('sill/barriers@1');
+    expect(rep.boundary).toBe('periodic');
+    expect(rep.units.input).toBe('kJ/mol');
+    // the invented scan has three wells (src/demo/generate.ts); on a torus χ = 0
+    expect(rep.minima).toHaveLength(3);
+    expect(rep.euler).toMatchObject({ characteristic: 0, holds: true });
+    for (const t of rep.transitionStates) expect(t.path.agrees).toBe(true);
+    expect(existsSync(join(out, 'dihedral-barriers', 'disconnectivity.svg'))).toBe(true);
+  });
+
   it('bad input: one line on stderr, exit 2, nothing written', () => {
     const cases: [string[], RegExp][] = [
       [['barriers', join(dir, 'mb.txt'), '--units', 'furlongs'], /--units must be one of kJ\/mol, kcal\/mol, eV, hartree, kT, K, none, got 'furlongs'/],
