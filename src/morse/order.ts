@@ -2,6 +2,10 @@
  * Total order of the valid vertices by (value, index) — simulation of simplicity.
  * A stable LSD radix sort on the IEEE-754 bit pattern, O(n) for typed input.
  * NaN (nodata) vertices are left out of the order.
+ *
+ * Memory: each pass keeps only the key bits later passes still need (a full key, then the
+ * top bits in 16-bit words), and the last pass writes into a buffer that is free by then,
+ * so a float32 sort peaks at 14 bytes per vertex and a float64 sort at 18, output included.
  */
 
 /** Map float32 bits to an unsigned key with the same order (negative floats reversed). */
@@ -14,71 +18,122 @@ export function sortOrder(values: Float32Array | Float64Array): Uint32Array {
   return values instanceof Float32Array ? sortF32(values) : sortF64(values);
 }
 
+/** Three passes of 11, 11 and 10 bits. */
 function sortF32(values: Float32Array): Uint32Array {
   const n = values.length;
   const bits = new Uint32Array(values.buffer, values.byteOffset, n);
-  let m = 0;
-  for (let i = 0; i < n; i++) if (values[i] === values[i]) m++;
-  let idx = new Uint32Array(m);
-  let keys = new Uint32Array(m);
   const h0 = new Uint32Array(2048), h1 = new Uint32Array(2048), h2 = new Uint32Array(1024);
-  for (let i = 0, k = 0; i < n; i++) {
-    if (values[i] !== values[i]) continue;
+  let m = 0;
+  for (let i = 0; i < n; i++) {
+    const x = values[i];
+    if (x !== x) continue;
     const key = f32key(bits[i]);
-    idx[k] = i; keys[k++] = key;
     h0[key & 2047]++; h1[(key >>> 11) & 2047]++; h2[key >>> 22]++;
+    m++;
   }
-  let idx2 = new Uint32Array(m);
-  let keys2 = new Uint32Array(m);
-  const passes: [Uint32Array, number, number][] = [[h0, 0, 2047], [h1, 11, 2047], [h2, 22, 1023]];
-  for (const [h, shift, mask] of passes) {
-    if (skipPass(h, m)) continue;
-    prefix(h);
-    for (let k = 0; k < m; k++) {
-      const key = keys[k];
-      const pos = h[(key >>> shift) & mask]++;
-      idx2[pos] = idx[k]; keys2[pos] = key;
+  // pass 1: values → (index, full key), by bits 0–10
+  const idxA = new Uint32Array(m);
+  const keyA = new Uint32Array(m);
+  if (skipPass(h0, m)) {
+    for (let i = 0, k = 0; i < n; i++) {
+      const x = values[i];
+      if (x !== x) continue;
+      idxA[k] = i; keyA[k++] = f32key(bits[i]);
     }
-    [idx, idx2] = [idx2, idx];
-    [keys, keys2] = [keys2, keys];
+  } else {
+    prefix(h0);
+    for (let i = 0; i < n; i++) {
+      const x = values[i];
+      if (x !== x) continue;
+      const key = f32key(bits[i]);
+      const pos = h0[key & 2047]++;
+      idxA[pos] = i; keyA[pos] = key;
+    }
   }
-  return idx;
+  // pass 2: → (index, top 10 bits), by bits 11–21
+  const idxB = new Uint32Array(m);
+  const topB = new Uint16Array(m);
+  if (skipPass(h1, m)) {
+    for (let k = 0; k < m; k++) { idxB[k] = idxA[k]; topB[k] = keyA[k] >>> 22; }
+  } else {
+    prefix(h1);
+    for (let k = 0; k < m; k++) {
+      const key = keyA[k];
+      const pos = h1[(key >>> 11) & 2047]++;
+      idxB[pos] = idxA[k]; topB[pos] = key >>> 22;
+    }
+  }
+  // pass 3: → index, by bits 22–31, written over the full keys (no longer needed)
+  if (skipPass(h2, m)) return idxB;
+  prefix(h2);
+  const out = keyA;
+  for (let k = 0; k < m; k++) out[h2[topB[k]]++] = idxB[k];
+  return out;
 }
 
+/** Four passes of 16 bits. */
 function sortF64(values: Float64Array): Uint32Array {
   const n = values.length;
   const words = new Uint32Array(values.buffer, values.byteOffset, 2 * n);
+  const h0 = new Uint32Array(65536), h1 = new Uint32Array(65536), h2 = new Uint32Array(65536), h3 = new Uint32Array(65536);
   let m = 0;
-  for (let i = 0; i < n; i++) if (values[i] === values[i]) m++;
-  let idx = new Uint32Array(m);
-  let hi = new Uint32Array(m), lo = new Uint32Array(m);
-  const hs = [new Uint32Array(65536), new Uint32Array(65536), new Uint32Array(65536), new Uint32Array(65536)];
-  for (let i = 0, k = 0; i < n; i++) {
-    if (values[i] !== values[i]) continue;
+  for (let i = 0; i < n; i++) {
+    const x = values[i];
+    if (x !== x) continue;
     // little-endian: words[2i] is the low word, words[2i+1] the high word with the sign bit
     let h = words[2 * i + 1], l = words[2 * i];
     if (h & 0x80000000) { h = ~h >>> 0; l = ~l >>> 0; } else { h = (h | 0x80000000) >>> 0; }
-    idx[k] = i; hi[k] = h; lo[k++] = l;
-    hs[0][l & 0xffff]++; hs[1][l >>> 16]++; hs[2][h & 0xffff]++; hs[3][h >>> 16]++;
+    h0[l & 0xffff]++; h1[l >>> 16]++; h2[h & 0xffff]++; h3[h >>> 16]++;
+    m++;
   }
-  let idx2 = new Uint32Array(m), hi2 = new Uint32Array(m), lo2 = new Uint32Array(m);
-  for (let p = 0; p < 4; p++) {
-    const h = hs[p];
-    if (skipPass(h, m)) continue;
-    prefix(h);
-    const src = p < 2 ? lo : hi;
-    const shift = p % 2 === 0 ? 0 : 16;
+  // pass 1: values → (index, high word, bits 16–31 of the low word), by bits 0–15
+  const idxA = new Uint32Array(m);
+  const hiA = new Uint32Array(m);
+  const midA = new Uint16Array(m);
+  const skip0 = skipPass(h0, m);
+  if (!skip0) prefix(h0);
+  for (let i = 0, k = 0; i < n; i++) {
+    const x = values[i];
+    if (x !== x) continue;
+    let h = words[2 * i + 1], l = words[2 * i];
+    if (h & 0x80000000) { h = ~h >>> 0; l = ~l >>> 0; } else { h = (h | 0x80000000) >>> 0; }
+    const pos = skip0 ? k++ : h0[l & 0xffff]++;
+    idxA[pos] = i; hiA[pos] = h; midA[pos] = l >>> 16;
+  }
+  // pass 2: → (index, high word), by bits 16–31
+  const idxB = new Uint32Array(m);
+  const hiB = new Uint32Array(m);
+  if (skipPass(h1, m)) {
+    idxB.set(idxA); hiB.set(hiA);
+  } else {
+    prefix(h1);
     for (let k = 0; k < m; k++) {
-      const pos = h[(src[k] >>> shift) & 0xffff]++;
-      idx2[pos] = idx[k]; hi2[pos] = hi[k]; lo2[pos] = lo[k];
+      const pos = h1[midA[k]]++;
+      idxB[pos] = idxA[k]; hiB[pos] = hiA[k];
     }
-    [idx, idx2] = [idx2, idx];
-    [hi, hi2] = [hi2, hi];
-    [lo, lo2] = [lo2, lo];
   }
-  return idx;
+  // pass 3: → (index, top 16 bits), by bits 32–47, reusing the pass-1 buffers
+  const idxC = idxA;
+  const topC = midA;
+  if (skipPass(h2, m)) {
+    for (let k = 0; k < m; k++) { idxC[k] = idxB[k]; topC[k] = hiB[k] >>> 16; }
+  } else {
+    prefix(h2);
+    for (let k = 0; k < m; k++) {
+      const h = hiB[k];
+      const pos = h2[h & 0xffff]++;
+      idxC[pos] = idxB[k]; topC[pos] = h >>> 16;
+    }
+  }
+  // pass 4: → index, by bits 48–63, written over the pass-1 high words
+  if (skipPass(h3, m)) return idxC;
+  prefix(h3);
+  const out = hiA;
+  for (let k = 0; k < m; k++) out[h3[topC[k]]++] = idxC[k];
+  return out;
 }
 
+/** True when every key falls in one bucket, so the pass would not move anything. */
 function skipPass(h: Uint32Array, m: number): boolean {
   for (let i = 0; i < h.length; i++) if (h[i] !== 0) return h[i] === m;
   return true;
