@@ -20,7 +20,7 @@ export function disconnectivitySvg(report: BarriersReport): string {
   const W = Math.min(2400, Math.max(520, 90 + 46 * nLeaves));
   const H = 480;
   const L = 78, R = 24, T = 34, B = 46;
-  let lo = Math.min(...energies), hi = Math.max(...energies);
+  let lo = energies.reduce((a, e) => Math.min(a, e), Infinity), hi = energies.reduce((a, e) => Math.max(a, e), -Infinity);
   if (!(hi > lo)) { lo -= 1; hi += 1; }
   const span = hi - lo;
   const top = hi + 0.08 * span;

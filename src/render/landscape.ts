@@ -104,10 +104,10 @@ export function landscapeSvg(result: BarriersResult, report: BarriersReport): st
   // band holds everything above that
   let lo = Infinity, hi = -Infinity;
   for (const v of ras.values) if (v === v) { lo = Math.min(lo, v); hi = Math.max(hi, v); }
-  const tsE = report.transitionStates.map((s) => s.refined?.energy ?? s.energy);
-  const minE = Math.min(lo, ...report.minima.map((m) => m.refined?.energy ?? m.energy));
+  const tsTop = report.transitionStates.reduce((a, s) => Math.max(a, s.refined?.energy ?? s.energy), -Infinity);
+  const minE = report.minima.reduce((a, m) => Math.min(a, m.refined?.energy ?? m.energy), lo);
   let cap = hi;
-  if (tsE.length) cap = Math.min(hi, Math.max(...tsE) + 0.5 * (Math.max(...tsE) - minE));
+  if (report.transitionStates.length) cap = Math.min(hi, tsTop + 0.5 * (tsTop - minE));
   if (!(cap > lo)) cap = hi > lo ? hi : lo + 1;
   // round levels (1, 2 or 5 × 10^k apart), the first at the lowest value so every sample is painted
   const levels = [lo, ...ticks(lo, cap, 20).filter((v) => v > lo)];

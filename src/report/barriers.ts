@@ -145,7 +145,7 @@ export function reportFromResult(r: BarriersResult, to: EnergyUnit | undefined, 
       },
     };
   };
-  const Fmin = Math.min(...r.minima.map((m) => m.basin.freeEnergy ?? Infinity));
+  const Fmin = r.minima.reduce((a, m) => Math.min(a, m.basin.freeEnergy ?? Infinity), Infinity);
   const minima: MinimumEntry[] = r.minima.map((m) => ({
     ...stationary(m),
     basin: {
