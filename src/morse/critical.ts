@@ -3,7 +3,7 @@
  * the Euler characteristic: +1 for a pit (empty lower link) or a peak, −k for a pass of
  * multiplicity k (k = 2 is a monkey saddle), 0 for a regular vertex.
  */
-import type { SurfaceComplex } from '../surface/complex.js';
+import { GridComplex, type SurfaceComplex } from '../surface/complex.js';
 import { IntList } from './growable.js';
 
 export const PIT = 1;
@@ -29,14 +29,20 @@ export function findCriticalPoints(cx: SurfaceComplex): CriticalPoints {
   const v = cx.values;
   const verts = new IntList(4096), kinds = new IntList(4096), mult = new IntList(4096);
   let pits = 0, passes = 0, peaks = 0;
-  for (let i = 0; i < cx.n; i++) {
-    if (v[i] !== v[i]) continue;
-    const c = cx.contribution(i);
-    if (c === 0) continue;
+  const add = (i: number, c: number, lowerLinkEmpty: boolean): void => {
     verts.push(i);
     if (c < 0) { kinds.push(PASS); mult.push(-c); passes -= c; }
-    else if (cx.lastLowerLinkEmpty) { kinds.push(PIT); mult.push(c); pits += c; }
+    else if (lowerLinkEmpty) { kinds.push(PIT); mult.push(c); pits += c; }
     else { kinds.push(PEAK); mult.push(c); peaks += c; }
+  };
+  if (cx instanceof GridComplex) {
+    cx.forEachCritical(add);
+  } else {
+    for (let i = 0; i < cx.n; i++) {
+      if (v[i] !== v[i]) continue;
+      const c = cx.contribution(i);
+      if (c !== 0) add(i, c, cx.lastLowerLinkEmpty);
+    }
   }
   if (cx.hasOmega) pits += 1;
   return {
@@ -59,3 +65,4 @@ export function indexOfVertex(cp: CriticalPoints, x: number): number {
   }
   return -1;
 }
+

@@ -117,6 +117,65 @@ export function buildComplex(surface: Grid | Mesh, opts: ComplexOptions = {}): S
   return new GridComplex(surface, opts.connectivity ?? 8, boundary, opts.nodataOutlet ?? true);
 }
 
+/** Which neighbour pairs of a ring are adjacent in the graph of a connectivity ('4', '6' or '8'). */
+function ringAdjacent(graph: Connectivity, dc: number[], dr: number[], a: number, b: number): boolean {
+  const x = dc[a] - dc[b], y = dr[a] - dr[b];
+  const ax = Math.abs(x), ay = Math.abs(y);
+  if (graph === 8) return Math.max(ax, ay) === 1;
+  if (graph === 4) return ax + ay === 1;
+  return ax + ay === 1 || (x === y && ax === 1);
+}
+
+/**
+ * Stencil for union-find sweeps over interior grid cells (used by the merge-tree sweep).
+ * `components[mask]`: for a set `mask` of ring positions already swept, the number of groups
+ * of them that are certainly in one component already — groups joined by graph edges between
+ * swept ring positions — counting only groups that hold a graph neighbour (a bit of `nbrMask`).
+ */
+export interface SweepStencil {
+  /** Linear offset of each ring position. */
+  offsets: Int32Array;
+  /** Ring positions that are neighbours in the sweep's graph. */
+  nbrMask: number;
+  components: Uint8Array;
+  /** For each mask, the first graph neighbour (lowest ring position) of each of those groups. */
+  representatives: Uint8Array;
+}
+
+function sweepStencil(graph: Connectivity, dc: number[], dr: number[], positions: readonly number[], w: number): SweepStencil {
+  const k = dc.length;
+  const offsets = new Int32Array(k);
+  for (let q = 0; q < k; q++) offsets[q] = dr[q] * w + dc[q];
+  let nbrMask = 0;
+  for (const q of positions) nbrMask |= 1 << q;
+  const components = new Uint8Array(1 << k);
+  const representatives = new Uint8Array(1 << k);
+  const lab = new Int8Array(k);
+  for (let mask = 0; mask < 1 << k; mask++) {
+    for (let q = 0; q < k; q++) lab[q] = mask & (1 << q) ? q : -1;
+    // propagate the smallest label along adjacencies until stable (k ≤ 8, so this is tiny)
+    for (let changed = true; changed;) {
+      changed = false;
+      for (let a = 0; a < k; a++) {
+        if (lab[a] < 0) continue;
+        for (let b = 0; b < k; b++) {
+          if (lab[b] < 0 || lab[b] <= lab[a] || !ringAdjacent(graph, dc, dr, a, b)) continue;
+          lab[b] = lab[a];
+          changed = true;
+        }
+      }
+    }
+    let groups = 0, reps = 0;
+    for (let root = 0; root < k; root++) {
+      if (lab[root] !== root) continue;
+      for (let q = 0; q < k; q++) if (lab[q] === root && nbrMask & (1 << q)) { groups++; reps |= 1 << q; break; }
+    }
+    components[mask] = groups;
+    representatives[mask] = reps;
+  }
+  return { offsets, nbrMask, components, representatives };
+}
+
 export class GridComplex implements SurfaceComplex {
   readonly surface: Grid;
   readonly n: number;
@@ -133,6 +192,8 @@ export class GridComplex implements SurfaceComplex {
   readonly h: number;
   readonly wrapX: boolean;
   readonly wrapY: boolean;
+  /** Some cell is nodata (NaN). */
+  readonly hasNodata: boolean;
   private readonly ringSize: number;
   private readonly dc: number[];
   private readonly dr: number[];
@@ -142,8 +203,11 @@ export class GridComplex implements SurfaceComplex {
   /** Open boundary with draining nodata: nodata cells are outlets. */
   private readonly ghostNodata: boolean;
   /** ring positions used by the sublevel / superlevel graphs */
-  private readonly subPos: number[];
-  private readonly supPos: number[];
+  private readonly subPos: Uint8Array;
+  private readonly supPos: Uint8Array;
+  private readonly subMask: number;
+  private readonly supMask: number;
+  private stencils: [SweepStencil | null, SweepStencil | null] = [null, null];
 
   constructor(grid: Grid, connectivity: Connectivity, boundary: Boundary, nodataOutlet: boolean) {
     if (connectivity !== 4 && connectivity !== 6 && connectivity !== 8) {
@@ -169,8 +233,10 @@ export class GridComplex implements SurfaceComplex {
     this.chi = CHI_TABLES[connectivity];
     const all = [...Array(this.ringSize).keys()];
     const orth = [0, 2, 4, 6];
-    this.subPos = connectivity === 4 ? orth : all;
-    this.supPos = connectivity === 8 ? orth : all;
+    this.subPos = Uint8Array.from(connectivity === 4 ? orth : all);
+    this.supPos = Uint8Array.from(connectivity === 8 ? orth : all);
+    this.subMask = 0; for (const k of this.subPos) this.subMask |= 1 << k;
+    this.supMask = 0; for (const k of this.supPos) this.supMask |= 1 << k;
 
     // boundary flags. Open boundary: cells beyond the grid edge (and nodata cells when they drain)
     // are outlets at −∞, all identified to the one outside vertex ω. ω-adjacent = an outlet among the
@@ -178,29 +244,47 @@ export class GridComplex implements SurfaceComplex {
     // not drain) among the superlevel-graph neighbours.
     const open = boundary === 'open';
     this.ghostNodata = open && nodataOutlet;
-    const w = this.w, h = this.h, v = this.values;
+    const w = this.w, h = this.h, v = this.values, off = this.off, rs = this.ringSize;
     const omega = open ? new Uint8Array(this.n) : null;
     const top = !open || !nodataOutlet ? new Uint8Array(this.n) : null;
-    let anyOmega = false, anyTop = false;
+    let anyNodata = false;
+    for (let i = 0; i < v.length; i++) if (v[i] !== v[i]) { anyNodata = true; break; }
+    let anyTop = false;
+    // Only cells on the grid edge or next to nodata can carry a flag.
     for (let r = 0; r < h; r++) {
+      const edgeRow = r === 0 || r === h - 1;
       for (let c = 0; c < w; c++) {
         const i = r * w + c;
-        if (v[i] !== v[i]) continue;
-        for (let k = 0; k < this.ringSize; k++) {
-          const j = this.nbrAt(c, r, k);
-          const outside = j < 0, hole = j >= 0 && v[j] !== v[j];
-          if (!outside && !hole) continue;
-          const ghost = open && (outside || this.ghostNodata);
-          if (ghost && omega !== null && this.subPos.includes(k)) { omega[i] = 1; anyOmega = true; }
-          if (!ghost && top !== null && this.supPos.includes(k)) { top[i] = 1; anyTop = true; }
+        if (!edgeRow && c > 0 && c < w - 1) {
+          if (!anyNodata) { c = w - 2; continue; }
+          let hole = false;
+          for (let k = 0; k < rs; k++) { const x = v[i + off[k]]; if (x !== x) { hole = true; break; } }
+          if (!hole) continue;
         }
+        if (v[i] !== v[i]) continue;
+        if (this.flagCell(c, r, omega, top)) anyTop = true;
       }
     }
+    this.hasNodata = anyNodata;
     this.hasOmega = open;
     this.omegaAdj = open ? omega : null;
     this.hasTop = anyTop;
     this.topAdj = anyTop ? top : null;
-    void anyOmega;
+  }
+
+  /** Set the ω / τ flags of valid cell (c, r) from its ring; true when a τ flag was set. */
+  private flagCell(c: number, r: number, omega: Uint8Array | null, top: Uint8Array | null): boolean {
+    const v = this.values, i = r * this.w + c, open = this.boundary === 'open';
+    let setTop = false;
+    for (let k = 0; k < this.ringSize; k++) {
+      const j = this.nbrAt(c, r, k);
+      const outside = j < 0, hole = j >= 0 && v[j] !== v[j];
+      if (!outside && !hole) continue;
+      const ghost = open && (outside || this.ghostNodata);
+      if (ghost && omega !== null && this.subMask & (1 << k)) omega[i] = 1;
+      if (!ghost && top !== null && this.supMask & (1 << k)) { top[i] = 1; setTop = true; }
+    }
+    return setTop;
   }
 
   /** Index of ring neighbour k of cell (c, r) with wrapping, or −1 outside the grid (nodata not checked). */
@@ -217,8 +301,9 @@ export class GridComplex implements SurfaceComplex {
     const r = (i / w) | 0, c = i - r * w;
     const hole = this.ghostNodata ? -2 : -1;
     if (c > 0 && c < w - 1 && r > 0 && r < this.h - 1) {
+      const off = this.off;
       for (let k = 0; k < rs; k++) {
-        const j = i + this.off[k];
+        const j = i + off[k];
         ring[k] = v[j] === v[j] ? j : hole;
       }
     } else {
@@ -232,15 +317,17 @@ export class GridComplex implements SurfaceComplex {
 
   sublevelNbrs(i: number, out: Int32Array): number {
     this.fillRing(i);
+    const ring = this.ring, pos = this.subPos;
     let cnt = 0;
-    for (const k of this.subPos) { const j = this.ring[k]; if (j >= 0) out[cnt++] = j; }
+    for (let q = 0; q < pos.length; q++) { const j = ring[pos[q]]; if (j >= 0) out[cnt++] = j; }
     return cnt;
   }
 
   superlevelNbrs(i: number, out: Int32Array): number {
     this.fillRing(i);
+    const ring = this.ring, pos = this.supPos;
     let cnt = 0;
-    for (const k of this.supPos) { const j = this.ring[k]; if (j >= 0) out[cnt++] = j; }
+    for (let q = 0; q < pos.length; q++) { const j = ring[pos[q]]; if (j >= 0) out[cnt++] = j; }
     return cnt;
   }
 
@@ -261,6 +348,96 @@ export class GridComplex implements SurfaceComplex {
     return 1 - chi;
   }
 
+  /**
+   * Visit every valid vertex with a non-zero contribution, in increasing index order:
+   * visit(i, contribution(i), lower link of i empty). Same results as calling contribution()
+   * on each vertex, with the interior cells done inline. Leaves lastLowerLinkEmpty as a loop
+   * over contribution() would.
+   */
+  forEachCritical(visit: (i: number, contribution: number, lowerLinkEmpty: boolean) => void): void {
+    const w = this.w, h = this.h, v = this.values, rs = this.ringSize, chi = this.chi;
+    const ghost = this.ghostNodata;
+    let last = -1;
+    const edge = (i: number): void => {
+      if (v[i] !== v[i]) return;
+      last = i;
+      const x = this.contribution(i);
+      if (x !== 0) visit(i, x, this.lastLowerLinkEmpty);
+    };
+    for (let r = 0; r < h; r++) {
+      if (r === 0 || r === h - 1 || w < 3) {
+        for (let c = 0; c < w; c++) edge(r * w + c);
+        continue;
+      }
+      const row = r * w;
+      edge(row);
+      // Interior cells, unrolled per ring. A neighbour after i in index order is lower when its
+      // value is smaller, one before i also when equal. Draining nodata counts as lower: written
+      // as !(vj >= vi), which is true for NaN.
+      const end = row + w - 1;
+      if (rs === 8 && !ghost) {
+        for (let i = row + 1; i < end; i++) {
+          const vi = v[i];
+          if (vi !== vi) continue;
+          last = i;
+          const a = i - w, b = i + w;
+          const m = +(v[i + 1] < vi) | (+(v[b + 1] < vi) << 1) | (+(v[b] < vi) << 2) | (+(v[b - 1] < vi) << 3) |
+            (+(v[i - 1] <= vi) << 4) | (+(v[a - 1] <= vi) << 5) | (+(v[a] <= vi) << 6) | (+(v[a + 1] <= vi) << 7);
+          const x = 1 - chi[m];
+          if (x !== 0) visit(i, x, m === 0);
+        }
+      } else if (rs === 8) {
+        for (let i = row + 1; i < end; i++) {
+          const vi = v[i];
+          if (vi !== vi) continue;
+          last = i;
+          const a = i - w, b = i + w;
+          const m = +(!(v[i + 1] >= vi)) | (+(!(v[b + 1] >= vi)) << 1) | (+(!(v[b] >= vi)) << 2) | (+(!(v[b - 1] >= vi)) << 3) |
+            (+(!(v[i - 1] > vi)) << 4) | (+(!(v[a - 1] > vi)) << 5) | (+(!(v[a] > vi)) << 6) | (+(!(v[a + 1] > vi)) << 7);
+          const x = 1 - chi[m];
+          if (x !== 0) visit(i, x, m === 0);
+        }
+      } else if (!ghost) {
+        for (let i = row + 1; i < end; i++) {
+          const vi = v[i];
+          if (vi !== vi) continue;
+          last = i;
+          const a = i - w, b = i + w;
+          const m = +(v[i + 1] < vi) | (+(v[b + 1] < vi) << 1) | (+(v[b] < vi) << 2) |
+            (+(v[i - 1] <= vi) << 3) | (+(v[a - 1] <= vi) << 4) | (+(v[a] <= vi) << 5);
+          const x = 1 - chi[m];
+          if (x !== 0) visit(i, x, m === 0);
+        }
+      } else {
+        for (let i = row + 1; i < end; i++) {
+          const vi = v[i];
+          if (vi !== vi) continue;
+          last = i;
+          const a = i - w, b = i + w;
+          const m = +(!(v[i + 1] >= vi)) | (+(!(v[b + 1] >= vi)) << 1) | (+(!(v[b] >= vi)) << 2) |
+            (+(!(v[i - 1] > vi)) << 3) | (+(!(v[a - 1] > vi)) << 4) | (+(!(v[a] > vi)) << 5);
+          const x = 1 - chi[m];
+          if (x !== 0) visit(i, x, m === 0);
+        }
+      }
+      edge(end);
+    }
+    if (last >= 0) this.contribution(last);
+  }
+
+  /** Stencil for the union-find sweep upward (sublevel graph) or downward (superlevel graph). */
+  sweepStencil(up: boolean): SweepStencil {
+    const slot = up ? 0 : 1;
+    let st = this.stencils[slot];
+    if (st === null) {
+      const conn = this.connectivity;
+      const graph: Connectivity = conn === 6 ? 6 : up ? conn : conn === 8 ? 4 : 8;
+      st = sweepStencil(graph, this.dc, this.dr, Array.from(up ? this.subPos : this.supPos), this.w);
+      this.stencils[slot] = st;
+    }
+    return st;
+  }
+
   onEdge(i: number): boolean {
     return (this.omegaAdj !== null && this.omegaAdj[i] === 1) || (this.topAdj !== null && this.topAdj[i] === 1);
   }
@@ -272,16 +449,11 @@ export class GridComplex implements SurfaceComplex {
    * outlets G (frame, and draining nodata) identified to ω: χ(P/G) = χ(P) − χ(G) + 1.
    */
   countSimplices(): SimplexCounts {
-    const v = this.values, w = this.w, h = this.h;
-    const isValid = (c: number, r: number) => c >= 0 && r >= 0 && c < w && r < h && v[r * w + c] === v[r * w + c];
     let dims: number[];
     if (this.boundary !== 'open') {
-      dims = this.countWith(isValid, false);
+      dims = this.countSets([SET_VALID], false)[0];
     } else {
-      const isGhost = (c: number, r: number) =>
-        c < 0 || r < 0 || c >= w || r >= h || (this.ghostNodata && v[r * w + c] !== v[r * w + c]);
-      const P = this.countWith((c, r) => isValid(c, r) || isGhost(c, r), true);
-      const G = this.countWith(isGhost, true);
+      const [P, G] = this.countSets([SET_VALID_OR_OUTLET, SET_OUTLET], true);
       // cells of P/G: those of P not in G, plus the vertex ω
       dims = P.map((x, d) => x - G[d]);
       dims[0] += 1;
@@ -291,47 +463,116 @@ export class GridComplex implements SurfaceComplex {
     return { byDimension: dims, characteristic: chi };
   }
 
-  private countWith(inSet: (c: number, r: number) => boolean, pad: boolean): number[] {
-    const w = this.w, h = this.h, conn = this.connectivity;
-    let V = 0, E = 0, F = 0, T = 0;
+  /**
+   * Count the vertices, edges, triangles (squares for connectivity 4) and tetrahedra of the
+   * subcomplexes spanned by some vertex sets, two rows at a time. Rows are bit sets (32 cells a
+   * word), so every count is a population count of a few ANDs of a row, its neighbour to the
+   * right, the next row and that row's right neighbour.
+   */
+  private countSets(sets: number[], pad: boolean): number[][] {
+    const w = this.w, h = this.h, v = this.values, conn = this.connectivity;
+    const wrapX = this.wrapX, wrapY = this.wrapY, ghost = this.ghostNodata;
     const c0 = pad ? -1 : 0, r0 = pad ? -1 : 0;
     const c1 = pad ? w + 1 : w, r1 = pad ? h + 1 : h;
-    const wrapC = (c: number) => (this.wrapX ? (c + w) % w : c);
-    const wrapR = (r: number) => (this.wrapY ? (r + h) % h : r);
-    const has = (c: number, r: number) => {
-      const cc = wrapC(c), rr = wrapR(r);
-      return cc >= c0 && cc < c1 && rr >= r0 && rr < r1 && inSet(cc, rr);
+    const len = c1 - c0;
+    const bcols = wrapX ? len : len - 1;
+    const br1 = wrapY ? h : r1 - 1;
+    // words per row: bits 0 … len (bit len holds the wrapped first cell), plus a zero word
+    const nw = ((len + 32) >>> 5) + 1;
+    const bitsBelow = (n: number): Int32Array => {
+      const m = new Int32Array(nw);
+      for (let k = 0; k < nw; k++) {
+        const lo = k * 32;
+        m[k] = n >= lo + 32 ? -1 : n <= lo ? 0 : (1 << (n - lo)) - 1;
+      }
+      return m;
     };
-    for (let r = r0; r < r1; r++) {
-      for (let c = c0; c < c1; c++) {
-        if (!inSet(c, r)) continue;
-        V++;
-        if (has(c + 1, r) && (this.wrapX || c + 1 < c1)) E++;
-        if (has(c, r + 1) && (this.wrapY || r + 1 < r1)) E++;
-      }
-    }
-    const bc1 = this.wrapX ? w : c1 - 1, br1 = this.wrapY ? h : r1 - 1;
-    for (let r = r0; r < br1; r++) {
-      for (let c = c0; c < bc1; c++) {
-        const a = has(c, r), b = has(c + 1, r), d = has(c, r + 1), e = has(c + 1, r + 1);
-        const cnt = +a + +b + +d + +e;
-        if (conn === 8) {
-          if (a && e) E++;
-          if (b && d) E++;
-          if (cnt === 3) F += 1;
-          if (cnt === 4) { F += 4; T += 1; }
-        } else if (conn === 6) {
-          if (a && e) E++;
-          if (a && b && e) F++;
-          if (a && d && e) F++;
-        } else if (cnt === 4) {
-          F++;
+    const lenMask = bitsBelow(len), blockMask = bitsBelow(bcols);
+    const inGrid = new Int32Array(nw);
+    for (let x = 0; x < len; x++) if (c0 + x >= 0 && c0 + x < w) inGrid[x >>> 5] |= 1 << (x & 31);
+    const valid = new Int32Array(nw);
+    const ns = sets.length;
+    let rowsA = sets.map(() => new Int32Array(nw)), rowsB = sets.map(() => new Int32Array(nw));
+    const firsts = sets.map(() => new Int32Array(nw));
+    const counts = sets.map(() => [0, 0, 0, 0]);
+    const fill = (r: number, rows: Int32Array[]): void => {
+      valid.fill(0);
+      const inside = r >= 0 && r < h;
+      if (inside) {
+        const base = r * w, xoff = -c0;
+        let acc = 0;
+        for (let c = 0; c < w; c++) {
+          const z = v[base + c], x = c + xoff;
+          if (z === z) acc |= 1 << (x & 31);
+          if ((x & 31) === 31) { valid[x >>> 5] = acc; acc = 0; }
         }
+        const xl = w - 1 + xoff;
+        if ((xl & 31) !== 31) valid[xl >>> 5] = acc;
       }
+      for (let q = 0; q < ns; q++) {
+        const row = rows[q], set = sets[q];
+        for (let k = 0; k < nw; k++) {
+          const g = inside ? inGrid[k] : 0;
+          const vb = valid[k];
+          const outlet = (ghost ? g & ~vb : 0) | (lenMask[k] & ~g);
+          row[k] = set === SET_VALID ? vb : set === SET_OUTLET ? outlet : vb | outlet;
+        }
+        if (wrapX) row[len >>> 5] |= (row[0] & 1) << (len & 31);
+      }
+    };
+    fill(r0, rowsA);
+    if (wrapY) for (let q = 0; q < ns; q++) firsts[q].set(rowsA[q]);
+    for (let r = r0; r < r1; r++) {
+      // rowsB = row r + 1: wrapped to the first row, or empty, past the end
+      if (r + 1 < r1) fill(r + 1, rowsB);
+      else for (let q = 0; q < ns; q++) { if (wrapY) rowsB[q].set(firsts[q]); else rowsB[q].fill(0); }
+      const blocks = r < br1;
+      for (let q = 0; q < ns; q++) {
+        const A = rowsA[q], B = rowsB[q], cnt = counts[q];
+        let V = 0, E = 0, F = 0, T = 0;
+        for (let k = 0; k < nw - 1; k++) {
+          const a = A[k], b = B[k];
+          const p = a & lenMask[k];
+          const u = (a >>> 1) | (A[k + 1] << 31); // right neighbours of row r
+          V += popcount(p);
+          E += popcount(p & u) + popcount(p & b);
+          if (!blocks) continue;
+          const bm = blockMask[k];
+          const pb = a & bm, ub = u & bm, d = b & bm;
+          const t = ((b >>> 1) | (B[k + 1] << 31)) & bm; // right neighbours of row r + 1
+          if (conn === 8) {
+            E += popcount(pb & t) + popcount(ub & d);
+            const all4 = pb & ub & d & t;
+            const three = ((pb & ub & (d | t)) | (d & t & (pb | ub))) & ~all4;
+            const n4 = popcount(all4);
+            F += popcount(three) + 4 * n4;
+            T += n4;
+          } else if (conn === 6) {
+            const pt = pb & t;
+            E += popcount(pt);
+            F += popcount(pt & ub) + popcount(pt & d);
+          } else {
+            F += popcount(pb & ub & d & t);
+          }
+        }
+        cnt[0] += V; cnt[1] += E; cnt[2] += F; cnt[3] += T;
+      }
+      const tmp = rowsA; rowsA = rowsB; rowsB = tmp;
     }
-    return conn === 8 ? [V, E, F, T] : [V, E, F];
+    return counts.map((c) => (conn === 8 ? c : c.slice(0, 3)));
   }
 }
+
+function popcount(x: number): number {
+  x = x - ((x >>> 1) & 0x55555555);
+  x = (x & 0x33333333) + ((x >>> 2) & 0x33333333);
+  x = (x + (x >>> 4)) & 0x0f0f0f0f;
+  return Math.imul(x, 0x01010101) >>> 24;
+}
+
+const SET_VALID = 0;
+const SET_VALID_OR_OUTLET = 1;
+const SET_OUTLET = 2;
 
 export class MeshComplex implements SurfaceComplex {
   readonly surface: Mesh;
