@@ -6,7 +6,7 @@
  * A virtual vertex (ω at −∞ for the join tree on an open boundary, τ at +∞ for the split tree
  * on a closed one) is the oldest of all; its node has vertex −1.
  */
-import type { SurfaceComplex } from '../surface/complex.js';
+import { GridComplex, type SurfaceComplex } from '../surface/complex.js';
 import { IntList } from './growable.js';
 
 export interface MergeTree {
@@ -29,14 +29,20 @@ export interface MergeTree {
 /**
  * Sweep the order upward (join tree) or downward (split tree).
  * @param order ascending (value, index) order of the valid vertices
+ * @param scratch optional work buffer of at least cx.n + 1 entries, reused between sweeps to save
+ *   memory (its contents are overwritten); without it the sweep allocates its own.
  */
-export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'join' | 'split'): MergeTree {
+export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'join' | 'split', scratch?: Int32Array): MergeTree {
   const n = cx.n;
   const values = cx.values;
   const up = kind === 'join';
   const virtualAdj = up ? (cx.hasOmega ? cx.omegaAdj : null) : (cx.hasTop ? cx.topAdj : null);
-  const parent = new Int32Array(n + 1);
-  const rank = new Uint8Array(n + 1); // 0 = not yet swept
+  // Union-find forest, one entry per vertex (+1 for the virtual vertex at index n), set when the
+  // vertex is swept: p + 1 (> 0) = parent p, −1 − node (< 0) = a root carrying its tree node.
+  // Entries of vertices not swept yet are never read, so a reused buffer needs no clearing.
+  const parent = scratch !== undefined && scratch.length >= n + 1 ? scratch : new Int32Array(n + 1);
+  // swept vertices, one bit each: small enough to stay in cache while the forest does not
+  const done = new Int32Array((n + 32) >>> 5);
   const nodeVertex = new IntList(1024), nodeParent = new IntList(1024), nodeBirth = new IntList(1024), nodeChildren = new IntList(1024);
   const pairB = new IntList(1024), pairD = new IntList(1024);
   const nbr = new Int32Array(cx.maxDegree + 1);
@@ -52,10 +58,10 @@ export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'jo
     for (;;) {
       const p = parent[x];
       if (p < 0) return x;
-      const gp = parent[p];
-      if (gp < 0) return p;
-      parent[x] = gp;
-      x = gp;
+      const gp = parent[p - 1];
+      if (gp < 0) return p - 1;
+      parent[x] = gp; // path halving: x now points to its grandparent
+      x = gp - 1;
     }
   };
   /** true when component birth a is older than b in this sweep's direction */
@@ -65,60 +71,108 @@ export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'jo
     const va = values[a], vb = values[b];
     return up ? va < vb || (va === vb && a < b) : va > vb || (va === vb && a > b);
   };
+  const addRoot = (nr: number, r: number): number => {
+    for (let t = 0; t < nr; t++) if (roots[t] === r) return nr;
+    roots[nr] = r;
+    return nr + 1;
+  };
+  /** Vertex v joins the nr distinct components in roots[]: the oldest survives, the others die at v. */
+  const merge = (v: number, nr: number): void => {
+    let elder = roots[0];
+    for (let t = 1; t < nr; t++) {
+      const r = roots[t];
+      if (older(nodeBirth.data[-1 - parent[r]], nodeBirth.data[-1 - parent[elder]])) elder = r;
+    }
+    const elderBirth = nodeBirth.data[-1 - parent[elder]];
+    const node = newNode(v, elderBirth);
+    for (let t = 0; t < nr; t++) {
+      const r = roots[t];
+      const child = -1 - parent[r];
+      nodeParent.data[child] = node;
+      nodeChildren.data[node]++;
+      if (r !== elder) { pairB.push(nodeBirth.data[child]); pairD.push(v); }
+    }
+    for (let t = 0; t < nr; t++) {
+      const r = roots[t];
+      if (r !== elder) parent[r] = elder + 1;
+    }
+    parent[v] = elder + 1;
+    parent[elder] = -1 - node;
+  };
 
   if (virtualAdj !== null) {
     const node = newNode(-1, -1);
     parent[n] = -1 - node;
-    rank[n] = 1;
   }
+
+  // Interior grid cells away from the virtual vertex: which ring positions are swept already
+  // tells, through the stencil tables, whether v starts a component, can only extend one (no
+  // find needed), or may join several (one find per group of connected neighbours).
+  const grid = cx instanceof GridComplex ? cx : null;
+  const stencil = grid !== null ? grid.sweepStencil(up) : null;
+  // without nodata, only cells on the grid edge can touch the virtual vertex
+  const interiorVirtual = virtualAdj !== null && (grid === null || grid.hasNodata);
+  const w = grid !== null ? grid.w : 0, h = grid !== null ? grid.h : 0;
+  const off = stencil !== null ? stencil.offsets : new Int32Array(0);
+  const comps = stencil !== null ? stencil.components : new Uint8Array(1);
+  const nbrMask = stencil !== null ? stencil.nbrMask : 0;
+  const repr = stencil !== null ? stencil.representatives : new Uint8Array(1);
+  const rs = off.length;
+  // ring position 0 is the east neighbour; the west one is position 4 of 8, or 3 of 6
+  const westPos = rs === 6 ? 3 : 4, westBit = 1 << westPos;
+
   const m = order.length;
   for (let s = 0; s < m; s++) {
     const v = order[up ? s : m - 1 - s];
-    rank[v] = 1;
+    done[v >>> 5] |= 1 << (v & 31);
+    if (grid !== null) {
+      const r = (v / w) | 0, c = v - r * w;
+      if (c > 0 && c < w - 1 && r > 0 && r < h - 1 && (!interiorVirtual || virtualAdj![v] === 0)) {
+        let swept = 0;
+        for (let k = 0; k < rs; k++) {
+          const j = v + off[k];
+          swept |= ((done[j >>> 5] >>> (j & 31)) & 1) << k;
+        }
+        const groups = comps[swept];
+        if (groups === 1) {
+          // all swept neighbours are in one component: attach v under any of them, preferring
+          // the neighbours on its own row (their forest entries share v's cache line)
+          const nb = swept & nbrMask;
+          const k = nb & 1 ? 0 : nb & westBit ? westPos : 31 - Math.clz32(nb & -nb);
+          const j = v + off[k];
+          const p = parent[j];
+          parent[v] = p > 0 ? p : j + 1;
+          continue;
+        }
+        if (groups === 0) {
+          parent[v] = -1 - newNode(v, v);
+          continue;
+        }
+        // one find per group of neighbours already known to be connected, in ring order
+        // (the first neighbour of each group), so roots[] is ordered as a scan of all would order it
+        let nr = 0;
+        for (let reps = repr[swept]; reps !== 0; reps &= reps - 1) {
+          nr = addRoot(nr, find(v + off[31 - Math.clz32(reps & -reps)]));
+        }
+        if (nr === 1) parent[v] = roots[0] + 1;
+        else merge(v, nr);
+        continue;
+      }
+    }
     const k = up ? cx.sublevelNbrs(v, nbr) : cx.superlevelNbrs(v, nbr);
     let nr = 0;
     for (let q = 0; q < k; q++) {
       const j = nbr[q];
-      if (rank[j] === 0) continue;
-      const r = find(j);
-      let seen = false;
-      for (let t = 0; t < nr; t++) if (roots[t] === r) { seen = true; break; }
-      if (!seen) roots[nr++] = r;
+      if (((done[j >>> 5] >>> (j & 31)) & 1) === 0) continue;
+      nr = addRoot(nr, find(j));
     }
-    if (virtualAdj !== null && virtualAdj[v]) {
-      const r = find(n);
-      let seen = false;
-      for (let t = 0; t < nr; t++) if (roots[t] === r) { seen = true; break; }
-      if (!seen) roots[nr++] = r;
-    }
+    if (virtualAdj !== null && virtualAdj[v]) nr = addRoot(nr, find(n));
     if (nr === 0) {
       parent[v] = -1 - newNode(v, v);
     } else if (nr === 1) {
-      parent[v] = roots[0];
+      parent[v] = roots[0] + 1;
     } else {
-      // merge: the oldest component survives, the others die here
-      let elder = roots[0];
-      for (let t = 1; t < nr; t++) {
-        const r = roots[t];
-        if (older(nodeBirth.data[-1 - parent[r]], nodeBirth.data[-1 - parent[elder]])) elder = r;
-      }
-      const elderBirth = nodeBirth.data[-1 - parent[elder]];
-      const node = newNode(v, elderBirth);
-      let top = roots[0];
-      for (let t = 0; t < nr; t++) {
-        const r = roots[t];
-        const child = -1 - parent[r];
-        nodeParent.data[child] = node;
-        nodeChildren.data[node]++;
-        if (r !== elder) { pairB.push(nodeBirth.data[child]); pairD.push(v); }
-        if (rank[r] > rank[top]) top = r;
-      }
-      for (let t = 0; t < nr; t++) {
-        const r = roots[t];
-        if (r !== top) { parent[r] = top; if (rank[r] === rank[top] && rank[top] < 255) rank[top]++; }
-      }
-      parent[v] = top;
-      parent[top] = -1 - node;
+      merge(v, nr);
     }
   }
   return {

@@ -49,8 +49,10 @@ export function survey(surface: Grid | Mesh, opts: SurveyOptions = {}): SurveyRe
   const critical = findCriticalPoints(complex);
   const simplices = complex.countSimplices();
   const chi = simplices.characteristic;
-  const join = buildMergeTree(complex, order, 'join');
-  const split = buildMergeTree(complex, order, 'split');
+  // one union-find buffer serves both sweeps
+  const scratch = new Int32Array(complex.n + 1);
+  const join = buildMergeTree(complex, order, 'join', scratch);
+  const split = buildMergeTree(complex, order, 'split', scratch);
   const pairs = collectPairs(complex.values, join, split);
   const { kept, removed } = simplifyCritical(critical, pairs, minPersistence);
   return {
