@@ -1,7 +1,10 @@
 #!/usr/bin/env node
 /**
  * sill benchmarks. Run with `npm run bench` (builds first), or after a build:
- *   node --expose-gc bench/run.mjs [--size N] [--only a,b] [--repeat R] [--seed S] [--quantum Q] [--list]
+ *   node --expose-gc bench/run.mjs [--size N] [--only a,b] [--repeat R] [--seed S] [--quantum Q] [--float64] [--list]
+ *
+ * --quantum Q rounds the terrain to steps of Q (ties and flats, as in DEMs stored in whole
+ * centimetres); --float64 analyses float64 values (energy surfaces usually are) instead of float32.
  *
  * Every entry of CASES is one benchmark case: { name, about, skip?(ctx), run(ctx), targets? }.
  * A case records measurements with ctx.record(key, value, { label, unit }); a target is a
@@ -10,10 +13,10 @@
  */
 import { parseArgs } from 'node:util';
 import { mkdirSync, writeFileSync, readFileSync } from 'node:fs';
-import { cpus } from 'node:os';
+import { cpus, loadavg } from 'node:os';
 import { join } from 'node:path';
 import { fractalTerrain } from './lib/terrain.mjs';
-import { BENCH_DIR, fmtMs, fmtNum, table } from './lib/util.mjs';
+import { BENCH_DIR, fmtMs, fmtNum, median as medianOf, table } from './lib/util.mjs';
 import { sortCase } from './cases/sort.mjs';
 import { surveyCase, stagesCase, loadCase, memoryCase } from './cases/survey.mjs';
 
@@ -29,6 +32,7 @@ const { values: opt } = parseArgs({
     size: { type: 'string', default: '4000' },
     seed: { type: 'string', default: '17' },
     quantum: { type: 'string', default: '0' },
+    float64: { type: 'boolean', default: false },
     repeat: { type: 'string', default: '3' },
     only: { type: 'string' },
     skip: { type: 'string' },
@@ -40,7 +44,7 @@ const { values: opt } = parseArgs({
 
 if (opt.help || opt.list) {
   if (opt.help) {
-    console.log('usage: node --expose-gc bench/run.mjs [--size N] [--only a,b] [--skip a,b] [--repeat R] [--seed S] [--quantum Q] [--json FILE] [--list]\n');
+    console.log('usage: node --expose-gc bench/run.mjs [--size N] [--only a,b] [--skip a,b] [--repeat R] [--seed S] [--quantum Q] [--float64] [--json FILE] [--list]\n');
   }
   console.log('cases:');
   for (const c of CASES) console.log(`  ${c.name.padEnd(10)} ${c.about}`);
@@ -76,7 +80,7 @@ function machine() {
 const results = {}, meta = {}, notes = {}, warnings = [];
 let terrain = null;
 const ctx = {
-  size, seed, quantum, repeat,
+  size, seed, quantum, repeat, float64: opt.float64,
   /** The benchmark terrain (generated once, shared; do not modify it — copy first). */
   terrain() {
     if (terrain === null) {
@@ -89,6 +93,8 @@ const ctx = {
   record(key, value, m = {}) {
     results[key] = value;
     meta[key] = m;
+    // timings recorded with their CPU-time samples also get a '<prefix>.cpu' entry (median)
+    if (m.cpu && key.endsWith('.ms')) results[key.replace(/\.ms$/, '.cpu')] = medianOf(m.cpu);
     const shown = m.unit === 'ms' ? fmtMs(value) : `${fmtNum(value)} ${m.unit ?? ''}`;
     console.error(`bench:   ${m.label ?? key}: ${shown}`);
   },
@@ -99,7 +105,8 @@ const ctx = {
 const mach = machine();
 console.log(`sill benchmark — ${new Date().toISOString().slice(0, 10)}`);
 console.log(`machine: ${mach.cpus} cpus, ${mach.model}, node ${mach.node} (${mach.platform})`);
-console.log(`terrain: ${size}×${size} float32 fractal (seed ${seed}${quantum > 0 ? `, quantum ${quantum}` : ''}), ${(size * size / 1e6).toFixed(1)} M cells; ${repeat} run(s) per timing, median shown\n`);
+console.log(`terrain: ${size}×${size} ${opt.float64 ? 'float64' : 'float32'} fractal (seed ${seed}${quantum > 0 ? `, quantum ${quantum}` : ''}), ${(size * size / 1e6).toFixed(1)} M cells; ${repeat} run(s) per timing, median shown\n`);
+console.log(`load average at start: ${loadavg().map((x) => x.toFixed(2)).join(' ')} (other work on the machine inflates wall-clock times; CPU times are shown too)\n`);
 
 const ran = [], skipped = [];
 for (const c of CASES) {
@@ -115,12 +122,14 @@ for (const c of CASES) {
   }
 }
 
-const rows = [['measurement', 'value', 'runs']];
+const rows = [['measurement', 'value', 'cpu time', 'runs (wall)']];
 for (const [key, value] of Object.entries(results)) {
   const m = meta[key];
+  if (!m) continue; // derived entries (.cpu)
   const shown = m.unit === 'ms' ? fmtMs(value) : `${fmtNum(value, 1)} ${m.unit ?? ''}`;
+  const cpuShown = m.cpu ? fmtMs(medianOf(m.cpu)) : '';
   const runs = m.samples ? m.samples.map((x) => fmtMs(x)).join(' / ') : '';
-  rows.push([m.label ?? key, shown, runs]);
+  rows.push([m.label ?? key, shown, cpuShown, runs]);
 }
 console.log(table(rows));
 
@@ -140,11 +149,11 @@ for (const [name, why] of skipped) console.log(`\nskipped ${name}: ${why}`);
 if (notes['survey.euler']) console.log(`\nEuler check on the terrain: ${JSON.stringify(notes['survey.euler'])}`);
 for (const w of warnings) console.log(`WARNING: ${w}`);
 
-const outFile = opt.json ?? join(BENCH_DIR, 'out', `last-run-${size}.json`);
+const outFile = opt.json ?? join(BENCH_DIR, 'out', `last-run-${size}${opt.float64 ? '-f64' : ''}.json`);
 try {
   mkdirSync(join(outFile, '..'), { recursive: true });
   writeFileSync(outFile, JSON.stringify({
-    date: new Date().toISOString(), machine: mach, size, seed, quantum, repeat, ran, skipped,
+    date: new Date().toISOString(), machine: mach, size, seed, quantum, float64: opt.float64, repeat, ran, skipped,
     results, meta, notes, warnings,
     targets: targets.map(({ key, label, limit, value, status }) => ({ key, label, limit, value, status })),
   }, null, 2) + '\n');

@@ -7,6 +7,6 @@ export const sortCase = {
   async run(ctx) {
     const values = ctx.terrain();
     const ms = await timeIt((f) => f.sort(), { repeat: ctx.repeat, setup: () => Float64Array.from(values) });
-    ctx.record('sort.ms', median(ms), { label: 'Float64Array sort (reference)', unit: 'ms', samples: ms });
+    ctx.record('sort.ms', median(ms), { label: 'Float64Array sort (reference)', unit: 'ms', samples: ms, cpu: ms.cpu });
   },
 };

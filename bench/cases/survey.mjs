@@ -6,7 +6,7 @@ import { existsSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { timeIt, median, importDist, distPath } from '../lib/util.mjs';
+import { timeIt, lap, median, collect, importDist, distPath } from '../lib/util.mjs';
 import { runMemoryChild } from '../lib/memory.mjs';
 
 const OPTS = { connectivity: 8, boundary: 'open' };
@@ -27,7 +27,7 @@ async function lib() {
 /** A fresh Grid over a copy of the terrain (the Grid constructor may normalise values in place). */
 function freshGrid(L, ctx) {
   const v = ctx.terrain();
-  return new L.Grid({ width: ctx.size, height: ctx.size, values: v.slice() });
+  return new L.Grid({ width: ctx.size, height: ctx.size, values: ctx.float64 ? Float64Array.from(v) : v.slice() });
 }
 
 /** Run survey once on a small grid so the timed runs measure compiled code. */
@@ -52,10 +52,11 @@ export const surveyCase = {
       setup: () => freshGrid(L, ctx),
       teardown: (res) => { checkEuler(ctx, res); ctx.note('survey.euler', res.euler); ctx.note('survey.critical', { pits: res.critical.pits, passes: res.critical.passes, peaks: res.critical.peaks }); },
     });
-    ctx.record('survey.ms', median(ms), { label: 'survey (load excluded)', unit: 'ms', samples: ms });
+    ctx.record('survey.ms', median(ms), { label: 'survey (load excluded)', unit: 'ms', samples: ms, cpu: ms.cpu });
   },
   targets: [
     { key: 'survey.ms / sort.ms', label: 'survey time / sort time', limit: 4, compute: (r) => r['survey.ms'] / r['sort.ms'] },
+    { key: 'survey.cpu / sort.cpu', label: '  same in CPU time', limit: null, compute: (r) => r['survey.cpu'] / r['sort.cpu'] },
   ],
 };
 
@@ -68,27 +69,31 @@ export const stagesCase = {
     const stages = {
       complex: [], order: [], critical: [], simplices: [], join: [], split: [],
     };
+    const cpu = Object.fromEntries(Object.keys(stages).map((k) => [k, []]));
     for (let k = 0; k < ctx.repeat; k++) {
       const g = freshGrid(L, ctx);
-      const lap = (name, fn) => {
-        const t0 = performance.now();
-        const out = fn();
-        stages[name].push(performance.now() - t0);
-        return out;
+      collect();
+      const step = (name, fn) => {
+        const t = lap(fn);
+        stages[name].push(t.wall);
+        cpu[name].push(t.cpu);
+        return t.out;
       };
-      const cx = lap('complex', () => L.buildComplex(g, OPTS));
-      const order = lap('order', () => L.sortOrder(cx.values));
-      lap('critical', () => L.findCriticalPoints(cx));
-      lap('simplices', () => cx.countSimplices());
-      lap('join', () => L.buildMergeTree(cx, order, 'join'));
-      lap('split', () => L.buildMergeTree(cx, order, 'split'));
+      // the same sequence as survey(), which shares one union-find buffer between the sweeps
+      const cx = step('complex', () => L.buildComplex(g, OPTS));
+      const order = step('order', () => L.sortOrder(cx.values));
+      step('critical', () => L.findCriticalPoints(cx));
+      step('simplices', () => cx.countSimplices());
+      const scratch = new Int32Array(cx.n + 1);
+      step('join', () => L.buildMergeTree(cx, order, 'join', scratch));
+      step('split', () => L.buildMergeTree(cx, order, 'split', scratch));
     }
     const labels = {
       complex: 'buildComplex', order: 'sortOrder', critical: 'findCriticalPoints',
       simplices: 'countSimplices', join: 'buildMergeTree join', split: 'buildMergeTree split',
     };
     for (const [name, ms] of Object.entries(stages)) {
-      ctx.record(`stage.${name}.ms`, median(ms), { label: `  stage: ${labels[name]}`, unit: 'ms', samples: ms });
+      ctx.record(`stage.${name}.ms`, median(ms), { label: `  stage: ${labels[name]}`, unit: 'ms', samples: ms, cpu: cpu[name] });
     }
   },
 };
@@ -115,7 +120,7 @@ export const loadCase = {
     const path = join(tmpdir(), `sill-bench-${process.pid}-${ctx.size}.tif`);
     try {
       await writer(path, {
-        width: ctx.size, height: ctx.size, values: ctx.terrain(),
+        width: ctx.size, height: ctx.size, values: ctx.float64 ? Float64Array.from(ctx.terrain()) : ctx.terrain(),
         transform: [500000, 10, 0, 6000000, 0, -10], crs: { epsg: 32633 }, nodata: null,
       });
       const readMs = [];
@@ -126,7 +131,7 @@ export const loadCase = {
         return L.survey(g, OPTS);
       }, { repeat: ctx.repeat, teardown: (res) => checkEuler(ctx, res) });
       ctx.record('load.read.ms', median(readMs), { label: '  readGeoTiff', unit: 'ms', samples: readMs });
-      ctx.record('load.total.ms', median(ms), { label: 'readGeoTiff + survey', unit: 'ms', samples: ms });
+      ctx.record('load.total.ms', median(ms), { label: 'readGeoTiff + survey', unit: 'ms', samples: ms, cpu: ms.cpu });
     } finally {
       rmSync(path, { force: true });
     }
@@ -177,9 +182,10 @@ export const memoryJobs = {
     probe.mark('findCriticalPoints');
     const simplices = cx.countSimplices();
     probe.mark('countSimplices');
-    const join = L.buildMergeTree(cx, order, 'join');
+    const scratch = new Int32Array(cx.n + 1);
+    const join = L.buildMergeTree(cx, order, 'join', scratch);
     probe.mark('join');
-    const split = L.buildMergeTree(cx, order, 'split');
+    const split = L.buildMergeTree(cx, order, 'split', scratch);
     probe.mark('split');
     return { cx, order, critical, simplices, join, split };
   },

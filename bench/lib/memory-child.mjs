@@ -1,6 +1,6 @@
 /**
  * Child process for one peak-memory measurement:
- *   node --expose-gc bench/lib/memory-child.mjs --module <case file> --job <name> --size N --seed S [--quantum Q]
+ *   node --expose-gc bench/lib/memory-child.mjs --module <case file> --job <name> --size N --seed S [--quantum Q] [--float64]
  * Generates the terrain, builds the Grid, collects garbage, takes the baseline, runs the
  * job exported as `memoryJobs[name]` by the case module, and prints one JSON line.
  */
@@ -16,6 +16,7 @@ const { values: a } = parseArgs({
     module: { type: 'string' }, job: { type: 'string' },
     size: { type: 'string', default: '4000' }, seed: { type: 'string', default: '17' },
     quantum: { type: 'string', default: '0' },
+    float64: { type: 'boolean', default: false },
   },
 });
 if (typeof globalThis.gc !== 'function') throw new Error('run the memory child with node --expose-gc');
@@ -27,7 +28,8 @@ const { Grid } = await importDist('surface/grid.js');
 
 const probe = new MemoryProbe();
 await probe.start();
-const values = fractalTerrain(size, { seed: Number(a.seed), quantum: Number(a.quantum) });
+const f32 = fractalTerrain(size, { seed: Number(a.seed), quantum: Number(a.quantum) });
+const values = a.float64 ? Float64Array.from(f32) : f32;
 const grid = new Grid({ width: size, height: size, values });
 // warm the code paths on a small grid so compilation is not charged to the job
 await job({ grid: new Grid({ width: 64, height: 64, values: fractalTerrain(64, { seed: 3 }) }), probe: { mark() {} } });

@@ -8,6 +8,7 @@ export function runMemoryChild(ctx, moduleFile, job) {
     '--expose-gc', join(BENCH_DIR, 'lib', 'memory-child.mjs'),
     '--module', moduleFile, '--job', job,
     '--size', String(ctx.size), '--seed', String(ctx.seed), '--quantum', String(ctx.quantum),
+    ...(ctx.float64 ? ['--float64'] : []),
   ];
   return new Promise((resolve, reject) => {
     const child = spawn(process.execPath, args, { stdio: ['ignore', 'pipe', 'inherit'] });

@@ -26,20 +26,35 @@ export function collect() {
 
 /**
  * Time fn() `repeat` times (fresh `setup()` input each time, not timed) and return the
- * samples in milliseconds. A full GC runs before every sample so one sample's garbage
- * is not charged to the next.
+ * wall-clock samples in milliseconds; the array also carries `cpu`, the process CPU time
+ * (user + system) of each sample, which other work on the machine inflates less.
+ * A full GC runs before every sample so one sample's garbage is not charged to the next.
  */
 export async function timeIt(fn, { repeat = 1, setup = null, teardown = null } = {}) {
   const ms = [];
+  ms.cpu = [];
   for (let k = 0; k < repeat; k++) {
     const input = setup ? await setup() : undefined;
     collect();
+    const c0 = process.cpuUsage();
     const t0 = performance.now();
     const out = await fn(input);
     ms.push(performance.now() - t0);
+    const c = process.cpuUsage(c0);
+    ms.cpu.push((c.user + c.system) / 1000);
     if (teardown) await teardown(out, input);
   }
   return ms;
+}
+
+/** Wall-clock and CPU time of a synchronous call, in milliseconds. */
+export function lap(fn) {
+  const c0 = process.cpuUsage();
+  const t0 = performance.now();
+  const out = fn();
+  const wall = performance.now() - t0;
+  const c = process.cpuUsage(c0);
+  return { out, wall, cpu: (c.user + c.system) / 1000 };
 }
 
 export function median(xs) {
