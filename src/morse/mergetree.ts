@@ -117,47 +117,58 @@ export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'jo
   const comps = stencil !== null ? stencil.components : new Uint8Array(1);
   const nbrMask = stencil !== null ? stencil.nbrMask : 0;
   const repr = stencil !== null ? stencil.representatives : new Uint8Array(1);
+  const win = stencil !== null ? stencil.windowToRing : new Uint8Array(512);
   const rs = off.length;
   // ring position 0 is the east neighbour; the west one is position 4 of 8, or 3 of 6
   const westPos = rs === 6 ? 3 : 4, westBit = 1 << westPos;
+  // cells that take the general path, one bit each: the grid edge, and cells next to the virtual
+  // vertex when nodata lets it reach the interior
+  let slow: Int32Array | null = null;
+  if (grid !== null) {
+    slow = new Int32Array((n + 32) >>> 5);
+    const mark = (i: number): void => { slow![i >>> 5] |= 1 << (i & 31); };
+    for (let c = 0; c < w; c++) { mark(c); mark((h - 1) * w + c); }
+    for (let r = 0; r < h; r++) { mark(r * w); mark(r * w + w - 1); }
+    if (interiorVirtual) for (let i = 0; i < n; i++) if (virtualAdj![i]) mark(i);
+  }
+  /** Flags of cells j, j + 1, j + 2 in the bit set, as bits 0–2. */
+  const three = (bits: Int32Array, j: number): number => {
+    const q = j >>> 5, sh = j & 31;
+    let x = bits[q] >>> sh;
+    if (sh > 29) x |= bits[q + 1] << (32 - sh);
+    return x & 7;
+  };
 
   const m = order.length;
   for (let s = 0; s < m; s++) {
     const v = order[up ? s : m - 1 - s];
     done[v >>> 5] |= 1 << (v & 31);
-    if (grid !== null) {
-      const r = (v / w) | 0, c = v - r * w;
-      if (c > 0 && c < w - 1 && r > 0 && r < h - 1 && (!interiorVirtual || virtualAdj![v] === 0)) {
-        let swept = 0;
-        for (let k = 0; k < rs; k++) {
-          const j = v + off[k];
-          swept |= ((done[j >>> 5] >>> (j & 31)) & 1) << k;
-        }
-        const groups = comps[swept];
-        if (groups === 1) {
-          // all swept neighbours are in one component: attach v under any of them, preferring
-          // the neighbours on its own row (their forest entries share v's cache line)
-          const nb = swept & nbrMask;
-          const k = nb & 1 ? 0 : nb & westBit ? westPos : 31 - Math.clz32(nb & -nb);
-          const j = v + off[k];
-          const p = parent[j];
-          parent[v] = p > 0 ? p : j + 1;
-          continue;
-        }
-        if (groups === 0) {
-          parent[v] = -1 - newNode(v, v);
-          continue;
-        }
-        // one find per group of neighbours already known to be connected, in ring order
-        // (the first neighbour of each group), so roots[] is ordered as a scan of all would order it
-        let nr = 0;
-        for (let reps = repr[swept]; reps !== 0; reps &= reps - 1) {
-          nr = addRoot(nr, find(v + off[31 - Math.clz32(reps & -reps)]));
-        }
-        if (nr === 1) parent[v] = roots[0] + 1;
-        else merge(v, nr);
+    if (slow !== null && ((slow[v >>> 5] >>> (v & 31)) & 1) === 0) {
+      const swept = win[three(done, v - w - 1) | (three(done, v - 1) << 3) | (three(done, v + w - 1) << 6)];
+      const groups = comps[swept];
+      if (groups === 1) {
+        // all swept neighbours are in one component: attach v under any of them, preferring
+        // the neighbours on its own row (their forest entries share v's cache line)
+        const nb = swept & nbrMask;
+        const k = nb & 1 ? 0 : nb & westBit ? westPos : 31 - Math.clz32(nb & -nb);
+        const j = v + off[k];
+        const p = parent[j];
+        parent[v] = p > 0 ? p : j + 1;
         continue;
       }
+      if (groups === 0) {
+        parent[v] = -1 - newNode(v, v);
+        continue;
+      }
+      // one find per group of neighbours already known to be connected, in ring order
+      // (the first neighbour of each group), so roots[] is ordered as a scan of all would order it
+      let nr = 0;
+      for (let reps = repr[swept]; reps !== 0; reps &= reps - 1) {
+        nr = addRoot(nr, find(v + off[31 - Math.clz32(reps & -reps)]));
+      }
+      if (nr === 1) parent[v] = roots[0] + 1;
+      else merge(v, nr);
+      continue;
     }
     const k = up ? cx.sublevelNbrs(v, nbr) : cx.superlevelNbrs(v, nbr);
     let nr = 0;

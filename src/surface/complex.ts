@@ -140,6 +140,11 @@ export interface SweepStencil {
   components: Uint8Array;
   /** For each mask, the first graph neighbour (lowest ring position) of each of those groups. */
   representatives: Uint8Array;
+  /**
+   * Ring mask of a 3 × 3 window given as 9 bits, row by row from (−1, −1) (bit 0) to (+1, +1)
+   * (bit 8): the window of flags around a cell, read three bits a row, becomes its ring mask.
+   */
+  windowToRing: Uint8Array;
 }
 
 function sweepStencil(graph: Connectivity, dc: number[], dr: number[], positions: readonly number[], w: number): SweepStencil {
@@ -173,7 +178,13 @@ function sweepStencil(graph: Connectivity, dc: number[], dr: number[], positions
     components[mask] = groups;
     representatives[mask] = reps;
   }
-  return { offsets, nbrMask, components, representatives };
+  const windowToRing = new Uint8Array(512);
+  for (let win = 0; win < 512; win++) {
+    let ring = 0;
+    for (let q = 0; q < k; q++) if (win & (1 << ((dr[q] + 1) * 3 + dc[q] + 1))) ring |= 1 << q;
+    windowToRing[win] = ring;
+  }
+  return { offsets, nbrMask, components, representatives, windowToRing };
 }
 
 export class GridComplex implements SurfaceComplex {
