@@ -16,7 +16,7 @@
  */
 import { parseArgs } from 'node:util';
 import { spawnSync } from 'node:child_process';
-import { writeFileSync, readFileSync, mkdtempSync, rmSync, existsSync } from 'node:fs';
+import { writeFileSync, readFileSync, mkdtempSync, rmSync, existsSync, openSync, readSync, closeSync } from 'node:fs';
 import { tmpdir, cpus, totalmem } from 'node:os';
 import { join, dirname } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -44,8 +44,11 @@ if (opt.child === 'ponds') {
   // child: read the terrain, run ponds once, report times and memory
   const { Grid } = await import('../dist/surface/grid.js');
   const { ponds } = await import('../dist/hydro/ponds.js');
-  const buf = readFileSync(opt.file);
-  const values = new Float32Array(buf.buffer, buf.byteOffset, size * size).slice();
+  // read straight into the grid's array (no second copy of the input in memory)
+  const values = new Float32Array(size * size);
+  const fd = openSync(opt.file, 'r');
+  readSync(fd, new Uint8Array(values.buffer), 0, values.byteLength, 0);
+  closeSync(fd);
   const grid = new Grid({ width: size, height: size, values, transform: [0, 10, 0, size * 10, 0, -10], crs: { epsg: 32633, geographic: false, linearUnit: 'metre' } });
   global.gc?.();
   const rssBefore = process.memoryUsage().rss;
@@ -55,7 +58,7 @@ if (opt.child === 'ponds') {
   const t0 = performance.now();
   const stage = (name) => {
     const t = performance.now(), c = process.cpuUsage();
-    if (last) stages.push({ stage: last, ms: t - lastT, cpuMs: (c.user + c.system - lastCpu.user - lastCpu.system) / 1000 });
+    if (last) stages.push({ stage: last, ms: t - lastT, cpuMs: (c.user + c.system - lastCpu.user - lastCpu.system) / 1000, rssAfter: process.memoryUsage().rss });
     last = name; lastT = t; lastCpu = c;
   };
   const r = ponds(grid, { euler: opt.euler === '1', onStage: stage });
@@ -66,7 +69,7 @@ if (opt.child === 'ponds') {
   process.stdout.write(JSON.stringify({
     ms, cpuMs: (cpu.user + cpu.system) / 1000, stages,
     maxRss: process.resourceUsage().maxRSS * 1024, rssBefore,
-    depressions: r.hierarchy.count, nodes: r.sweepPits, euler: r.euler?.holds ?? null,
+    depressions: r.hierarchy.count, pits: r.sweepPits, euler: r.euler?.holds ?? null,
   }) + '\n');
   process.exit(0);
 }
@@ -100,7 +103,7 @@ try {
   const core = best(false);
   const full = best(true);
   console.log(`ponds     ${fmt(core.ms)} wall, ${fmt(core.cpuBest)} CPU (best of ${repeat}): ${core.depressions} depressions`);
-  for (const s of core.stages) console.log(`            ${s.stage.padEnd(32)} ${fmt(s.ms).padStart(8)}`);
+  for (const s of core.stages) console.log(`            ${s.stage.padEnd(32)} ${fmt(s.ms).padStart(8)} wall ${fmt(s.cpuMs).padStart(8)} CPU   RSS after ${(s.rssAfter / cells).toFixed(1)} B/cell`);
   console.log(`          + Euler self-check: ${fmt(full.ms)} wall, ${fmt(full.cpuBest)} CPU (Euler relation ${full.euler ? 'holds' : 'FAILS'})`);
   const perCell = (b) => (b / cells).toFixed(1);
   console.log(`memory    peak RSS ${(core.maxRss / 2 ** 20).toFixed(0)} MiB = ${perCell(core.maxRss)} B/cell (input and Node included); ` +

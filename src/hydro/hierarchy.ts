@@ -94,28 +94,28 @@ export function buildHierarchy(sw: DepressionSweep, sums: NodeSums, values: Arra
   const minDepth = opts.minDepth ?? 0, minArea = opts.minArea ?? 0, minVolume = opts.minVolume ?? 0;
   const z0 = sums.z0;
 
-  // per raw node: closed (no outlet above), statistics, kept
+  // per raw node: closed (no outlet above) and kept; the statistics are computed when needed
+  // (from the sums) rather than stored, to keep memory per node small
   const closed = new Uint8Array(K);
   const keep = new Uint8Array(K);
-  const depth = new Float64Array(K), wetA = new Float64Array(K), wetN = new Float64Array(K), vol = new Float64Array(K);
+  const depthOf = (k: number): number => values[sw.spill[k]] - values[sw.birth[k]];
+  const wetAOf = (k: number): number => (sums.sumA[k] - sums.tieA[k]) * areaScale;
+  const volOf = (k: number): number => {
+    const v = ((values[sw.spill[k]] - z0) * sums.sumA[k] - sums.sumAz[k]) * areaScale * zFactor;
+    return v > 0 ? v : 0;
+  };
   let closedCount = 0, closedCells = 0;
   for (let k = K - 1; k >= 1; k--) {
     const p = sw.parent[k];
     if (p === -1) { closed[k] = 1; closedCount++; closedCells += sums.cells[k]; continue; }
-    if (p > 0 && closed[p]) { closed[k] = 1; continue; }
-    const hs = values[sw.spill[k]];
-    const pz = values[sw.birth[k]];
-    depth[k] = hs - pz;
-    wetN[k] = sums.cells[k] - sums.tieCells[k];
-    wetA[k] = (sums.sumA[k] - sums.tieA[k]) * areaScale;
-    const v = ((hs - z0) * sums.sumA[k] - sums.sumAz[k]) * areaScale * zFactor;
-    vol[k] = v > 0 ? v : 0;
+    if (p > 0 && closed[p]) closed[k] = 1;
   }
   let flats = 0, filtered = 0;
   for (let k = 1; k < K; k++) {
     if (closed[k]) continue;
-    if (!(depth[k] > 0)) { flats++; continue; }
-    if (depth[k] < minDepth || wetA[k] < minArea || vol[k] < minVolume) { filtered++; continue; }
+    const d = depthOf(k);
+    if (!(d > 0)) { flats++; continue; }
+    if (d < minDepth || wetAOf(k) < minArea || volOf(k) < minVolume) { filtered++; continue; }
     keep[k] = 1;
   }
   // kept children per node
@@ -148,11 +148,11 @@ export function buildHierarchy(sw: DepressionSweep, sums: NodeSums, values: Arra
     if (closed[k]) continue;
     const p = sw.parent[k];
     underKept[k] = p > 0 && (keep[p] || underKept[p]) ? 1 : 0;
-    if (keep[k] || !(depth[k] > 0)) continue;
+    if (keep[k] || !(depthOf(k) > 0)) continue;
     const outermost = p === 0 || keep[p];
     const bucket = underKept[k] ? insideKept : topLevel;
     bucket.depressions++;
-    if (outermost) bucket.volume += vol[k];
+    if (outermost) bucket.volume += volOf(k);
   }
 
   // reported arrays
@@ -171,11 +171,11 @@ export function buildHierarchy(sw: DepressionSweep, sums: NodeSums, values: Arra
     spillCell[id] = sw.spill[k];
     pitValue[id] = values[pit[id]];
     spillValue[id] = values[spillCell[id]];
-    wetCells[id] = wetN[k];
-    area[id] = wetA[k];
-    volume[id] = vol[k];
-    maxDepth[id] = depth[k];
-    meanDepth[id] = wetA[k] > 0 ? vol[k] / zFactor / wetA[k] : 0;
+    wetCells[id] = sums.cells[k] - sums.tieCells[k];
+    area[id] = wetAOf(k);
+    volume[id] = volOf(k);
+    maxDepth[id] = depthOf(k);
+    meanDepth[id] = area[id] > 0 ? volume[id] / zFactor / area[id] : 0;
     if (p === 0) { into[id] = 0; pourTo[id] = sw.to[k]; }
   }
   // children lists (CSR), ascending ids

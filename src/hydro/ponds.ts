@@ -7,7 +7,7 @@ import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
 import { buildComplex, GridComplex, type Connectivity, type Boundary, type SimplexCounts } from '../surface/complex.js';
 import { sortOrder } from '../morse/order.js';
-import { findCriticalPoints, type CriticalPoints } from '../morse/critical.js';
+import { findCriticalPoints } from '../morse/critical.js';
 import { cellAreas, type CellAreas, type UnitOptions } from './areas.js';
 import { sweepDepressions, nodeSums } from './sweep.js';
 import { buildHierarchy, type Hierarchy, type HierarchyFilters } from './hierarchy.js';
@@ -50,7 +50,6 @@ export interface PondsResult {
   /** Pits found by the sweep (cells that start a component). */
   sweepPits: number;
   euler: PondsEuler | null;
-  critical: CriticalPoints | null;
   options: {
     connectivity: Connectivity;
     nodataOutlet: boolean;
@@ -102,6 +101,20 @@ export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResul
 
   stage('outlets and neighbour graph');
   const complex = buildComplex(grid, { connectivity, boundary: 'open', nodataOutlet }) as GridComplex;
+  // The Euler self-check first, while little memory is in use (its lists of critical points are
+  // dropped once counted).
+  let euler: PondsEuler | null = null;
+  if (opts.euler !== false) {
+    stage('Euler check');
+    const critical = findCriticalPoints(complex);
+    const simplices: SimplexCounts = complex.countSimplices();
+    const chi = simplices.characteristic;
+    euler = {
+      characteristic: chi, pits: critical.pits, passes: critical.passes, peaks: critical.peaks,
+      holds: critical.pits - critical.passes + critical.peaks === chi,
+      outsidePit: critical.outsidePit, simplices: simplices.byDimension,
+    };
+  }
   stage('ordering the cells');
   const order = sortOrder(grid.values);
   stage('depression sweep');
@@ -116,32 +129,20 @@ export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResul
   });
   let sweepPits = 0;
   for (let k = 1; k < sw.count; k++) if (sw.vertex[k] === sw.birth[k]) sweepPits++;
+  // The sweep and the lower links find pits independently: a cell starts a component exactly
+  // when its lower link is empty. The outside vertex is the one extra pit. (Not compared for
+  // connectivity 4, where the lower-link code counts a cell whose only lower neighbours are
+  // diagonal as a peak rather than a pit; the Euler sum is unaffected.)
+  if (euler && connectivity !== 4 && euler.pits - 1 !== sweepPits) {
+    throw new Error(`internal: the depression sweep found ${sweepPits} pits but the lower links ${euler.pits - 1}; this is a bug in sill, please report it with the input`);
+  }
   stage('filled, depth and label rasters');
   const spare: SpareMemory[] = [sw.spare];
   if (order.length === grid.size) spare.push({ buffer: order.buffer as ArrayBuffer, byteOffset: order.byteOffset, byteLength: order.byteLength });
   const rasters = pondRasters(grid.values, grid.width, sw.label, hierarchy, areas.rowArea, spare);
 
-  let euler: PondsEuler | null = null, critical: CriticalPoints | null = null;
-  if (opts.euler !== false) {
-    stage('Euler check');
-    critical = findCriticalPoints(complex);
-    const simplices: SimplexCounts = complex.countSimplices();
-    const chi = simplices.characteristic;
-    euler = {
-      characteristic: chi, pits: critical.pits, passes: critical.passes, peaks: critical.peaks,
-      holds: critical.pits - critical.passes + critical.peaks === chi,
-      outsidePit: critical.outsidePit, simplices: simplices.byDimension,
-    };
-    // The sweep and the lower links find pits independently: a cell starts a component exactly
-    // when its lower link is empty. The outside vertex is the one extra pit. (Not compared for
-    // connectivity 4, where the lower-link code counts a cell whose only lower neighbours are
-    // diagonal as a peak rather than a pit; the Euler sum is unaffected.)
-    if (connectivity !== 4 && critical.pits - 1 !== sweepPits) {
-      throw new Error(`internal: the depression sweep found ${sweepPits} pits but the lower links ${critical.pits - 1}; this is a bug in sill, please report it with the input`);
-    }
-  }
   return {
-    grid, complex, areas, hierarchy, rasters, sweepPits, euler, critical,
+    grid, complex, areas, hierarchy, rasters, sweepPits, euler,
     options: { connectivity, nodataOutlet, minDepth, minArea, minVolume, minPersistence, fillOnlyBelow: opts.fillOnlyBelow ?? null },
   };
 }

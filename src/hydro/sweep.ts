@@ -13,7 +13,9 @@
  * so a child always has a smaller number than its parent.
  *
  * Memory: the union-find parent and the label of a cell sit side by side (one cache line holds
- * both for a cell and its row neighbours), 8 bytes per cell, plus one byte "swept" flag.
+ * both for a cell and its row neighbours), 8 bytes per cell, plus a one-byte union-find rank.
+ * Which neighbours of a cell come before it is worked out beforehand in storage order, so the
+ * sweep itself reads little more than the union-find entries it needs.
  */
 import type { GridComplex } from '../surface/complex.js';
 
@@ -64,7 +66,7 @@ export function sublevelOffsets(conn: 4 | 6 | 8): [number, number][] {
  * (those edges are in the sublevel set) — counting only groups that hold a graph neighbour of
  * the centre. One union-find lookup per group is then enough.
  */
-function groupRepresentatives(conn: 4 | 6 | 8): { dc: number[]; dr: number[]; reps: Uint8Array } {
+export function groupRepresentatives(conn: 4 | 6 | 8): { dc: number[]; dr: number[]; reps: Uint8Array } {
   const dc = conn === 6 ? [1, 1, 0, -1, -1, 0] : [1, 1, 0, -1, -1, -1, 0, 1];
   const dr = conn === 6 ? [0, 1, 1, 0, -1, -1] : [0, 1, 1, 1, 0, -1, -1, -1];
   const k = dc.length;
@@ -100,8 +102,67 @@ function groupRepresentatives(conn: 4 | 6 | 8): { dc: number[]; dr: number[]; re
   return { dc, dr, reps };
 }
 
-/** Union-find value of a cell not swept yet (or nodata, which is never swept). */
-const UNSWEPT = -0x80000000;
+/** Bits of a cell's info word, written before the sweep into its label slot. */
+const INFO_OUTLET = 1 << 8; // the cell touches an outlet (ω)
+const INFO_EDGE = 1 << 9; // on the grid edge: neighbours are listed by the complex
+
+/**
+ * Info words of all cells, written into the odd entries of `cv`: bit q (ring position q of
+ * groupRepresentatives) is set when that neighbour comes before the cell in the (value, index)
+ * order; INFO_OUTLET and INFO_EDGE as named. Each neighbouring pair is compared once: a cell
+ * compares itself with its forward neighbours (later in storage order), and takes the backward
+ * bits from its backward neighbours' forward bits, negated (the order is total). A nodata cell
+ * keeps its forward bits all set, so that no cell sees it as lower.
+ */
+function lowerNeighbours(values: Float32Array | Float64Array, w: number, h: number, conn: 4 | 6 | 8, omegaAdj: Uint8Array, cv: Int32Array): void {
+  const ring8 = conn !== 6;
+  // forward ring positions and their offsets: 8-ring (1,0) (1,1) (0,1) (−1,1); 6-ring (1,0) (1,1) (0,1)
+  const fwdAll = ring8 ? 0b1111 : 0b111;
+  for (let r = 0, i = 0; r < h; r++) {
+    const down = r < h - 1;
+    for (let c = 0; c < w; c++, i++) {
+      const z = values[i];
+      let f = 0;
+      if (z !== z) {
+        f = fwdAll;
+      } else {
+        // forward neighbours come later in storage order: lower only when strictly lower
+        const right = c < w - 1;
+        if (right) f |= +(values[i + 1] < z);
+        if (down) {
+          if (right) f |= +(values[i + w + 1] < z) << 1;
+          f |= +(values[i + w] < z) << 2;
+          if (ring8 && c > 0) f |= +(values[i + w - 1] < z) << 3;
+        }
+      }
+      cv[2 * i + 1] = f;
+    }
+  }
+  // backward bits: the backward neighbour is lower unless this cell is lower than it (its forward bit)
+  const interior = (r: number, c: number) => r > 0 && r < h - 1 && c > 0 && c < w - 1;
+  for (let r = 0, i = 0; r < h; r++) {
+    for (let c = 0; c < w; c++, i++) {
+      if (values[i] !== values[i]) continue;
+      let info = cv[2 * i + 1] & fwdAll;
+      if (interior(r, c)) {
+        if (ring8) {
+          info |= ((cv[2 * (i - 1) + 1] & 1) ^ 1) << 4;
+          info |= (((cv[2 * (i - w - 1) + 1] >> 1) & 1) ^ 1) << 5;
+          info |= (((cv[2 * (i - w) + 1] >> 2) & 1) ^ 1) << 6;
+          info |= (((cv[2 * (i - w + 1) + 1] >> 3) & 1) ^ 1) << 7;
+        } else {
+          info |= ((cv[2 * (i - 1) + 1] & 1) ^ 1) << 3;
+          info |= (((cv[2 * (i - w - 1) + 1] >> 1) & 1) ^ 1) << 4;
+          info |= (((cv[2 * (i - w) + 1] >> 2) & 1) ^ 1) << 5;
+        }
+      } else {
+        info |= INFO_EDGE;
+      }
+      if (omegaAdj[i] === 1) info |= INFO_OUTLET;
+      cv[2 * i + 1] = info;
+    }
+  }
+}
 
 /**
  * @param cx    the grid complex (open boundary) — its ω-adjacency and neighbour graph are used
@@ -119,12 +180,14 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array): Depressio
   const roff = new Int32Array(rs);
   for (let q = 0; q < rs; q++) roff[q] = dr[q] * w + dc[q];
 
-  // cell i: cv[2i] union-find parent (UNSWEPT, a cell, or −1 − node at a root), cv[2i + 1] label.
-  // Until the cell is swept its label slot holds its ω-adjacency. Entry 2n is ω's root (node 0).
+  // cell i: cv[2i] union-find parent (a cell, or −1 − node at a root), cv[2i + 1] label. Entry 2n
+  // is ω's root (node 0). Before the sweep, in storage order (cheap: sequential), the label slot
+  // gets the cell's info word: which ring neighbours come before it in the order — exactly the
+  // neighbours already swept when the sweep reaches it — and whether it touches an outlet.
   const cv = new Int32Array(2 * n + 2);
-  for (let i = 0; i < n; i++) { cv[2 * i] = UNSWEPT; cv[2 * i + 1] = omegaAdj[i]; }
+  lowerNeighbours(values, w, h, cx.connectivity, omegaAdj, cv);
   cv[2 * n] = -1;
-  const swept = new Uint8Array(n);
+  const rank = new Uint8Array(n);
 
   let cap = 1024;
   let vertex = new Int32Array(cap), birth = new Int32Array(cap), parent = new Int32Array(cap);
@@ -139,18 +202,14 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array): Depressio
 
   const roots = new Int32Array(16), ents = new Int32Array(16);
   const nbr = new Int32Array(cx.maxDegree + 1);
-  const w1 = w - 1, h1 = h - 1;
 
   for (let s = 0; s < m; s++) {
     const v = order[s];
-    const r = (v / w) | 0;
-    const c = v - r * w;
+    const info = cv[2 * v + 1];
     let nr = 0;
-    if (c > 0 && c < w1 && r > 0 && r < h1) {
-      let mask = 0;
-      // branch-free (the flags are unpredictable): swept[j] is 0, or 1 + the union-find rank
-      for (let q = 0; q < rs; q++) mask |= ((swept[v + roff[q]] + 255) >> 8) << q;
-      let rep = reps[mask];
+    if ((info & INFO_EDGE) === 0) {
+      // one union-find lookup per group of lower neighbours already joined through each other
+      let rep = reps[info & 0xff];
       while (rep !== 0) {
         const q = 31 - Math.clz32(rep & -rep);
         rep &= rep - 1;
@@ -169,10 +228,11 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array): Depressio
         if (t === nr) { roots[nr] = x; ents[nr++] = j; }
       }
     } else {
+      const z = values[v];
       const k = cx.sublevelNbrs(v, nbr);
       for (let q = 0; q < k; q++) {
-        const j = nbr[q];
-        if (cv[2 * j] === UNSWEPT) continue;
+        const j = nbr[q], y = values[j];
+        if (!(y < z || (y === z && j < v))) continue;
         let x = j;
         for (;;) {
           const p = cv[2 * x];
@@ -187,8 +247,7 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array): Depressio
         if (t === nr) { roots[nr] = x; ents[nr++] = j; }
       }
     }
-    swept[v] = 1;
-    const atOutlet = cv[2 * v + 1] === 1;
+    const atOutlet = (info & INFO_OUTLET) !== 0;
     if (atOutlet) {
       let t = 0;
       while (t < nr && roots[t] !== n) t++;
@@ -232,14 +291,14 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array): Depressio
           parent[ch] = k; spill[ch] = v; entry[ch] = ents[t]; to[ch] = -1;
           const bi = birth[ch], bz = values[bi];
           if (bz < ebz || (bz === ebz && bi < eb)) { eb = bi; ebz = bz; }
-          if (swept[R] > swept[top]) top = R;
+          if (rank[R] > rank[top]) top = R;
         }
         vertex[k] = v; birth[k] = eb; parent[k] = -1; spill[k] = -1; entry[k] = -1; to[k] = -1;
         for (let t = 0; t < nr; t++) {
           const R = roots[t];
           if (R === top) continue;
           cv[2 * R] = top;
-          if (swept[R] === swept[top] && swept[top] < 255) swept[top]++;
+          if (rank[R] === rank[top] && rank[top] < 255) rank[top]++;
         }
         cv[2 * top] = -1 - k;
         cv[2 * v] = top;

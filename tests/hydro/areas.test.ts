@@ -19,7 +19,9 @@ function geodesicCellArea(lat1: number, lat2: number, lon1: number, lon2: number
     const p = geod.Polygon(false);
     for (let i = 0; i <= k; i++) p.AddPoint(lat1, lon1 + ((lon2 - lon1) * i) / k);
     for (let i = 0; i <= k; i++) p.AddPoint(lat2, lon2 - ((lon2 - lon1) * i) / k);
-    return Math.abs(p.Compute(false, true).area);
+    const a = p.Compute(false, true).area;
+    if (a === undefined) throw new Error('GeographicLib gave no area');
+    return Math.abs(a);
   };
   return (4 * area(128) - area(64)) / 3;
 }
