@@ -157,7 +157,7 @@ export async function writePondsFiles(dir: string, result: PondsResult, report: 
     }
     out.write('report.json', JSON.stringify(report, null, 1) + '\n');
     w.progress?.stage('writing the report');
-    addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'filled.tif', 'depth.tif', 'labels.tif'], (ctx) => buildPondsHtml(result, report, ctx, outlines));
+    addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'filled.tif', 'depth.tif', 'labels.tif'], (ctx) => buildPondsHtml(result, report, ctx));
     return out.commit();
   } catch (e) {
     out.abort();

@@ -18,7 +18,8 @@ export interface DiagramPoint {
   birth: number;
   death: number;
   kept: boolean;
-  title: string;
+  /** Tooltip text (or give PersistenceSpec.titleOf, called only for the points drawn). */
+  title?: string;
 }
 
 export interface DiagramEssential {
@@ -36,6 +37,11 @@ export interface PersistenceSpec {
   essential: DiagramEssential[];
   threshold: number;
   valueLabel: string;
+  titleOf?: (p: DiagramPoint) => string;
+  /** More pairs, counted in grey cells rather than drawn (birth and death levels). */
+  rest?: { birth: ArrayLike<number>; death: ArrayLike<number> };
+  /** Kept and dropped counts for the legend when `rest` holds some of them. */
+  counts?: { kept: number; dropped: number };
   /** Legend lines under the plot (default: what filled/hollow and the two shapes mean). */
   legend?: string[];
   /** Largest number of pairs drawn one by one. */
@@ -57,21 +63,24 @@ export function persistenceSvg(spec: PersistenceSpec): { svg: string; drawn: num
   let lo = Infinity, hi = -Infinity;
   for (const p of all) { lo = Math.min(lo, p.birth); hi = Math.max(hi, p.death); }
   for (const e of spec.essential) { lo = Math.min(lo, e.birth); hi = Math.max(hi, e.birth); }
+  const restB = spec.rest?.birth ?? [], restD = spec.rest?.death ?? [];
+  for (let i = 0; i < restB.length; i++) { if (restB[i] < lo) lo = restB[i]; if (restD[i] > hi) hi = restD[i]; }
   if (!(lo <= hi)) { lo = 0; hi = 1; }
   [lo, hi] = padded(lo, hi, 0.04);
   const strip = spec.essential.length ? 34 : 0;
   const ml = 64, mt = 14 + strip, side = 330, mb = 44;
   const t = spec.threshold;
-  const nKept = all.filter((p) => p.kept).length;
-  const nRest = Math.max(0, all.length - maxPoints);
+  const nKept = spec.counts?.kept ?? all.filter((p) => p.kept).length;
+  const nDropped = spec.counts?.dropped ?? all.length - nKept;
+  const nRest = Math.max(0, all.length - maxPoints) + restB.length;
   const fw = ml + side + 16;
   const noteLines = [
     ...(spec.legend ?? [
-      `filled: kept (${nKept}); hollow: dropped (${all.length - nKept})${t > 0 ? `; shaded band: persistence < ${fmtNum(t)}` : ''}`,
+      `filled: kept (${nKept}); hollow: dropped (${nDropped})${t > 0 ? `; shaded band: persistence < ${fmtNum(t)}` : ''}`,
       '▽ pit → pass (dimension 0); △ pass → peak (dimension 1)',
     ]),
     ...spec.notes,
-    ...(nRest ? [`${all.length - nRest} most persistent pairs drawn; ${nRest} more counted in grey cells`] : []),
+    ...(nRest ? [`${Math.min(all.length, maxPoints)} most persistent pairs drawn; ${nRest} more counted in grey cells`] : []),
   ].flatMap((s) => wrapText(s, Math.floor((fw - 24) / 6.6)));
   const fh = mt + side + mb + noteLines.length * 16 + 6;
   const g: DiagramGeometry = { fw, fh, ml, mt, side, lo, hi };
@@ -105,14 +114,17 @@ export function persistenceSvg(spec: PersistenceSpec): { svg: string; drawn: num
   // points: the most persistent one by one, the rest binned
   const order = all.map((_, i) => i).sort((a, b) => (all[b].death - all[b].birth) - (all[a].death - all[a].birth));
   const drawn = order.slice(0, maxPoints), rest = order.slice(maxPoints);
-  if (rest.length) {
+  if (rest.length || restB.length) {
     const B = 48, cnt = new Uint32Array(B * B);
-    for (const i of rest) {
-      const bx = Math.min(B - 1, Math.max(0, Math.floor(((all[i].birth - lo) / (hi - lo)) * B)));
-      const by = Math.min(B - 1, Math.max(0, Math.floor(((all[i].death - lo) / (hi - lo)) * B)));
+    const bin = (b: number, d: number) => {
+      const bx = Math.min(B - 1, Math.max(0, Math.floor(((b - lo) / (hi - lo)) * B)));
+      const by = Math.min(B - 1, Math.max(0, Math.floor(((d - lo) / (hi - lo)) * B)));
       cnt[by * B + bx]++;
-    }
-    const cmax = Math.max(...cnt);
+    };
+    for (const i of rest) bin(all[i].birth, all[i].death);
+    for (let i = 0; i < restB.length; i++) bin(restB[i], restD[i]);
+    let cmax = 0;
+    for (const c of cnt) if (c > cmax) cmax = c;
     const cells: string[] = [];
     const cw = side / B;
     for (let by = 0; by < B; by++) for (let bx = 0; bx < B; bx++) {
@@ -129,7 +141,7 @@ export function persistenceSvg(spec: PersistenceSpec): { svg: string; drawn: num
     const p = all[i];
     const kind = p.dim === 0 ? 'pit' : 'peak';
     mk.push(marker({
-      key: p.key ?? `pair-${i}`, kind, x: X.map(p.birth), y: Y.map(p.death), scale: 1, radius: 4.5, title: p.title,
+      key: p.key ?? `pair-${i}`, kind, x: X.map(p.birth), y: Y.map(p.death), scale: 1, radius: 4.5, title: p.title ?? spec.titleOf?.(p) ?? '',
       fill: p.kept ? MARKER_FILL[kind] : THEME.panel, extraClass: p.kept ? 'kept' : 'dropped',
     }));
   }
@@ -141,5 +153,5 @@ export function persistenceSvg(spec: PersistenceSpec): { svg: string; drawn: num
   let ny = mt + side + mb + 6;
   parts.push(`<g class="notes" font-size="12">${noteLines.map((s) => { const r = `<text x="16" y="${n(ny)}" fill="${THEME.muted}">${esc(s)}</text>`; ny += 16; return r; }).join('')}</g>`);
   parts.push('</svg>');
-  return { svg: parts.join(''), drawn: drawn.length + spec.essential.length, binned: rest.length, geometry: g };
+  return { svg: parts.join(''), drawn: drawn.length + spec.essential.length, binned: rest.length + restB.length, geometry: g };
 }

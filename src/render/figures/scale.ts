@@ -84,3 +84,24 @@ export function fmtNum(x: number | null | undefined, digits = 5): string {
   if (Math.abs(x) >= 10 ** digits) return x.toFixed(0).replace('-', '−');
   return Number(x.toPrecision(digits)).toString().replace('-', '−');
 }
+
+/**
+ * Indices of the k largest keys, largest first (ties: lower index first), without sorting
+ * everything: the k-th largest key is found by a native numeric sort of a copy, then only the
+ * keys at or above it are ordered. NaN keys are never picked.
+ */
+export function topIndices(keys: Float64Array, k: number): Uint32Array {
+  const n = keys.length;
+  if (k <= 0 || n === 0) return new Uint32Array(0);
+  let cut = -Infinity;
+  if (k < n) {
+    const sorted = Float64Array.from(keys).sort(); // NaN sorts last
+    let valid = n;
+    while (valid > 0 && Number.isNaN(sorted[valid - 1])) valid--;
+    cut = valid >= k ? sorted[valid - k] : -Infinity;
+  }
+  const pick: number[] = [];
+  for (let i = 0; i < n; i++) if (keys[i] >= cut) pick.push(i);
+  pick.sort((a, b) => keys[b] - keys[a] || a - b);
+  return Uint32Array.from(pick.slice(0, k));
+}

@@ -209,3 +209,35 @@ export function treeSvg(spec: TreeSpec): { svg: string; markers: number; geometr
   parts.push('</svg>');
   return { svg: parts.join(''), markers: mk.length, geometry: { fw, fh, ml, mt, pw, ph } };
 }
+
+/**
+ * The same reduction as reduceTree on typed arrays, for trees numbered children before parents
+ * (a merge-tree sweep) or visited in such an `order`: one pass, no objects per node. Returns the surviving node numbers in
+ * increasing order and, for each, its surviving parent (−1 for a root).
+ */
+export function reduceSweepTree(parent: Int32Array, childCount: Int32Array, keepLeaf: (node: number) => boolean, order?: Int32Array): { nodes: Int32Array; parent: Int32Array } {
+  const n = parent.length;
+  const pos = new Int32Array(n);
+  if (order) for (let q = 0; q < n; q++) pos[order[q]] = q; else for (let q = 0; q < n; q++) pos[q] = q;
+  const rep = new Int32Array(n).fill(-1);
+  const liveCount = new Int32Array(n), liveHead = new Int32Array(n).fill(-1), nextLive = new Int32Array(n).fill(-1);
+  const newParent = new Int32Array(n).fill(-1);
+  const kept = new Uint8Array(n);
+  for (let q = 0; q < n; q++) {
+    const k = order ? order[q] : q;
+    if (childCount[k] === 0) {
+      if (keepLeaf(k)) { rep[k] = k; kept[k] = 1; }
+    } else if (liveCount[k] >= 2) {
+      kept[k] = 1; rep[k] = k;
+      for (let r = liveHead[k]; r >= 0; r = nextLive[r]) newParent[r] = k;
+    } else if (liveCount[k] === 1) rep[k] = liveHead[k];
+    const p = parent[k];
+    if (p >= 0 && rep[k] >= 0) {
+      if (pos[p] <= q) throw new Error('reduceSweepTree: parents must come after their children');
+      nextLive[rep[k]] = liveHead[p]; liveHead[p] = rep[k]; liveCount[p]++;
+    }
+  }
+  const nodes: number[] = [];
+  for (let k = 0; k < n; k++) if (kept[k]) nodes.push(k);
+  return { nodes: Int32Array.from(nodes), parent: Int32Array.from(nodes, (k) => newParent[k]) };
+}

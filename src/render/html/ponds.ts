@@ -5,15 +5,16 @@
  */
 import type { PondsResult } from '../../hydro/ponds.js';
 import type { PondsReport, DepressionRecord } from '../../report/ponds.js';
-import { depressionOutlines, type DepressionOutline } from '../../hydro/vectors.js';
-import { mapSvg, type MapMarker, type MapShape } from '../figures/map.js';
-import { treeSvg, limitLeaves, type TreeNodeIn } from '../figures/tree.js';
+import type { DepressionOutline } from '../../hydro/vectors.js';
+import { mapSvg, mapGeometry, type MapMarker, type MapShape } from '../figures/map.js';
+import { traceRegion } from '../figures/outline.js';
+import { treeSvg, reduceSweepTree, type TreeNodeIn } from '../figures/tree.js';
 import { persistenceSvg, type DiagramPoint } from '../figures/persistence.js';
 import { blockStats, blockCentreSample, mapToPlot, finiteRange } from '../figures/raster.js';
 import { makeRamp } from '../figures/colour.js';
 import { overlay } from '../figures/layers.js';
 import { encodePng, pngDataUri } from '../figures/png.js';
-import { fmtNum } from '../figures/scale.js';
+import { fmtNum, topIndices } from '../figures/scale.js';
 import { n } from '../figures/svg.js';
 import { RAMPS } from '../figures/theme.js';
 import type { ReportDoc, TableSpec, ReportContext, BuiltReport, HoverLayer } from './model.js';
@@ -22,11 +23,11 @@ import {
 } from './surface.js';
 import { axesLabels } from './survey.js';
 
-export const PONDS_LIMITS = { outlines: 2000, markers: 3000, treeLeaves: 250, tableRows: 5000 };
+export const PONDS_LIMITS = { outlines: 1500, outlinePoints: 250_000, markers: 3000, treeLeaves: 250, tableRows: 5000 };
 
 export const dkey = (id: number): string => `d${id}`;
 
-/** Outline rings (map coordinates) as SVG path data in plot coordinates, collinear points dropped. */
+/** Outline rings (map coordinates, e.g. from depressions.geojson) as SVG path data in plot coordinates, collinear points dropped. */
 export function outlinePath(o: DepressionOutline, t: PondsResult['grid']['transform']): string {
   const parts: string[] = [];
   for (const poly of o.polygons) {
@@ -50,7 +51,66 @@ export function pourAngle(d: DepressionRecord): number {
   return (Math.atan2(d.pour.to.row - d.pour.row, d.pour.to.col - d.pour.col) * 180) / Math.PI;
 }
 
-export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: ReportContext, outlines?: DepressionOutline[]): BuiltReport {
+/** Indices into report.depressions ordered deepest nesting level first (children before their parents). */
+export function childrenFirst(report: PondsReport): Int32Array {
+  const deps = report.depressions;
+  let maxLevel = 0;
+  for (const d of deps) if (d.level > maxLevel) maxLevel = d.level;
+  const start = new Int32Array(maxLevel + 2);
+  for (const d of deps) start[maxLevel - d.level + 1]++;
+  for (let l = 1; l <= maxLevel + 1; l++) start[l] += start[l - 1];
+  const out = new Int32Array(deps.length);
+  deps.forEach((d, i) => { out[start[maxLevel - d.level]++] = i; });
+  return out;
+}
+
+/**
+ * Outlines of the largest depressions at display resolution (nested depressions included in their
+ * parent's region), most voluminous first, until the count or the vertex budget is reached.
+ */
+export function displayOutlines(result: PondsResult, report: PondsReport, displayLabels: Int32Array, dw: number, dh: number, factor: number, tol: number): MapShape[] {
+  const H = result.hierarchy;
+  const deps = report.depressions;
+  const N = deps.length + 1;
+  const box = new Int32Array(4 * N);
+  for (let d = 0; d < N; d++) box.set([0x7fffffff, 0x7fffffff, -1, -1], 4 * d);
+  for (let r = 0; r < dh; r++) {
+    for (let c = 0; c < dw; c++) {
+      const e = displayLabels[r * dw + c];
+      if (e <= 0) continue;
+      const b = 4 * e;
+      if (c < box[b]) box[b] = c;
+      if (r < box[b + 1]) box[b + 1] = r;
+      if (c > box[b + 2]) box[b + 2] = c;
+      if (r > box[b + 3]) box[b + 3] = r;
+    }
+  }
+  // a parent's box holds its children's: deepest first
+  for (const i of childrenFirst(report)) {
+    const d = deps[i];
+    if (d.parent === null || box[4 * d.id + 2] < 0) continue;
+    const b = 4 * d.id, p = 4 * d.parent;
+    box[p] = Math.min(box[p], box[b]); box[p + 1] = Math.min(box[p + 1], box[b + 1]);
+    box[p + 2] = Math.max(box[p + 2], box[b + 2]); box[p + 3] = Math.max(box[p + 3], box[b + 3]);
+  }
+  const shapes: MapShape[] = [];
+  let points = 0;
+  for (const i of topIndices(Float64Array.from(deps, (d) => d.volume), 4 * PONDS_LIMITS.outlines)) {
+    const d = deps[i];
+    if (shapes.length >= PONDS_LIMITS.outlines || points >= PONDS_LIMITS.outlinePoints) break;
+    const b = 4 * d.id;
+    if (box[b + 2] < 0) continue;
+    const lo = H.tin[d.id], hi = H.tout[d.id];
+    const o = traceRegion(displayLabels, dw, [box[b], box[b + 1], box[b + 2], box[b + 3]], (e) => e > 0 && H.tin[e] >= lo && H.tin[e] < hi, factor, tol);
+    if (!o.d) continue;
+    points += o.points;
+    shapes.push({ key: dkey(d.id), d: o.d, title: `depression #${d.id}` });
+  }
+  // outer outlines first, nested ones drawn over them
+  return shapes.sort((a, b) => deps[Number(a.key.slice(1)) - 1].level - deps[Number(b.key.slice(1)) - 1].level);
+}
+
+export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: ReportContext): BuiltReport {
   const g = result.grid;
   const u = report.units;
   const zu = u.elevation, au = u.area, vu = u.volume;
@@ -73,11 +133,11 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
 
   // depressions, largest first for the caps
   const deps = report.depressions;
-  const byVolume = [...deps].sort((a, b) => b.volume - a.volume || a.id - b.id);
-  const drawn = new Set(byVolume.slice(0, PONDS_LIMITS.outlines).map((d) => d.id));
-  const ol = outlines ?? depressionOutlines(g, R.labels, result.hierarchy);
-  const shapes: MapShape[] = ol.filter((o) => drawn.has(o.id)).sort((a, b) => deps[a.id - 1].level - deps[b.id - 1].level)
-    .map((o) => ({ key: dkey(o.id), d: outlinePath(o, g.transform), title: `depression #${o.id}` })).filter((s) => s.d);
+  const volumes = Float64Array.from(deps, (d) => d.volume);
+  const byVolume = Array.from(topIndices(volumes, Math.max(PONDS_LIMITS.tableRows, PONDS_LIMITS.markers)), (i) => deps[i]);
+  const displayLabels = f === 1 ? R.labels : blockCentreSample(R.labels, g.width, g.height, f);
+  const kfig = mapGeometry(g.width, g.height, 0).k;
+  const shapes = displayOutlines(result, report, displayLabels, sd.frame.dw, sd.frame.dh, f, Math.max(0.3, 0.6 / (kfig * f)));
   const markers: MapMarker[] = [];
   for (const d of byVolume.slice(0, Math.floor(PONDS_LIMITS.markers / 2))) {
     // a merged depression's pit is its deepest child's pit: one marker there, the child's
@@ -103,7 +163,8 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
 
   const mapNotes = [...displayNotes(sd, g, contours, zu), ...layer.notes,
     `water depth: each display cell's mean depth with every depression filled to its spill level (deepest ${fz(dmax)} ${zu})`];
-  if (shownDeps < deps.length) mapNotes.push(`${shownDeps} largest of ${deps.length} depressions marked (outlines: ${Math.min(deps.length, PONDS_LIMITS.outlines)})`);
+  if (shownDeps < deps.length || shapes.length < deps.length) mapNotes.push(`${shownDeps} largest of ${deps.length} depressions marked, ${shapes.length} outlined`);
+  mapNotes.push(`outlines traced at display resolution${f > 1 ? ` (blocks of ${f} × ${f} cells)` : ''}; depressions.geojson has them cell by cell`);
   const map = mapSvg({
     id: 'map', title: `Depressions of ${report.input ?? 'the DEM'}`,
     desc: `${g.width} by ${g.height} DEM in grey with hillshade; water depth at the spill levels in colour; ${shapes.length} depression outlines; `
@@ -118,17 +179,29 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
   });
 
   // spill-level tree: each depression from its floor (pit, or where its children merged) up to its spill level
-  const childSpill = new Map<number, number>();
-  for (const d of deps) if (d.parent !== null) childSpill.set(d.parent, Math.max(childSpill.get(d.parent) ?? -Infinity, d.spillValue));
-  const nodes: TreeNodeIn[] = deps.map((d) => ({
-    id: d.id, parent: d.parent ?? -1,
-    value: d.children.length ? childSpill.get(d.id)! : d.pitValue,
-    kind: d.children.length ? 'pass' : 'pit', key: dkey(d.id),
-    title: `#${d.id}: ${d.children.length ? `${d.children.length} depressions merge at ${fz(childSpill.get(d.id)!)}` : `pit ${fz(d.pitValue)}`} ${zu}; spills at ${fz(d.spillValue)} ${zu}; ${fmtNum(d.volume, 4)} ${vu}`,
-    weight: d.volume, importance: d.volume,
-    ...(d.parent === null ? { top: d.spillValue, cap: { kind: 'pour' as const, angle: -90, title: `#${d.id} spills at ${fz(d.spillValue)} ${zu} into ${d.into === 'outside' ? 'the outside' : `#${d.into}`}` } } : {}),
-  }));
-  const lim = limitLeaves(nodes, PONDS_LIMITS.treeLeaves);
+  const N = deps.length;
+  const childSpill = new Float64Array(N + 1).fill(-Infinity);
+  for (const d of deps) if (d.parent !== null && d.spillValue > childSpill[d.parent]) childSpill[d.parent] = d.spillValue;
+  // keep the largest innermost depressions; contract the rest on typed arrays, then make node objects
+  const parentIx = Int32Array.from(deps, (d) => (d.parent === null ? -1 : d.parent - 1));
+  const kids = Int32Array.from(deps, (d) => d.children.length);
+  const leafVol = Float64Array.from(deps, (d) => (d.children.length ? NaN : d.volume));
+  const keepLeaf = new Uint8Array(N);
+  for (const i of topIndices(leafVol, PONDS_LIMITS.treeLeaves)) keepLeaf[i] = 1;
+  const leafCount = deps.reduce((m, d) => m + (d.children.length ? 0 : 1), 0);
+  const red = reduceSweepTree(parentIx, kids, (i) => keepLeaf[i] === 1, childrenFirst(report));
+  const nodes: TreeNodeIn[] = Array.from(red.nodes, (i, q) => {
+    const d = deps[i];
+    const floor = d.children.length ? childSpill[d.id] : d.pitValue;
+    return {
+      id: d.id, parent: red.parent[q] < 0 ? -1 : deps[red.parent[q]].id,
+      value: floor, kind: d.children.length ? 'pass' as const : 'pit' as const, key: dkey(d.id),
+      title: `#${d.id}: ${d.children.length ? `${d.children.length} depressions merge at ${fz(floor)}` : `pit ${fz(d.pitValue)}`} ${zu}; spills at ${fz(d.spillValue)} ${zu}; ${fmtNum(d.volume, 4)} ${vu}`,
+      weight: d.volume, importance: d.volume,
+      ...(d.parent === null ? { top: d.spillValue, cap: { kind: 'pour' as const, angle: -90, title: `#${d.id} spills at ${fz(d.spillValue)} ${zu} into ${d.into === 'outside' ? 'the outside' : `#${d.into}`}` } } : {}),
+    };
+  });
+  const lim = { nodes, leaves: leafCount, shown: Math.min(leafCount, PONDS_LIMITS.treeLeaves) };
   const tree = treeSvg({
     id: 'tree', title: 'Spill-level tree of the depressions',
     desc: `Each depression is a stem from its floor to its spill level; nested depressions join their parent where they merge. Stem width grows with volume. ${lim.nodes.length} depressions.`,
@@ -138,16 +211,24 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
 
   // depth (spill − pit) of every reported depression as a persistence pair
   const thr = Math.max(report.filters.minDepth, report.filters.minPersistence);
-  const points: DiagramPoint[] = deps.map((d) => ({
-    key: dkey(d.id), dim: 0, birth: d.pitValue, death: d.spillValue, kept: true,
-    title: `#${d.id}: pit ${fz(d.pitValue)} → spill ${fz(d.spillValue)} (depth ${fz(d.maxDepth)})`,
-  }));
+  const depth = Float64Array.from(deps, (d) => d.spillValue - d.pitValue);
+  const drawnIdx = topIndices(depth, 2500);
+  const isDrawn = new Uint8Array(N);
+  const points: DiagramPoint[] = Array.from(drawnIdx, (i) => {
+    isDrawn[i] = 1;
+    const d = deps[i];
+    return { key: dkey(d.id), dim: 0 as const, birth: d.pitValue, death: d.spillValue, kept: true };
+  });
+  const restB = new Float64Array(N - points.length), restD = new Float64Array(N - points.length);
+  for (let i = 0, q = 0; i < N; i++) if (!isDrawn[i]) { restB[q] = deps[i].pitValue; restD[q] = deps[i].spillValue; q++; }
   const rm = report.removed;
   const diagram = persistenceSvg({
     id: 'persistence', title: 'Depth of each depression: pit level against spill level',
-    desc: `${points.length} depressions as (pit level, spill level); the distance above the diagonal is the depth.`,
-    points, essential: [], threshold: thr, valueLabel: `level [${zu}]`,
-    legend: [`▽ one per depression (${points.length})${thr > 0 ? `; shaded band: depth < ${fmtNum(thr)} ${zu}, the threshold` : ''}`],
+    desc: `${N} depressions as (pit level, spill level); the distance above the diagonal is the depth.`,
+    points, essential: [], threshold: thr, valueLabel: `level [${zu}]`, maxPoints: 2500,
+    rest: { birth: restB, death: restD }, counts: { kept: N, dropped: 0 },
+    titleOf: (p) => `${p.key!.replace('d', '#')}: pit ${fz(p.birth)} → spill ${fz(p.death)} (depth ${fz(p.death - p.birth)})`,
+    legend: [`▽ one per depression (${N})${thr > 0 ? `; shaded band: depth < ${fmtNum(thr)} ${zu}, the threshold` : ''}`],
     notes: [
       ...(rm.filtered ? [`${rm.filtered} depressions removed by the filters (depth, area, volume) are not drawn`] : []),
       ...(rm.flats ? [`${rm.flats} flats at their own spill level hold no water`] : []),
@@ -186,7 +267,7 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
     hover.push({ label: 'depression', unit: '', mode: 'label', prefix: 'in depression #', b64: packArray(Int32Array.from(R.labels)) });
   } else {
     hover.push({ label: 'water depth', unit: zu, mode: 'range', b64: `${packArray(dstats.min)},${packArray(dstats.max)}` });
-    hover.push({ label: 'depression', unit: '', mode: 'label', prefix: 'block centre in depression #', b64: packArray(blockCentreSample(R.labels, g.width, g.height, f)) });
+    hover.push({ label: 'depression', unit: '', mode: 'label', prefix: 'block centre in depression #', b64: packArray(displayLabels) });
   }
 
   const fl = report.filters;

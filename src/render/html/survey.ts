@@ -5,9 +5,9 @@ import type { SurveyResult } from '../../morse/survey.js';
 import type { SurveyReport, CriticalPointRecord } from '../../report/survey.js';
 import type { MergeTree } from '../../morse/mergetree.js';
 import { mapSvg, type MapMarker } from '../figures/map.js';
-import { treeSvg, limitLeaves, type TreeNodeIn } from '../figures/tree.js';
+import { treeSvg, reduceSweepTree, type TreeNodeIn } from '../figures/tree.js';
 import { persistenceSvg, type DiagramPoint, type DiagramEssential } from '../figures/persistence.js';
-import { fmtNum } from '../figures/scale.js';
+import { fmtNum, topIndices } from '../figures/scale.js';
 import type { MarkerKind } from '../figures/markers.js';
 import type { ReportDoc, TableSpec, ReportContext, BuiltReport } from './model.js';
 import {
@@ -29,13 +29,17 @@ export function xyText(x: number, y: number, geographic: boolean, unit: string):
   return `${f(x)}, ${f(y)}${unit && unit !== 'input units' ? ' ' + unit : ''}`;
 }
 
-/** Persistence of each vertex that ends or starts a finite pair (the largest, for passes in several). */
-export function persistenceByVertex(result: SurveyResult): Map<number, number> {
-  const m = new Map<number, number>();
-  const P = result.pairs;
+/**
+ * For each vertex, the finite pair it starts or ends with the largest persistence (−1: none), so
+ * persistence(v) = pairs.persistence[pairOf[v]]. One Int32 per vertex, no objects.
+ */
+export function pairOfVertex(result: SurveyResult): Int32Array {
+  const m = new Int32Array(result.complex.values.length).fill(-1);
+  const P = result.pairs, pp = P.persistence;
   for (let k = 0; k < P.dim.length; k++) {
-    const p = P.persistence[k];
-    for (const v of [P.birthVertex[k], P.deathVertex[k]]) if (!(m.get(v)! >= p)) m.set(v, p);
+    const p = pp[k], b = P.birthVertex[k], d = P.deathVertex[k];
+    if (m[b] < 0 || pp[m[b]] < p) m[b] = k;
+    if (m[d] < 0 || pp[m[d]] < p) m[d] = k;
   }
   return m;
 }
@@ -45,22 +49,37 @@ export function domainOf(report: { boundary: string; surface: { crs: unknown } }
   return report.boundary === 'open' || report.surface.crs ? 'terrain' : 'energy';
 }
 
-/** Join-tree nodes as tree-plot input. */
-export function joinTreeNodes(tree: MergeTree, values: ArrayLike<number>, surface: Grid | Mesh, pers: Map<number, number>, unit: string, fv: (x: number) => string = (x) => fmtNum(x, 7)): TreeNodeIn[] {
-  const out: TreeNodeIn[] = [];
-  for (let k = 0; k < tree.vertex.length; k++) {
+/**
+ * Join-tree nodes as tree-plot input, reduced to the `maxLeaves` most persistent leaves (the
+ * outside first) in one pass over the sweep-ordered tree.
+ */
+export function joinTreeNodes(tree: MergeTree, values: ArrayLike<number>, surface: Grid | Mesh, persOf: (v: number) => number, unit: string, fv: (x: number) => string, maxLeaves: number): { nodes: TreeNodeIn[]; leaves: number } {
+  const nn = tree.vertex.length;
+  const imp = new Float64Array(nn).fill(NaN);
+  let leaves = 0;
+  for (let k = 0; k < nn; k++) {
+    if (tree.childCount[k] !== 0) continue;
+    leaves++;
     const v = tree.vertex[k];
+    imp[k] = persOf(v);
+  }
+  const keep = new Uint8Array(nn);
+  for (const k of topIndices(imp, maxLeaves)) keep[k] = 1;
+  const red = reduceSweepTree(tree.parent, tree.childCount, (k) => keep[k] === 1);
+  const out: TreeNodeIn[] = [];
+  for (let q = 0; q < red.nodes.length; q++) {
+    const k = red.nodes[q], v = tree.vertex[k];
     const leaf = tree.childCount[k] === 0;
     const kind: MarkerKind = v < 0 ? 'outside' : leaf ? 'pit' : 'pass';
     const value = v < 0 ? -Infinity : values[v];
     const at = v < 0 ? '' : surface.kind === 'grid' ? ` at cell (${v % surface.width}, ${Math.floor(v / surface.width)})` : ` at point ${v}`;
     out.push({
-      id: k, parent: tree.parent[k], value, kind, key: vkey(v),
+      id: k, parent: red.parent[q], value, kind, key: vkey(v),
       title: v < 0 ? 'outside (−∞): every component drains here in the end' : `${kind} ${fv(value)}${unit ? ' ' + unit : ''}${at}`,
-      importance: leaf ? (v < 0 ? Infinity : pers.get(v) ?? Infinity) : 0,
+      importance: leaf ? imp[k] : 0,
     });
   }
-  return out;
+  return { nodes: out, leaves };
 }
 
 export function buildSurveyReport(surface: Grid | Mesh, result: SurveyResult, report: SurveyReport, ctx: ReportContext): BuiltReport {
@@ -71,14 +90,18 @@ export function buildSurveyReport(surface: Grid | Mesh, result: SurveyResult, re
   const valueName = domain === 'terrain' ? 'elevation' : 'value';
   const layer = surfaceLayer(sd, { domain, label: `${valueName} [${unitLabel}]` });
   const contours = surfaceContours(sd, domain === 'terrain' ? 12 : 14);
-  const pers = persistenceByVertex(result);
+  const pairOf = pairOfVertex(result);
+  /** Persistence of a vertex's most persistent pair; Infinity for an essential class. */
+  const persOf = (v: number): number => (v >= 0 && pairOf[v] >= 0 ? result.pairs.persistence[pairOf[v]] : Infinity);
   const xyUnit = sd.xyUnit || (surface.crs ? 'CRS units' : 'input units');
   const dec = valueDecimals(result.complex.values, finiteRange(sd.stats.min)[0], finiteRange(sd.stats.max)[1]);
   const fv = (x: number) => fmtDec(x, dec);
 
   // features, most persistent first
-  const ranked = report.criticalPoints.map((c, i) => ({ c, i, p: pers.get(c.index) ?? Infinity }))
-    .sort((a, b) => b.p - a.p || a.i - b.i);
+  const cps = report.criticalPoints;
+  const cpKey = new Float64Array(cps.length);
+  for (let i = 0; i < cps.length; i++) cpKey[i] = persOf(cps[i].index);
+  const ranked = Array.from(topIndices(cpKey, Math.max(LIMITS.markers, LIMITS.tableRows)), (i) => ({ c: cps[i], i, p: cpKey[i] }));
   const onMap = ranked.slice(0, LIMITS.markers);
   const tips: ReportDoc['tips'] = {};
   const tipOf = (c: CriticalPointRecord, p: number): [string, string][] => [
@@ -111,17 +134,13 @@ export function buildSurveyReport(surface: Grid | Mesh, result: SurveyResult, re
 
   // join tree
   const values = result.complex.values;
-  const byIndex = new Map(report.criticalPoints.map((c) => [c.index, c] as [number, CriticalPointRecord]));
-  for (let k = 0; k < result.join.vertex.length; k++) {
-    const v = result.join.vertex[k];
-    if (v >= 0 && !tips[vkey(v)]) {
-      const c = byIndex.get(v);
-      if (c) tips[vkey(v)] = tipOf(c, pers.get(v) ?? Infinity);
-    }
-  }
   tips.outside = [['', 'outside (−∞)'], ['meaning', 'beyond the grid edge and nodata: water leaving the map']];
-  const allNodes = joinTreeNodes(result.join, values, surface, pers, unitShort, fv);
-  const lim = limitLeaves(allNodes, LIMITS.treeLeaves);
+  const jt = joinTreeNodes(result.join, values, surface, persOf, unitShort, fv, LIMITS.treeLeaves);
+  const lim = { nodes: jt.nodes, leaves: jt.leaves, shown: Math.min(jt.leaves, LIMITS.treeLeaves) };
+  const cpOf = new Map<number, CriticalPointRecord>();
+  const want = new Set(lim.nodes.map((nd) => nd.key!).filter((k) => k !== 'outside' && !tips[k]).map((k) => Number(k.slice(1))));
+  if (want.size) for (const c of cps) if (want.has(c.index)) cpOf.set(c.index, c);
+  for (const [v, c] of cpOf) tips[vkey(v)] = tipOf(c, persOf(v));
   const treeNotes = [
     report.minPersistence > 0 ? `simplified: branches with persistence < ${fmtNum(report.minPersistence)} removed` : 'every branch of positive persistence shown',
     ...(lim.shown < lim.leaves ? [`${lim.shown} most persistent of ${lim.leaves} leaves shown`] : []),
@@ -134,31 +153,46 @@ export function buildSurveyReport(surface: Grid | Mesh, result: SurveyResult, re
 
   // persistence diagram
   const P = result.pairs;
-  const points: DiagramPoint[] = [];
-  const born = new Set<number>();
-  for (let k = 0; k < P.dim.length; k++) {
-    if (P.dim[k] === 0) born.add(P.birthVertex[k]);
+  const NP = P.dim.length;
+  const born = new Uint8Array(values.length);
+  const pkey = new Float64Array(NP).fill(NaN);
+  let nKept = 0, nDropped = 0;
+  for (let k = 0; k < NP; k++) {
+    if (P.dim[k] === 0) born[P.birthVertex[k]] = 1;
     const p = P.persistence[k];
     if (!(p > 0)) continue;
+    pkey[k] = p;
+    if (p >= report.minPersistence) nKept++; else nDropped++;
+  }
+  const drawnIdx = topIndices(pkey, LIMITS.diagramPoints);
+  const isDrawn = new Uint8Array(NP);
+  const points: DiagramPoint[] = [];
+  for (const k of drawnIdx) {
+    isDrawn[k] = 1;
     const dim = P.dim[k] as 0 | 1;
     const feature = dim === 0 ? P.birthVertex[k] : P.deathVertex[k];
-    const kept = p >= report.minPersistence;
-    points.push({
-      key: vkey(feature), dim, birth: values[P.birthVertex[k]], death: values[P.deathVertex[k]], kept,
-      title: `${dim === 0 ? 'pit → pass' : 'pass → peak'}: ${fv(values[P.birthVertex[k]])} → ${fv(values[P.deathVertex[k]])}, persistence ${fv(p)}${kept ? '' : ' (dropped)'}`,
-    });
-    const key = vkey(feature);
-    if (!tips[key]) {
-      tips[key] = [['', `${dim === 0 ? 'pit' : 'peak'} ${fv(dim === 0 ? values[P.birthVertex[k]] : values[P.deathVertex[k]])}${unitShort ? ' ' + unitShort : ''}`],
-        ['pair', `${fv(values[P.birthVertex[k]])} → ${fv(values[P.deathVertex[k]])}`], ['persistence', `${fv(p)} ${unitLabel}`], ['kept', kept ? 'yes' : `no: below ${fmtNum(report.minPersistence)}`]];
-    }
+    points.push({ key: vkey(feature), dim, birth: values[P.birthVertex[k]], death: values[P.deathVertex[k]], kept: P.persistence[k] >= report.minPersistence });
   }
-  const essential: DiagramEssential[] = report.criticalPoints.filter((c) => c.kind === 'pit' && !born.has(c.index))
+  const restN = nKept + nDropped - points.length;
+  const restB = new Float64Array(restN), restD = new Float64Array(restN);
+  for (let k = 0, q = 0; k < NP; k++) {
+    if (isDrawn[k] || !(P.persistence[k] > 0)) continue;
+    restB[q] = values[P.birthVertex[k]]; restD[q] = values[P.deathVertex[k]]; q++;
+  }
+  // tooltips for the pairs drawn one by one
+  for (const pt of points) {
+    if (tips[pt.key!]) continue;
+    tips[pt.key!] = [['', `${pt.dim === 0 ? 'pit' : 'peak'} ${fv(pt.dim === 0 ? pt.birth : pt.death)}${unitShort ? ' ' + unitShort : ''}`],
+      ['pair', `${fv(pt.birth)} → ${fv(pt.death)}`], ['persistence', `${fv(pt.death - pt.birth)} ${unitLabel}`], ['kept', pt.kept ? 'yes' : `no: below ${fmtNum(report.minPersistence)}`]];
+  }
+  const essential: DiagramEssential[] = cps.filter((c) => c.kind === 'pit' && !born[c.index])
     .map((c) => ({ key: vkey(c.index), dim: 0, birth: c.value, title: `pit ${fv(c.value)}: essential (never dies)` }));
   const diagram = persistenceSvg({
     id: 'persistence', title: 'Persistence diagram',
-    desc: `Each pair of critical points as (birth level, death level); ${points.length} pairs of positive persistence, threshold ${fmtNum(report.minPersistence)}.`,
+    desc: `Each pair of critical points as (birth level, death level); ${nKept + nDropped} pairs of positive persistence, threshold ${fmtNum(report.minPersistence)}.`,
     points, essential, threshold: report.minPersistence, valueLabel: `level [${unitLabel}]`, maxPoints: LIMITS.diagramPoints,
+    rest: { birth: restB, death: restD }, counts: { kept: nKept, dropped: nDropped },
+    titleOf: (p) => `${p.dim === 0 ? 'pit → pass' : 'pass → peak'}: ${fv(p.birth)} → ${fv(p.death)}, persistence ${fv(p.death - p.birth)}${p.kept ? '' : ' (dropped)'}`,
     notes: report.counts.zeroPersistencePairs ? [`${report.counts.zeroPersistencePairs} pairs of zero persistence (ties, flats) not drawn`] : [],
   });
 
