@@ -7,6 +7,8 @@ import { disconnectivitySvg } from '../render/disconnectivity.js';
 import { landscapeSvg } from '../render/landscape.js';
 import { toCsv } from '../io/tables.js';
 import { OutputFolder } from '../io/outdir.js';
+import { reportRequest, addReport, reportSummary, flagsOf, BARRIERS_FLAGS, type ReportRequest } from './report-option.js';
+import { buildBarriersReport as buildBarriersHtml } from '../render/html/barriers.js';
 import { InputError } from '../errors.js';
 import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
@@ -82,6 +84,8 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
   const images = parseNumber('--images', opts.images ?? '81', { integer: true, min: 5 });
   const maxPaths = parseNumber('--max-paths', opts.maxPaths ?? '200', { integer: true, min: 0 });
 
+  // the command line in the report names the boundary in effect and leaves out a defaulted --min-persistence
+  const render = reportRequest('barriers', [input], { ...opts, boundary, periodic: undefined, minPersistence: minPersistence === undefined ? undefined : opts.minPersistence }, flagsOf({ ...opts }, BARRIERS_FLAGS));
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
   progress.stage('critical points, basins, refinement and paths');
@@ -90,13 +94,14 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
   }, input);
   progress.done();
   if (!report.euler.holds) throw new Error(`Euler relation fails (χ = ${report.euler.characteristic}, pits − passes + peaks = ${report.euler.pits - report.euler.passes + report.euler.peaks}); this is a bug in sill, please report it with the input`);
-  if (opts.out) writeBarriersFiles(opts.out, result, report);
+  if (opts.out) writeBarriersFiles(opts.out, result, report, render);
   if (opts.json) process.stdout.write(JSON.stringify(report) + '\n');
   say(opts, barriersSummary(report, opts.out));
+  if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
 }
 
-export function writeBarriersFiles(dir: string, result: BarriersResult, report: BarriersReport): string[] {
+export function writeBarriersFiles(dir: string, result: BarriersResult, report: BarriersReport, render?: ReportRequest | null): string[] {
   const out = new OutputFolder(dir);
   try {
     out.write('report.json', JSON.stringify(report, null, 1) + '\n');
@@ -141,6 +146,7 @@ export function writeBarriersFiles(dir: string, result: BarriersResult, report: 
     out.write('disconnectivity.json', JSON.stringify({ schema: 'sill/disconnectivity@1', unit: report.units.output, ...report.disconnectivity }, null, 1) + '\n');
     out.write('disconnectivity.svg', disconnectivitySvg(report));
     out.write('landscape.svg', landscapeSvg(result, report));
+    addReport(out, render, ['report.json', 'minima.csv', 'transition-states.csv', 'barriers.csv', 'disconnectivity.svg', 'landscape.svg'], (ctx) => buildBarriersHtml(result, report, ctx));
     return out.commit();
   } catch (e) {
     out.abort();

@@ -45,8 +45,8 @@ export async function runDemo(dir: string, quiet: boolean): Promise<void> {
   log(`   input ${scanPath}`);
   log(`-- sill survey ${scanPath} --boundary periodic --min-persistence 1 -o ${join(root, 'dihedral-survey')} --report`);
   await runSurveyCommand(scanPath, { out: join(root, 'dihedral-survey'), minPersistence: '1', connectivity: '8', boundary: 'periodic', quiet, report: true });
-  log(`-- sill barriers ${scanPath} --units kJ/mol --periodic -o ${join(root, 'dihedral-barriers')}`);
-  await runBarriersCommand(scanPath, { out: join(root, 'dihedral-barriers'), units: 'kJ/mol', periodic: true, boundaryDefault: true, minPersistenceDefault: true, connectivity: '8', quiet });
+  log(`-- sill barriers ${scanPath} --units kJ/mol --periodic -o ${join(root, 'dihedral-barriers')} --report`);
+  await runBarriersCommand(scanPath, { out: join(root, 'dihedral-barriers'), units: 'kJ/mol', periodic: true, boundaryDefault: true, minPersistenceDefault: true, connectivity: '8', quiet, report: true });
   log('');
   log(`demo results in ${root}`);
   // the reports, last, so the path to open is what the terminal ends with

@@ -61,6 +61,11 @@ export const PONDS_FLAGS: FlagSpec = [
   ['zUnits', '--z-units', undefined], ['zFactor', '--z-factor', undefined], ['xyUnits', '--xy-units', undefined],
 ];
 
+export const BARRIERS_FLAGS: FlagSpec = [
+  ['units', '--units', 'none'], ['to', '--to', undefined], ['temperature', '--temperature', '300'], ['cap', '--cap', undefined],
+  ['period', '--period', undefined], ['images', '--images', '81'], ['maxPaths', '--max-paths', '200'],
+];
+
 /** The flags of `spec` set to something other than their default, as command-line words. */
 export function flagsOf(opts: Record<string, unknown>, spec: FlagSpec): string[] {
   const out: string[] = [];

@@ -62,8 +62,8 @@ interface Expect {
   map: number;
   tree: number;
   persistence: number;
-  /** Features with their cells, to check placement: the map marker `selector` of link key `key`. */
-  cells: { key: string; selector: string; col: number; row: number }[];
+  /** Features with their plot positions (grid units; cell (c, r) has its centre at c + ½, r + ½), to check placement. */
+  cells: { key: string; selector: string; u: number; v: number }[];
   /** The first table's id and a numeric column to sort by. */
   table: string;
   sortBy: string;
@@ -79,7 +79,7 @@ function expected(dir: string): Expect {
     const essential = rep.criticalPoints.filter((c: { kind: string; index: number }) => c.kind === 'pit' && !born.has(c.index)).length;
     return {
       map: rep.criticalPoints.length, tree: tree.join.nodes.length, persistence: rep.pairs.length + removedNonzero + essential,
-      cells: rep.criticalPoints.slice(0, 5).map((c: { index: number; col: number; row: number }) => ({ key: `v${c.index}`, selector: 'g.mk', col: c.col, row: c.row })),
+      cells: rep.criticalPoints.slice(0, 5).map((c: { index: number; col: number; row: number }) => ({ key: `v${c.index}`, selector: 'g.mk', u: c.col + 0.5, v: c.row + 0.5 })),
       table: 'critical-points', sortBy: 'value',
     };
   }
@@ -92,10 +92,33 @@ function expected(dir: string): Expect {
       // outermost one; one pair (pit, spill) each
       map: deps.length + leaves.length, tree: deps.length + top, persistence: deps.length,
       cells: [
-        ...leaves.slice(0, 3).map((d) => ({ key: `d${d.id}`, selector: 'g.mk-pit', col: d.pit.col, row: d.pit.row })),
-        ...deps.slice(0, 3).map((d) => ({ key: `d${d.id}`, selector: 'g.mk-pour', col: d.pour.col, row: d.pour.row })),
+        ...leaves.slice(0, 3).map((d) => ({ key: `d${d.id}`, selector: 'g.mk-pit', u: d.pit.col + 0.5, v: d.pit.row + 0.5 })),
+        ...deps.slice(0, 3).map((d) => ({ key: `d${d.id}`, selector: 'g.mk-pour', u: d.pour.col + 0.5, v: d.pour.row + 0.5 })),
       ],
       table: 'depressions', sortBy: 'spill level',
+    };
+  }
+  if (rep.schema === 'sill/barriers@1') {
+    // the diagram shows the survey of the same surface at the barriers' threshold: ask sill survey for it
+    const sv = sill(['survey', rep.input, '--json', '--boundary', rep.boundary, '--connectivity', String(rep.connectivity), '--min-persistence', String(rep.minPersistence.value / rep.units.factor)]);
+    if (sv.code !== 0) throw new Error(sv.stderr);
+    const s = JSON.parse(sv.stdout);
+    const removedNonzero = s.counts.removedPairs.dim0 + s.counts.removedPairs.dim1 - (s.minPersistence > 0 ? s.counts.zeroPersistencePairs : 0);
+    const born = new Set(s.pairs.filter((p: { dim: number }) => p.dim === 0).map((p: { birthAt: { index: number } }) => p.birthAt.index));
+    const essential = s.criticalPoints.filter((c: { kind: string; index: number }) => c.kind === 'pit' && !born.has(c.index)).length;
+    // markers at the refined points: map (x, y) → plot by the inverse of the north-up transform, wrapped on periodic axes
+    const t = rep.surface.transform as number[];
+    const W = rep.surface.width, H = rep.surface.height;
+    const wrapU = (u: number) => (rep.periodic.x !== null ? ((u % W) + W) % W : u), wrapV = (v: number) => (rep.periodic.y !== null ? ((v % H) + H) % H : v);
+    const at = (s: { id: string; x: number; y: number; refined: { x: number; y: number } | null }, sel: string) => {
+      const [x, y] = s.refined ? [s.refined.x, s.refined.y] : [s.x, s.y];
+      return { key: `s:${s.id}`, selector: sel, u: wrapU((x - t[0]) / t[1]), v: wrapV((y - t[3]) / t[5]) };
+    };
+    return {
+      map: rep.minima.length + rep.transitionStates.length, tree: rep.disconnectivity.nodes.length,
+      persistence: s.pairs.length + removedNonzero + essential,
+      cells: [...rep.minima.slice(0, 3).map((m: never) => at(m, 'g.mk-pit')), ...rep.transitionStates.slice(0, 3).map((m: never) => at(m, 'g.mk-pass'))],
+      table: 'barriers', sortBy: 'forward',
     };
   }
   throw new Error(`no expectations for ${rep.schema}`);
@@ -136,23 +159,24 @@ describe('demo reports in Chromium', () => {
       const { page } = await open(file);
       const check = async () => {
         for (const f of feats) {
-          const got = await page.evaluate(({ k, sel, col, row }) => {
+          const got = await page.evaluate(({ k, sel, u, v }) => {
             const plot = document.getElementById('map-plot') as unknown as SVGSVGElement;
             // the plot's viewport on screen: the frame drawn around it (the nested <svg>'s own box would include clipped overflow)
             const vb = plot.viewBox.baseVal, r = document.querySelector('#map .plot-frame')!.getBoundingClientRect();
             const g = document.querySelector(`#map ${sel}[data-k="${k}"]`) as SVGGElement | null;
             if (!g) return null;
             const m = g.getScreenCTM()!;
-            // expected: cell centre (col + ½, row + ½) through the current viewBox onto the plot's box
-            return { x: m.e, y: m.f, ex: r.left + ((col + 0.5 - vb.x) / vb.width) * r.width, ey: r.top + ((row + 0.5 - vb.y) / vb.height) * r.height };
-          }, { k: f.key, sel: f.selector, col: f.col, row: f.row });
+            // expected: the plot point (cell centre, or refined point) through the current viewBox onto the plot's box
+            return { x: m.e, y: m.f, ex: r.left + ((u - vb.x) / vb.width) * r.width, ey: r.top + ((v - vb.y) / vb.height) * r.height };
+          }, { k: f.key, sel: f.selector, u: f.u, v: f.v });
           expect(got).not.toBeNull();
           expect(Math.abs(got!.x - got!.ex)).toBeLessThan(0.75);
           expect(Math.abs(got!.y - got!.ey)).toBeLessThan(0.75);
         }
       };
       await check();
-      const box = (await page.locator('#map-plot').boundingBox())!;
+      await page.locator('#map .plot-frame').scrollIntoViewIfNeeded();
+      const box = (await page.locator('#map .plot-frame').boundingBox())!;
       await page.mouse.move(box.x + box.width * 0.4, box.y + box.height * 0.6);
       await page.mouse.wheel(0, -400);
       await page.waitForTimeout(100);

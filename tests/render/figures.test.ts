@@ -1,4 +1,5 @@
 import { describe, it, expect } from 'vitest';
+import fc from 'fast-check';
 import { createRequire } from 'node:module';
 import { mapSvg, plotToFigure, mapGeometry, type MapSpec } from '../../src/render/figures/map.js';
 import { makeFrame, mapToPlot } from '../../src/render/figures/raster.js';
@@ -171,5 +172,31 @@ describe('depression outlines and pour arrows', async () => {
     expect(pourAngle(dep(1, 0))).toBe(0);
     expect(pourAngle(dep(0, 1))).toBe(90); // rows run down the screen
     expect(pourAngle(dep(-1, -1))).toBe(-135);
+  });
+});
+
+describe('typed-array tree reduction', async () => {
+  const { reduceSweepTree } = await import('../../src/render/figures/tree.js');
+  it('agrees with the object version on random trees numbered children first, and in a given order', () => {
+    fc.assert(fc.property(fc.array(fc.integer({ min: 0, max: 1_000_000 }), { minLength: 1, maxLength: 40 }), fc.integer(), (raw, seed) => {
+      // node k's parent is a node numbered after it (or none): a forest in sweep order
+      const n = raw.length;
+      const parent = Int32Array.from(raw, (r, k) => (k === n - 1 || r % 5 === 0 ? -1 : k + 1 + (r % (n - k - 1))));
+      const childCount = new Int32Array(n);
+      for (const p of parent) if (p >= 0) childCount[p]++;
+      const keep = (k: number) => ((k * 2654435761 + seed) >>> 0) % 3 !== 0;
+      const nodes: TreeNodeIn[] = Array.from(parent, (p, k) => ({ id: k, parent: p, value: k, kind: 'pit', title: '' }));
+      const want = reduceTree(nodes, (nd) => childCount[nd.id] === 0 && keep(nd.id)).map((nd) => [nd.id, nd.parent]).sort((a, b) => a[0] - b[0]);
+      const got = reduceSweepTree(parent, childCount, keep);
+      const pairs = Array.from(got.nodes, (k, q) => [k, got.parent[q]]);
+      // the same forest visited in reversed numbering with an explicit children-first order
+      const rev = (k: number) => n - 1 - k;
+      const parentR = Int32Array.from({ length: n }, (_, k) => (parent[rev(k)] < 0 ? -1 : rev(parent[rev(k)])));
+      const ccR = Int32Array.from({ length: n }, (_, k) => childCount[rev(k)]);
+      const order = Int32Array.from({ length: n }, (_, q) => rev(q));
+      const gotR = reduceSweepTree(parentR, ccR, (k) => keep(rev(k)), order);
+      const pairsR = Array.from(gotR.nodes, (k, q) => [rev(k), gotR.parent[q] < 0 ? -1 : rev(gotR.parent[q])]).sort((a, b) => a[0] - b[0]);
+      return JSON.stringify(pairs) === JSON.stringify(want) && JSON.stringify(pairsR) === JSON.stringify(want);
+    }));
   });
 });

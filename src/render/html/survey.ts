@@ -4,6 +4,7 @@ import type { Mesh } from '../../surface/mesh.js';
 import type { SurveyResult } from '../../morse/survey.js';
 import type { SurveyReport, CriticalPointRecord } from '../../report/survey.js';
 import type { MergeTree } from '../../morse/mergetree.js';
+import { PIT } from '../../morse/critical.js';
 import { mapSvg, type MapMarker } from '../figures/map.js';
 import { treeSvg, reduceSweepTree, type TreeNodeIn } from '../figures/tree.js';
 import { persistenceSvg, type DiagramPoint, type DiagramEssential } from '../figures/persistence.js';
@@ -152,48 +153,9 @@ export function buildSurveyReport(surface: Grid | Mesh, result: SurveyResult, re
   });
 
   // persistence diagram
-  const P = result.pairs;
-  const NP = P.dim.length;
-  const born = new Uint8Array(values.length);
-  const pkey = new Float64Array(NP).fill(NaN);
-  let nKept = 0, nDropped = 0;
-  for (let k = 0; k < NP; k++) {
-    if (P.dim[k] === 0) born[P.birthVertex[k]] = 1;
-    const p = P.persistence[k];
-    if (!(p > 0)) continue;
-    pkey[k] = p;
-    if (p >= report.minPersistence) nKept++; else nDropped++;
-  }
-  const drawnIdx = topIndices(pkey, LIMITS.diagramPoints);
-  const isDrawn = new Uint8Array(NP);
-  const points: DiagramPoint[] = [];
-  for (const k of drawnIdx) {
-    isDrawn[k] = 1;
-    const dim = P.dim[k] as 0 | 1;
-    const feature = dim === 0 ? P.birthVertex[k] : P.deathVertex[k];
-    points.push({ key: vkey(feature), dim, birth: values[P.birthVertex[k]], death: values[P.deathVertex[k]], kept: P.persistence[k] >= report.minPersistence });
-  }
-  const restN = nKept + nDropped - points.length;
-  const restB = new Float64Array(restN), restD = new Float64Array(restN);
-  for (let k = 0, q = 0; k < NP; k++) {
-    if (isDrawn[k] || !(P.persistence[k] > 0)) continue;
-    restB[q] = values[P.birthVertex[k]]; restD[q] = values[P.deathVertex[k]]; q++;
-  }
-  // tooltips for the pairs drawn one by one
-  for (const pt of points) {
-    if (tips[pt.key!]) continue;
-    tips[pt.key!] = [['', `${pt.dim === 0 ? 'pit' : 'peak'} ${fv(pt.dim === 0 ? pt.birth : pt.death)}${unitShort ? ' ' + unitShort : ''}`],
-      ['pair', `${fv(pt.birth)} → ${fv(pt.death)}`], ['persistence', `${fv(pt.death - pt.birth)} ${unitLabel}`], ['kept', pt.kept ? 'yes' : `no: below ${fmtNum(report.minPersistence)}`]];
-  }
-  const essential: DiagramEssential[] = cps.filter((c) => c.kind === 'pit' && !born[c.index])
-    .map((c) => ({ key: vkey(c.index), dim: 0, birth: c.value, title: `pit ${fv(c.value)}: essential (never dies)` }));
-  const diagram = persistenceSvg({
-    id: 'persistence', title: 'Persistence diagram',
-    desc: `Each pair of critical points as (birth level, death level); ${nKept + nDropped} pairs of positive persistence, threshold ${fmtNum(report.minPersistence)}.`,
-    points, essential, threshold: report.minPersistence, valueLabel: `level [${unitLabel}]`, maxPoints: LIMITS.diagramPoints,
-    rest: { birth: restB, death: restD }, counts: { kept: nKept, dropped: nDropped },
-    titleOf: (p) => `${p.dim === 0 ? 'pit → pass' : 'pass → peak'}: ${fv(p.birth)} → ${fv(p.death)}, persistence ${fv(p.death - p.birth)}${p.kept ? '' : ' (dropped)'}`,
-    notes: report.counts.zeroPersistencePairs ? [`${report.counts.zeroPersistencePairs} pairs of zero persistence (ties, flats) not drawn`] : [],
+  const diagram = pairsDiagram(result, {
+    minPersistence: report.minPersistence, scale: 1, keyOf: (v) => vkey(v), fv, unitLabel, unitShort, tips,
+    zeroPairs: report.counts.zeroPersistencePairs,
   });
 
   const tables: TableSpec[] = [criticalTable(report, ranked, xyUnit, unitLabel, dec), pairsTable(report, unitLabel, dec)];
@@ -283,4 +245,76 @@ function pairsTable(report: SurveyReport, unit: string, dec: number): TableSpec 
     keys: rows.map((p) => vkey(p.dim === 0 ? p.birthAt.index : p.deathAt.index)),
     total: report.pairs.length,
   };
+}
+
+export interface DiagramOptions {
+  /** Threshold, in the unit shown (after `scale`). */
+  minPersistence: number;
+  /** Factor from the surface's values to the unit shown. */
+  scale: number;
+  /** Link key of the feature a pair stands for (its pit for dimension 0, its peak for dimension 1). */
+  keyOf: (vertex: number, dim: 0 | 1) => string;
+  fv: (x: number) => string;
+  unitLabel: string;
+  unitShort: string;
+  /** Tooltips are added here for the pairs drawn one by one (when missing). */
+  tips: ReportDoc['tips'];
+  zeroPairs: number;
+}
+
+/**
+ * The persistence diagram of a survey: the most persistent pairs drawn one by one, the others
+ * counted in cells, kept/dropped by the threshold, essential pits (born, never dying) on top.
+ */
+export function pairsDiagram(result: SurveyResult, o: DiagramOptions): { svg: string; drawn: number } {
+  const values = result.complex.values;
+  const P = result.pairs;
+  const NP = P.dim.length;
+  const f = o.scale;
+  const born = new Uint8Array(values.length);
+  const pkey = new Float64Array(NP).fill(NaN);
+  let nKept = 0, nDropped = 0;
+  for (let k = 0; k < NP; k++) {
+    if (P.dim[k] === 0) born[P.birthVertex[k]] = 1;
+    const p = P.persistence[k] * f;
+    if (!(p > 0)) continue;
+    pkey[k] = p;
+    if (p >= o.minPersistence) nKept++; else nDropped++;
+  }
+  const drawnIdx = topIndices(pkey, LIMITS.diagramPoints);
+  const isDrawn = new Uint8Array(NP);
+  const points: DiagramPoint[] = [];
+  for (const k of drawnIdx) {
+    isDrawn[k] = 1;
+    const dim = P.dim[k] as 0 | 1;
+    const feature = dim === 0 ? P.birthVertex[k] : P.deathVertex[k];
+    points.push({ key: o.keyOf(feature, dim), dim, birth: values[P.birthVertex[k]] * f, death: values[P.deathVertex[k]] * f, kept: pkey[k] >= o.minPersistence });
+  }
+  const restN = nKept + nDropped - points.length;
+  const restB = new Float64Array(restN), restD = new Float64Array(restN);
+  for (let k = 0, q = 0; k < NP; k++) {
+    if (isDrawn[k] || !(pkey[k] > 0)) continue;
+    restB[q] = values[P.birthVertex[k]] * f; restD[q] = values[P.deathVertex[k]] * f; q++;
+  }
+  for (const pt of points) {
+    if (o.tips[pt.key!]) continue;
+    o.tips[pt.key!] = [['', `${pt.dim === 0 ? 'pit' : 'peak'} ${o.fv(pt.dim === 0 ? pt.birth : pt.death)}${o.unitShort ? ' ' + o.unitShort : ''}`],
+      ['pair', `${o.fv(pt.birth)} → ${o.fv(pt.death)}`], ['persistence', `${o.fv(pt.death - pt.birth)} ${o.unitLabel}`], ['kept', pt.kept ? 'yes' : `no: below ${fmtNum(o.minPersistence)}`]];
+  }
+  const K = result.kept;
+  const essential: DiagramEssential[] = [];
+  for (let i = 0; i < K.vertex.length; i++) {
+    const v = K.vertex[i];
+    if (K.kind[i] !== PIT || born[v]) continue;
+    essential.push({ key: o.keyOf(v, 0), dim: 0, birth: values[v] * f, title: `pit ${o.fv(values[v] * f)}: essential (never dies)` });
+  }
+  const d = persistenceSvg({
+    id: 'persistence', title: 'Persistence diagram',
+    desc: `Each pair of critical points as (birth level, death level); ${nKept + nDropped} pairs of positive persistence, threshold ${fmtNum(o.minPersistence)}.`,
+    points, essential, threshold: o.minPersistence, valueLabel: `level [${o.unitLabel}]`, maxPoints: LIMITS.diagramPoints,
+    rest: { birth: restB, death: restD }, counts: { kept: nKept, dropped: nDropped },
+    titleOf: (p) => `${p.dim === 0 ? 'pit → pass' : 'pass → peak'}: ${o.fv(p.birth)} → ${o.fv(p.death)}, persistence ${o.fv(p.death - p.birth)}${p.kept ? '' : ' (dropped)'}`,
+    notes: o.zeroPairs ? [`${o.zeroPairs} pairs of zero persistence (ties, flats) not drawn`] : [],
+  });
+  return { svg: d.svg, drawn: d.drawn };
 }
