@@ -15,7 +15,7 @@
  * Components that never meet the outside (walled in by nodata with --nodata-as wall) have no
  * spill level; they are reported as closed regions and left unfilled.
  */
-import type { DepressionSweep, NodeSums } from './sweep.js';
+import { SUM_STRIDE as S, CELLS, SUMA, SUMAZ, TIEN, TIEA, SPILLZ, PITZ, type DepressionSweep, type NodeSums } from './sweep.js';
 
 export interface HierarchyFilters {
   /** Smallest depth (spill − pit) kept, in the DEM's vertical unit. */
@@ -88,7 +88,7 @@ export interface HierarchyOptions extends HierarchyFilters {
   fillOnlyBelow?: number;
 }
 
-export function buildHierarchy(sw: DepressionSweep, sums: NodeSums, values: ArrayLike<number>, opts: HierarchyOptions): Hierarchy {
+export function buildHierarchy(sw: DepressionSweep, sums: NodeSums, opts: HierarchyOptions): Hierarchy {
   const K = sw.count;
   const { areaScale, zFactor } = opts;
   const minDepth = opts.minDepth ?? 0, minArea = opts.minArea ?? 0, minVolume = opts.minVolume ?? 0;
@@ -98,16 +98,17 @@ export function buildHierarchy(sw: DepressionSweep, sums: NodeSums, values: Arra
   // (from the sums) rather than stored, to keep memory per node small
   const closed = new Uint8Array(K);
   const keep = new Uint8Array(K);
-  const depthOf = (k: number): number => values[sw.spill[k]] - values[sw.birth[k]];
-  const wetAOf = (k: number): number => (sums.sumA[k] - sums.tieA[k]) * areaScale;
+  const rec = sums.rec;
+  const depthOf = (k: number): number => rec[S * k + SPILLZ] - rec[S * k + PITZ];
+  const wetAOf = (k: number): number => (rec[S * k + SUMA] - rec[S * k + TIEA]) * areaScale;
   const volOf = (k: number): number => {
-    const v = ((values[sw.spill[k]] - z0) * sums.sumA[k] - sums.sumAz[k]) * areaScale * zFactor;
+    const v = ((rec[S * k + SPILLZ] - z0) * rec[S * k + SUMA] - rec[S * k + SUMAZ]) * areaScale * zFactor;
     return v > 0 ? v : 0;
   };
   let closedCount = 0, closedCells = 0;
   for (let k = K - 1; k >= 1; k--) {
     const p = sw.parent[k];
-    if (p === -1) { closed[k] = 1; closedCount++; closedCells += sums.cells[k]; continue; }
+    if (p === -1) { closed[k] = 1; closedCount++; closedCells += rec[S * k + CELLS]; continue; }
     if (p > 0 && closed[p]) closed[k] = 1;
   }
   let flats = 0, filtered = 0;
@@ -169,9 +170,9 @@ export function buildHierarchy(sw: DepressionSweep, sums: NodeSums, values: Arra
     childCount[parent[id]]++;
     pit[id] = sw.birth[k];
     spillCell[id] = sw.spill[k];
-    pitValue[id] = values[pit[id]];
-    spillValue[id] = values[spillCell[id]];
-    wetCells[id] = sums.cells[k] - sums.tieCells[k];
+    pitValue[id] = rec[S * k + PITZ];
+    spillValue[id] = rec[S * k + SPILLZ];
+    wetCells[id] = rec[S * k + CELLS] - rec[S * k + TIEN];
     area[id] = wetAOf(k);
     volume[id] = volOf(k);
     maxDepth[id] = depthOf(k);

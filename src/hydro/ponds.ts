@@ -120,10 +120,8 @@ export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResul
   stage('depression sweep');
   const areaScale = areas.uniform ? areas.rowArea[0] : 1;
   const sw = sweepDepressions(complex, order);
-  stage('volume sums');
-  const sums = nodeSums(sw, grid.values, grid.width, areas.rowArea, areas.uniform);
   stage('depression hierarchy');
-  const hierarchy = buildHierarchy(sw, sums, grid.values, {
+  const hierarchy = buildHierarchy(sw, nodeSums(sw, grid.values, grid.width, areas.rowArea, areas.uniform), {
     minDepth: Math.max(minDepth, minPersistence), minArea, minVolume,
     areaScale, zFactor: areas.zFactor, fillOnlyBelow: opts.fillOnlyBelow,
   });

@@ -55,6 +55,10 @@ export function pondRasters(
   const depth = take();
   const { fillOfNode, repOfNode, spillValue, parent } = hier;
   const height = n / width;
+  // per node, side by side: fill level, innermost depression id, its spill level
+  const K = fillOfNode.length;
+  const rec = new Float64Array(3 * K);
+  for (let k = 0; k < K; k++) { const d = repOfNode[k]; rec[3 * k] = fillOfNode[k]; rec[3 * k + 1] = d; rec[3 * k + 2] = d > 0 ? spillValue[d] : Infinity; }
   let filledVolume = 0, filledCells = 0, filledArea = 0;
   for (let r = 0, i = 0; r < height; r++) {
     let rowSum = 0, rowCells = 0;
@@ -63,10 +67,13 @@ export function pondRasters(
       if (z !== z) { filled[i] = NaN; depth[i] = NaN; label[i] = -1; continue; }
       const k = label[i];
       if (k <= 0) { filled[i] = z; depth[i] = 0; label[i] = 0; continue; }
-      const f = fillOfNode[k];
+      const f = rec[3 * k];
       if (f > z) { filled[i] = f; depth[i] = f - z; rowSum += f - z; rowCells++; } else { filled[i] = z; depth[i] = 0; }
-      let d = repOfNode[k];
-      while (d > 0 && !(z < spillValue[d])) d = parent[d];
+      let d = rec[3 * k + 1];
+      if (d > 0 && !(z < rec[3 * k + 2])) {
+        // the cell lies at the rim of its innermost depression: the first one up that covers it
+        do d = parent[d]; while (d > 0 && !(z < spillValue[d]));
+      }
       label[i] = d;
     }
     filledVolume += rowSum * rowArea[r];

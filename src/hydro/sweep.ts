@@ -13,7 +13,7 @@
  * so a child always has a smaller number than its parent.
  *
  * Memory: the union-find parent and the label of a cell sit side by side (one cache line holds
- * both for a cell and its row neighbours), 8 bytes per cell, plus a one-byte union-find rank.
+ * both for a cell and its row neighbours), 8 bytes per cell.
  * Which neighbours of a cell come before it is worked out beforehand in storage order, so the
  * sweep itself reads little more than the union-find entries it needs.
  */
@@ -43,14 +43,15 @@ export interface DepressionSweep {
 export interface NodeSums {
   /** Offset subtracted from every value in the sums (the lowest value), for precision. */
   z0: number;
-  /** Node → cells of its component when it spilled, Σ a, Σ a·(z − z0). */
-  cells: Float64Array;
-  sumA: Float64Array;
-  sumAz: Float64Array;
-  /** Node → cells (and Σ a) of its component exactly at its spill level. */
-  tieCells: Float64Array;
-  tieA: Float64Array;
+  /**
+   * One record of SUM_STRIDE numbers per node: cells of its component when it spilled (CELLS),
+   * Σ a (SUMA), Σ a·(z − z0) (SUMAZ), cells and Σ a exactly at its spill level (TIEN, TIEA), the
+   * spill level (+∞ when it never spilled; SPILLZ) and the pit value (PITZ).
+   */
+  rec: Float64Array;
 }
+
+export const SUM_STRIDE = 8, CELLS = 0, SUMA = 1, SUMAZ = 2, TIEN = 3, TIEA = 4, SPILLZ = 5, PITZ = 6;
 
 /** Ring offsets (dcol, drow) of the sublevel graph, as in src/surface/complex.ts. */
 export function sublevelOffsets(conn: 4 | 6 | 8): [number, number][] {
@@ -101,6 +102,9 @@ export function groupRepresentatives(conn: 4 | 6 | 8): { dc: number[]; dr: numbe
   }
   return { dc, dr, reps };
 }
+
+/** Where the sweep leaves the values it read ahead (see sweepDepressions). */
+export let prefetchSink = 0;
 
 /** Bits of a cell's info word, written before the sweep into its label slot. */
 const INFO_OUTLET = 1 << 8; // the cell touches an outlet (ω)
@@ -187,7 +191,6 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array): Depressio
   const cv = new Int32Array(2 * n + 2);
   lowerNeighbours(values, w, h, cx.connectivity, omegaAdj, cv);
   cv[2 * n] = -1;
-  const rank = new Uint8Array(n);
 
   let cap = 1024;
   let vertex = new Int32Array(cap), birth = new Int32Array(cap), parent = new Int32Array(cap);
@@ -203,8 +206,13 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array): Depressio
   const roots = new Int32Array(16), ents = new Int32Array(16);
   const nbr = new Int32Array(cx.maxDegree + 1);
 
+  // Reading the info word of the cell 32 places ahead in the order starts its (random) memory
+  // access early, so that it overlaps the work on the cells before it; the value is folded into
+  // `ahead` only so the read is not optimised away.
+  let ahead = 0;
   for (let s = 0; s < m; s++) {
     const v = order[s];
+    ahead ^= cv[2 * order[s + 32 < m ? s + 32 : s] + 1];
     const info = cv[2 * v + 1];
     let nr = 0;
     if ((info & INFO_EDGE) === 0) {
@@ -281,7 +289,9 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array): Depressio
         cv[2 * v] = n;
         cv[2 * v + 1] = 0;
       } else {
-        // components meet at a pass: a new node over them (union by rank for the union-find)
+        // components meet at a pass: a new node over them. The union-find root of the oldest
+        // component (lowest pit, usually the largest) stays the root; path halving keeps the
+        // trees shallow.
         if (count === cap) grow();
         const k = count++;
         let top = roots[0], eb = -1, ebz = Infinity;
@@ -290,22 +300,17 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array): Depressio
           const ch = -1 - cv[2 * R];
           parent[ch] = k; spill[ch] = v; entry[ch] = ents[t]; to[ch] = -1;
           const bi = birth[ch], bz = values[bi];
-          if (bz < ebz || (bz === ebz && bi < eb)) { eb = bi; ebz = bz; }
-          if (rank[R] > rank[top]) top = R;
+          if (bz < ebz || (bz === ebz && bi < eb)) { eb = bi; ebz = bz; top = R; }
         }
         vertex[k] = v; birth[k] = eb; parent[k] = -1; spill[k] = -1; entry[k] = -1; to[k] = -1;
-        for (let t = 0; t < nr; t++) {
-          const R = roots[t];
-          if (R === top) continue;
-          cv[2 * R] = top;
-          if (rank[R] === rank[top] && rank[top] < 255) rank[top]++;
-        }
+        for (let t = 0; t < nr; t++) if (roots[t] !== top) cv[2 * roots[t]] = top;
         cv[2 * top] = -1 - k;
         cv[2 * v] = top;
         cv[2 * v + 1] = k;
       }
     }
   }
+  prefetchSink = ahead;
   // labels into the first half of the cell array (reading ahead of writing), the rest is free
   for (let i = 0; i < n; i++) cv[i] = cv[2 * i + 1];
   const cut = (a: Int32Array): Int32Array => a.slice(0, count);
@@ -325,10 +330,12 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array): Depressio
 export function nodeSums(sw: DepressionSweep, values: Float32Array | Float64Array, width: number, rowArea: Float64Array, uniform: boolean): NodeSums {
   const K = sw.count, n = values.length;
   const height = n / width;
-  const cells = new Float64Array(K), sumA = new Float64Array(K), sumAz = new Float64Array(K);
-  const tieCells = new Float64Array(K), tieA = new Float64Array(K);
-  const spillZ = new Float64Array(K);
-  for (let k = 1; k < K; k++) spillZ[k] = sw.spill[k] >= 0 ? values[sw.spill[k]] : Infinity;
+  const R = SUM_STRIDE;
+  const rec = new Float64Array(R * K);
+  for (let k = 1; k < K; k++) {
+    rec[R * k + SPILLZ] = sw.spill[k] >= 0 ? values[sw.spill[k]] : Infinity;
+    rec[R * k + PITZ] = values[sw.birth[k]];
+  }
   let z0 = Infinity;
   for (let i = 0; i < n; i++) { const z = values[i]; if (z < z0) z0 = z; }
   if (z0 === Infinity) z0 = 0;
@@ -340,17 +347,19 @@ export function nodeSums(sw: DepressionSweep, values: Float32Array | Float64Arra
       if (z !== z) continue;
       const k = label[i];
       if (k === 0) continue;
-      cells[k] += 1; sumA[k] += a; sumAz[k] += a * (z - z0);
-      if (z === spillZ[k]) { tieCells[k] += 1; tieA[k] += a; }
+      const b = R * k;
+      rec[b + CELLS] += 1; rec[b + SUMA] += a; rec[b + SUMAZ] += a * (z - z0);
+      if (z === rec[b + SPILLZ]) { rec[b + TIEN] += 1; rec[b + TIEA] += a; }
     }
   }
   const parent = sw.parent;
   for (let k = 1; k < K; k++) {
     const p = parent[k];
     if (p <= 0) continue;
-    cells[p] += cells[k]; sumA[p] += sumA[k]; sumAz[p] += sumAz[k];
+    const b = R * k, q = R * p;
+    rec[q + CELLS] += rec[b + CELLS]; rec[q + SUMA] += rec[b + SUMA]; rec[q + SUMAZ] += rec[b + SUMAZ];
     // a child's cells at its spill level lie at the parent's spill level only when the two are equal
-    if (spillZ[k] === spillZ[p]) { tieCells[p] += tieCells[k]; tieA[p] += tieA[k]; }
+    if (rec[b + SPILLZ] === rec[q + SPILLZ]) { rec[q + TIEN] += rec[b + TIEN]; rec[q + TIEA] += rec[b + TIEA]; }
   }
-  return { z0, cells, sumA, sumAz, tieCells, tieA };
+  return { z0, rec };
 }
