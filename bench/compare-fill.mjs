@@ -17,7 +17,7 @@
 import { parseArgs } from 'node:util';
 import { spawnSync } from 'node:child_process';
 import { writeFileSync, readFileSync, mkdtempSync, rmSync, existsSync, openSync, readSync, closeSync } from 'node:fs';
-import { tmpdir, cpus, totalmem } from 'node:os';
+import { tmpdir, cpus, totalmem, loadavg } from 'node:os';
 import { join, dirname } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { fractalTerrain } from './lib/terrain.mjs';
@@ -78,7 +78,7 @@ const fmt = (ms) => (ms >= 1000 ? `${(ms / 1000).toFixed(2)} s` : `${ms.toFixed(
 const cells = size * size;
 const dir = mkdtempSync(join(tmpdir(), 'sill-compare-fill-'));
 try {
-  console.log(`terrain   ${size} × ${size} fractal (bench/lib/terrain.mjs, seed ${opt.seed}), float32; ${cpus().length} cores, ${(totalmem() / 2 ** 30).toFixed(0)} GiB`);
+  console.log(`terrain   ${size} × ${size} fractal (bench/lib/terrain.mjs, seed ${opt.seed}), float32; ${cpus().length} cores, ${(totalmem() / 2 ** 30).toFixed(0)} GiB, load average ${loadavg()[0].toFixed(1)}`);
   const z = fractalTerrain(size, { seed: Number(opt.seed) });
   const file = join(dir, 'terrain.f32');
   writeFileSync(file, Buffer.from(z.buffer, z.byteOffset, z.byteLength));
@@ -127,7 +127,7 @@ try {
     const ratio = sk.ms / core.ms, ratioFull = sk.ms / full.ms;
     console.log(`ratio     skimage / ponds = ${ratio.toFixed(2)}× (target ≥ 4×: ${ratio >= 4 ? 'met' : 'NOT met'}); with the Euler check ${ratioFull.toFixed(2)}×; CPU-time ratio ${(sk.cpuMs / core.cpuBest).toFixed(2)}×`);
   }
-  console.log(`memory    target ≤ 32 B/cell: ${core.maxRss / cells <= 32 ? 'met' : 'NOT met'} (${perCell(core.maxRss)} B/cell peak RSS)`);
+  console.log(`memory    target ≤ 32 B/cell: ${core.maxRss / cells <= 32 ? 'met' : 'NOT met'} (${perCell(core.maxRss)} B/cell peak RSS); load average now ${loadavg()[0].toFixed(1)}`);
   console.log(JSON.stringify({ size, ponds: core, pondsWithEuler: full, skimage: sk }));
 } finally {
   rmSync(dir, { recursive: true, force: true });

@@ -120,45 +120,30 @@ const INFO_EDGE = 1 << 9; // on the grid edge: neighbours are listed by the comp
  */
 function lowerNeighbours(values: Float32Array | Float64Array, w: number, h: number, conn: 4 | 6 | 8, omegaAdj: Uint8Array, cv: Int32Array): void {
   const ring8 = conn !== 6;
-  // forward ring positions and their offsets: 8-ring (1,0) (1,1) (0,1) (−1,1); 6-ring (1,0) (1,1) (0,1)
+  // forward ring positions: 8-ring (1,0) (1,1) (0,1) (−1,1) → bits 0–3; 6-ring (1,0) (1,1) (0,1) → bits 0–2
   const fwdAll = ring8 ? 0b1111 : 0b111;
+  // backward bits (8-ring 4–7, 6-ring 3–5): the backward neighbour, already written, is lower
+  // unless this cell is lower than it — its forward bit towards this cell, negated
+  const b0 = ring8 ? 4 : 3;
   for (let r = 0, i = 0; r < h; r++) {
-    const down = r < h - 1;
+    const down = r < h - 1, interiorRow = r > 0 && down;
     for (let c = 0; c < w; c++, i++) {
       const z = values[i];
-      let f = 0;
-      if (z !== z) {
-        f = fwdAll;
-      } else {
-        // forward neighbours come later in storage order: lower only when strictly lower
-        const right = c < w - 1;
-        if (right) f |= +(values[i + 1] < z);
-        if (down) {
-          if (right) f |= +(values[i + w + 1] < z) << 1;
-          f |= +(values[i + w] < z) << 2;
-          if (ring8 && c > 0) f |= +(values[i + w - 1] < z) << 3;
-        }
+      if (z !== z) { cv[2 * i + 1] = fwdAll; continue; }
+      const right = c < w - 1;
+      // forward neighbours come later in storage order: lower only when strictly lower
+      let info = 0;
+      if (right) info |= +(values[i + 1] < z);
+      if (down) {
+        if (right) info |= +(values[i + w + 1] < z) << 1;
+        info |= +(values[i + w] < z) << 2;
+        if (ring8 && c > 0) info |= +(values[i + w - 1] < z) << 3;
       }
-      cv[2 * i + 1] = f;
-    }
-  }
-  // backward bits: the backward neighbour is lower unless this cell is lower than it (its forward bit)
-  const interior = (r: number, c: number) => r > 0 && r < h - 1 && c > 0 && c < w - 1;
-  for (let r = 0, i = 0; r < h; r++) {
-    for (let c = 0; c < w; c++, i++) {
-      if (values[i] !== values[i]) continue;
-      let info = cv[2 * i + 1] & fwdAll;
-      if (interior(r, c)) {
-        if (ring8) {
-          info |= ((cv[2 * (i - 1) + 1] & 1) ^ 1) << 4;
-          info |= (((cv[2 * (i - w - 1) + 1] >> 1) & 1) ^ 1) << 5;
-          info |= (((cv[2 * (i - w) + 1] >> 2) & 1) ^ 1) << 6;
-          info |= (((cv[2 * (i - w + 1) + 1] >> 3) & 1) ^ 1) << 7;
-        } else {
-          info |= ((cv[2 * (i - 1) + 1] & 1) ^ 1) << 3;
-          info |= (((cv[2 * (i - w - 1) + 1] >> 1) & 1) ^ 1) << 4;
-          info |= (((cv[2 * (i - w) + 1] >> 2) & 1) ^ 1) << 5;
-        }
+      if (interiorRow && c > 0 && right) {
+        info |= ((cv[2 * (i - 1) + 1] & 1) ^ 1) << b0;
+        info |= (((cv[2 * (i - w - 1) + 1] >> 1) & 1) ^ 1) << (b0 + 1);
+        info |= (((cv[2 * (i - w) + 1] >> 2) & 1) ^ 1) << (b0 + 2);
+        if (ring8) info |= (((cv[2 * (i - w + 1) + 1] >> 3) & 1) ^ 1) << 7;
       } else {
         info |= INFO_EDGE;
       }
