@@ -34,7 +34,10 @@ describe('Ramer–Douglas–Peucker simplification', () => {
           if (segDist(pts[i], kept[j], kept[j + 1]) > tol + 1e-9) return false;
         }
         return kept[0] === pts[0] && kept[kept.length - 1] === pts[pts.length - 1];
-      }));
+      }), { numRuns: 500 });
+    // a point whose foot on the chord's line falls beyond the chord: its distance is to the end point
+    const p: Pt[] = [[0, -1.3093787703607211], [1, 4.582575696046916], [2, 0], [3, 0]];
+    expect(simplifyLine(p, 4.999999999999987)).toContainEqual([1, 4.582575696046916]);
   });
 
   it('closed rings keep their shape', () => {

@@ -8,7 +8,7 @@ import { n } from './svg.js';
 
 type Pt = [number, number];
 
-/** Ramer–Douglas–Peucker simplification of an open polyline: keeps points farther than tol from the chord. */
+/** Ramer–Douglas–Peucker simplification of an open polyline: keeps points farther than tol from the chord (segment). */
 export function simplifyLine(pts: Pt[], tol: number): Pt[] {
   if (pts.length <= 2) return pts.slice();
   const keep = new Uint8Array(pts.length);
@@ -21,10 +21,11 @@ export function simplifyLine(pts: Pt[], tol: number): Pt[] {
     const dx = bx - ax, dy = by - ay, L2 = dx * dx + dy * dy;
     let best = -1, bi = -1;
     for (let i = a + 1; i < b; i++) {
+      // distance to the segment (not the infinite line), so every dropped point is within tol of what is drawn
       const px = pts[i][0] - ax, py = pts[i][1] - ay;
-      let d2: number;
-      if (L2 === 0) d2 = px * px + py * py;
-      else { const c = px * dy - py * dx; d2 = (c * c) / L2; }
+      const t = L2 === 0 ? 0 : Math.max(0, Math.min(1, (px * dx + py * dy) / L2));
+      const ex = px - t * dx, ey = py - t * dy;
+      const d2 = ex * ex + ey * ey;
       if (d2 > best) { best = d2; bi = i; }
     }
     if (best > t2) { keep[bi] = 1; stack.push([a, bi], [bi, b]); }
@@ -55,15 +56,17 @@ export interface RegionOutline {
 /**
  * Outline of the display cells where `inRegion(label)` holds, inside the box [c0, c1] × [r0, r1]
  * (inclusive) of a dw-wide display label raster; coordinates are scaled by `factor` into plot
- * coordinates. Rings with fewer than 3 points after simplification are dropped.
+ * coordinates. Rings with fewer than 3 points after simplification are dropped. `scratch`, when
+ * large enough, holds the mask (no allocation per region).
  */
 export function traceRegion(
   labels: Int32Array, dw: number, box: [number, number, number, number], inRegion: (label: number) => boolean, factor: number, tol: number,
+  scratch?: Uint8Array,
 ): RegionOutline {
   const [c0, r0, c1, r1] = box;
   // one empty cell of margin so every ring closes inside the box
   const bw = c1 - c0 + 3, bh = r1 - r0 + 3;
-  const mask = new Float64Array(bw * bh);
+  const mask = scratch && scratch.length >= bw * bh ? scratch.subarray(0, bw * bh).fill(0) : new Uint8Array(bw * bh);
   for (let r = r0; r <= r1; r++) {
     for (let c = c0; c <= c1; c++) if (inRegion(labels[r * dw + c])) mask[(r - r0 + 1) * bw + (c - c0 + 1)] = 1;
   }

@@ -23,7 +23,8 @@ import {
 } from './surface.js';
 import { axesLabels } from './survey.js';
 
-export const PONDS_LIMITS = { outlines: 1500, outlinePoints: 250_000, markers: 3000, treeLeaves: 250, tableRows: 5000 };
+/** Caps for the page: outlines (count, vertices, display cells scanned to trace them), markers, tree leaves, table rows. */
+export const PONDS_LIMITS = { outlines: 1500, outlinePoints: 250_000, tracedCells: 8_000_000, markers: 3000, treeLeaves: 250, tableRows: 5000 };
 
 export const dkey = (id: number): string => `d${id}`;
 
@@ -94,14 +95,16 @@ export function displayOutlines(result: PondsResult, report: PondsReport, displa
     box[p + 2] = Math.max(box[p + 2], box[b + 2]); box[p + 3] = Math.max(box[p + 3], box[b + 3]);
   }
   const shapes: MapShape[] = [];
-  let points = 0;
+  let points = 0, traced = 0;
+  const scratch = new Uint8Array((dw + 2) * (dh + 2));
   for (const i of topIndices(Float64Array.from(deps, (d) => d.volume), 4 * PONDS_LIMITS.outlines)) {
     const d = deps[i];
-    if (shapes.length >= PONDS_LIMITS.outlines || points >= PONDS_LIMITS.outlinePoints) break;
+    if (shapes.length >= PONDS_LIMITS.outlines || points >= PONDS_LIMITS.outlinePoints || traced >= PONDS_LIMITS.tracedCells) break;
     const b = 4 * d.id;
     if (box[b + 2] < 0) continue;
+    traced += (box[b + 2] - box[b] + 3) * (box[b + 3] - box[b + 1] + 3);
     const lo = H.tin[d.id], hi = H.tout[d.id];
-    const o = traceRegion(displayLabels, dw, [box[b], box[b + 1], box[b + 2], box[b + 3]], (e) => e > 0 && H.tin[e] >= lo && H.tin[e] < hi, factor, tol);
+    const o = traceRegion(displayLabels, dw, [box[b], box[b + 1], box[b + 2], box[b + 3]], (e) => e > 0 && H.tin[e] >= lo && H.tin[e] < hi, factor, tol, scratch);
     if (!o.d) continue;
     points += o.points;
     shapes.push({ key: dkey(d.id), d: o.d, title: `depression #${d.id}` });
