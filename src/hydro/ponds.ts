@@ -119,7 +119,7 @@ export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResul
   const order = sortOrder(grid.values);
   stage('depression sweep');
   const areaScale = areas.uniform ? areas.rowArea[0] : 1;
-  const sw = sweepDepressions(complex, order);
+  const sw = sweepDepressions(complex, order, areas);
   stage('depression hierarchy');
   const hierarchy = buildHierarchy(sw, nodeSums(sw, grid.values, grid.width, areas.rowArea, areas.uniform), {
     minDepth: Math.max(minDepth, minPersistence), minArea, minVolume,

@@ -38,6 +38,8 @@ export interface DepressionSweep {
   label: Int32Array;
   /** Memory free after the sweep (the union-find half of the cell array), for reuse. */
   spare: { buffer: ArrayBuffer; byteOffset: number; byteLength: number };
+  /** The volume sums, when the sweep was asked for them. */
+  sums?: NodeSums;
 }
 
 export interface NodeSums {
@@ -156,8 +158,10 @@ function lowerNeighbours(values: Float32Array | Float64Array, w: number, h: numb
 /**
  * @param cx    the grid complex (open boundary) — its ω-adjacency and neighbour graph are used
  * @param order ascending (value, index) order of the valid cells (src/morse/order.ts)
+ * @param areas when given, the volume sums are taken in the same pass that lays out the labels
+ *              (the result's `sums`); rowArea as in nodeSums
  */
-export function sweepDepressions(cx: GridComplex, order: Uint32Array): DepressionSweep {
+export function sweepDepressions(cx: GridComplex, order: Uint32Array, areas?: { rowArea: Float64Array; uniform: boolean }): DepressionSweep {
   const values = cx.values;
   const n = cx.n, w = cx.w, h = cx.h;
   const omegaAdj = cx.omegaAdj;
@@ -296,15 +300,21 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array): Depressio
     }
   }
   prefetchSink = ahead;
-  // labels into the first half of the cell array (reading ahead of writing), the rest is free
-  for (let i = 0; i < n; i++) cv[i] = cv[2 * i + 1];
   const cut = (a: Int32Array): Int32Array => a.slice(0, count);
-  return {
+  const sw: DepressionSweep = {
     count,
     vertex: cut(vertex), birth: cut(birth), parent: cut(parent), spill: cut(spill), entry: cut(entry), to: cut(to),
     label: new Int32Array(cv.buffer, 0, n),
     spare: { buffer: cv.buffer as ArrayBuffer, byteOffset: 4 * n, byteLength: 4 * (n + 2) },
   };
+  if (areas) {
+    // the labels move into the first half of the cell array while the volume sums are taken
+    sw.sums = sumNodes(sw, values, w, areas.rowArea, areas.uniform, cv);
+  } else {
+    // labels into the first half of the cell array (reading ahead of writing), the rest is free
+    for (let i = 0; i < n; i++) cv[i] = cv[2 * i + 1];
+  }
+  return sw;
 }
 
 /**
@@ -313,6 +323,11 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array): Depressio
  * @param rowArea weight of each row's cells (ignored when `uniform`: every cell weighs 1)
  */
 export function nodeSums(sw: DepressionSweep, values: Float32Array | Float64Array, width: number, rowArea: Float64Array, uniform: boolean): NodeSums {
+  return sw.sums ?? sumNodes(sw, values, width, rowArea, uniform, null);
+}
+
+/** nodeSums; with `cv` (the sweep's interleaved cell array) the labels are read from it and laid out in its first half on the way. */
+function sumNodes(sw: DepressionSweep, values: Float32Array | Float64Array, width: number, rowArea: Float64Array, uniform: boolean, cv: Int32Array | null): NodeSums {
   const K = sw.count, n = values.length;
   const height = n / width;
   const R = SUM_STRIDE;
@@ -325,13 +340,15 @@ export function nodeSums(sw: DepressionSweep, values: Float32Array | Float64Arra
   for (let i = 0; i < n; i++) { const z = values[i]; if (z < z0) z0 = z; }
   if (z0 === Infinity) z0 = 0;
   const label = sw.label;
+  const stride = cv ? 2 : 1, off = cv ? 1 : 0;
+  const src = cv ?? label;
   for (let r = 0, i = 0; r < height; r++) {
     const a = uniform ? 1 : rowArea[r];
     for (let c = 0; c < width; c++, i++) {
+      const k = src[stride * i + off];
+      label[i] = k;
       const z = values[i];
-      if (z !== z) continue;
-      const k = label[i];
-      if (k === 0) continue;
+      if (z !== z || k === 0) continue;
       const b = R * k;
       rec[b + CELLS] += 1; rec[b + SUMA] += a; rec[b + SUMAZ] += a * (z - z0);
       if (z === rec[b + SPILLZ]) { rec[b + TIEN] += 1; rec[b + TIEA] += a; }
