@@ -24,7 +24,7 @@ import {
 import { axesLabels } from './survey.js';
 
 /** Caps for the page: outlines (count, vertices, display cells scanned to trace them), markers, tree leaves, table rows. */
-export const PONDS_LIMITS = { outlines: 1500, outlinePoints: 250_000, tracedCells: 8_000_000, markers: 3000, treeLeaves: 250, tableRows: 5000 };
+export const PONDS_LIMITS = { outlines: 1500, outlinePoints: 250_000, tracedCells: 8_000_000, markers: 800, treeLeaves: 250, tableRows: 5000 };
 
 export const dkey = (id: number): string => `d${id}`;
 

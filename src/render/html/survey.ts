@@ -17,7 +17,7 @@ import {
 import { finiteRange } from '../figures/raster.js';
 
 /** Most markers drawn on the map, tree leaves, and table rows carried in the page. */
-export const LIMITS = { markers: 3000, treeLeaves: 250, tableRows: 5000, diagramPoints: 2500 };
+export const LIMITS = { markers: 1500, treeLeaves: 250, tableRows: 5000, diagramPoints: 2500 };
 
 export const vkey = (v: number): string => (v < 0 ? 'outside' : `v${v}`);
 
