@@ -26,6 +26,85 @@ export interface MergeTree {
   pairDeath: Int32Array;
 }
 
+/** Root of x in the union-find forest (entries p + 1 = parent p, −1 − node = root), with path halving. */
+function find(parent: Int32Array, x: number): number {
+  for (;;) {
+    const p = parent[x];
+    if (p < 0) return x;
+    const gp = parent[p - 1];
+    if (gp < 0) return p - 1;
+    parent[x] = gp; // x now points to its grandparent
+    x = gp - 1;
+  }
+}
+
+/** Append root r to roots[0 … nr−1] unless present; returns the new count. */
+function addRoot(roots: Int32Array, nr: number, r: number): number {
+  for (let t = 0; t < nr; t++) if (roots[t] === r) return nr;
+  roots[nr] = r;
+  return nr + 1;
+}
+
+/** Flags of cells j, j + 1, j + 2 in a bit set, as bits 0–2. */
+function three(bits: Int32Array, j: number): number {
+  const q = j >>> 5, sh = j & 31;
+  let x = bits[q] >>> sh;
+  if (sh > 29) x |= bits[q + 1] << (32 - sh);
+  return x & 7;
+}
+
+/** The tree being built: nodes, elder-rule pairs, and the merge step. */
+class TreeBuilder {
+  readonly vertex = new IntList(1024);
+  readonly parent = new IntList(1024);
+  readonly birth = new IntList(1024);
+  readonly children = new IntList(1024);
+  readonly pairB = new IntList(1024);
+  readonly pairD = new IntList(1024);
+
+  constructor(private readonly values: ArrayLike<number>, private readonly up: boolean) {}
+
+  newNode(vtx: number, birth: number): number {
+    this.vertex.push(vtx);
+    this.parent.push(-1);
+    this.children.push(0);
+    return this.birth.push(birth);
+  }
+
+  /** true when component birth a is older than b in this sweep's direction */
+  older(a: number, b: number): boolean {
+    if (a < 0) return true;
+    if (b < 0) return false;
+    const va = this.values[a], vb = this.values[b];
+    return this.up ? va < vb || (va === vb && a < b) : va > vb || (va === vb && a > b);
+  }
+
+  /** Vertex v joins the nr distinct components in roots[]: the oldest survives, the others die at v. */
+  merge(forest: Int32Array, roots: Int32Array, v: number, nr: number): void {
+    const birth = this.birth.data;
+    let elder = roots[0];
+    for (let t = 1; t < nr; t++) {
+      const r = roots[t];
+      if (this.older(birth[-1 - forest[r]], birth[-1 - forest[elder]])) elder = r;
+    }
+    const node = this.newNode(v, birth[-1 - forest[elder]]);
+    const parent = this.parent.data, children = this.children.data, bornAt = this.birth.data;
+    for (let t = 0; t < nr; t++) {
+      const r = roots[t];
+      const child = -1 - forest[r];
+      parent[child] = node;
+      children[node]++;
+      if (r !== elder) { this.pairB.push(bornAt[child]); this.pairD.push(v); }
+    }
+    for (let t = 0; t < nr; t++) {
+      const r = roots[t];
+      if (r !== elder) forest[r] = elder + 1;
+    }
+    forest[v] = elder + 1;
+    forest[elder] = -1 - node;
+  }
+}
+
 /**
  * Sweep the order upward (join tree) or downward (split tree).
  * @param order ascending (value, index) order of the valid vertices
@@ -33,86 +112,29 @@ export interface MergeTree {
  *   memory (its contents are overwritten); without it the sweep allocates its own.
  */
 export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'join' | 'split', scratch?: Int32Array): MergeTree {
+  // The loops below use no closures: optimised code then does not hold on to one call's arrays
+  // and is reused from call to call (it matters for many small grids).
   const n = cx.n;
-  const values = cx.values;
   const up = kind === 'join';
   const virtualAdj = up ? (cx.hasOmega ? cx.omegaAdj : null) : (cx.hasTop ? cx.topAdj : null);
   // Union-find forest, one entry per vertex (+1 for the virtual vertex at index n), set when the
   // vertex is swept: p + 1 (> 0) = parent p, −1 − node (< 0) = a root carrying its tree node.
   // Entries of vertices not swept yet are never read, so a reused buffer needs no clearing.
-  const parent = scratch !== undefined && scratch.length >= n + 1 ? scratch : new Int32Array(n + 1);
+  const forest = scratch !== undefined && scratch.length >= n + 1 ? scratch : new Int32Array(n + 1);
   // swept vertices, one bit each: small enough to stay in cache while the forest does not
   const done = new Int32Array((n + 32) >>> 5);
-  const nodeVertex = new IntList(1024), nodeParent = new IntList(1024), nodeBirth = new IntList(1024), nodeChildren = new IntList(1024);
-  const pairB = new IntList(1024), pairD = new IntList(1024);
+  const tree = new TreeBuilder(cx.values, up);
   const nbr = new Int32Array(cx.maxDegree + 1);
   const roots = new Int32Array(cx.maxDegree + 1);
 
-  const newNode = (vtx: number, birth: number): number => {
-    nodeVertex.push(vtx);
-    nodeParent.push(-1);
-    nodeChildren.push(0);
-    return nodeBirth.push(birth);
-  };
-  const find = (x: number): number => {
-    for (;;) {
-      const p = parent[x];
-      if (p < 0) return x;
-      const gp = parent[p - 1];
-      if (gp < 0) return p - 1;
-      parent[x] = gp; // path halving: x now points to its grandparent
-      x = gp - 1;
-    }
-  };
-  /** true when component birth a is older than b in this sweep's direction */
-  const older = (a: number, b: number): boolean => {
-    if (a < 0) return true;
-    if (b < 0) return false;
-    const va = values[a], vb = values[b];
-    return up ? va < vb || (va === vb && a < b) : va > vb || (va === vb && a > b);
-  };
-  const addRoot = (nr: number, r: number): number => {
-    for (let t = 0; t < nr; t++) if (roots[t] === r) return nr;
-    roots[nr] = r;
-    return nr + 1;
-  };
-  /** Vertex v joins the nr distinct components in roots[]: the oldest survives, the others die at v. */
-  const merge = (v: number, nr: number): void => {
-    let elder = roots[0];
-    for (let t = 1; t < nr; t++) {
-      const r = roots[t];
-      if (older(nodeBirth.data[-1 - parent[r]], nodeBirth.data[-1 - parent[elder]])) elder = r;
-    }
-    const elderBirth = nodeBirth.data[-1 - parent[elder]];
-    const node = newNode(v, elderBirth);
-    for (let t = 0; t < nr; t++) {
-      const r = roots[t];
-      const child = -1 - parent[r];
-      nodeParent.data[child] = node;
-      nodeChildren.data[node]++;
-      if (r !== elder) { pairB.push(nodeBirth.data[child]); pairD.push(v); }
-    }
-    for (let t = 0; t < nr; t++) {
-      const r = roots[t];
-      if (r !== elder) parent[r] = elder + 1;
-    }
-    parent[v] = elder + 1;
-    parent[elder] = -1 - node;
-  };
-
-  if (virtualAdj !== null) {
-    const node = newNode(-1, -1);
-    parent[n] = -1 - node;
-  }
+  if (virtualAdj !== null) forest[n] = -1 - tree.newNode(-1, -1);
 
   // Interior grid cells away from the virtual vertex: which ring positions are swept already
   // tells, through the stencil tables, whether v starts a component, can only extend one (no
   // find needed), or may join several (one find per group of connected neighbours).
   const grid = cx instanceof GridComplex ? cx : null;
   const stencil = grid !== null ? grid.sweepStencil(up) : null;
-  // without nodata, only cells on the grid edge can touch the virtual vertex
-  const interiorVirtual = virtualAdj !== null && (grid === null || grid.hasNodata);
-  const w = grid !== null ? grid.w : 0, h = grid !== null ? grid.h : 0;
+  const w = grid !== null ? grid.w : 0;
   const off = stencil !== null ? stencil.offsets : new Int32Array(0);
   const comps = stencil !== null ? stencil.components : new Uint8Array(1);
   const nbrMask = stencil !== null ? stencil.nbrMask : 0;
@@ -122,22 +144,8 @@ export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'jo
   // ring position 0 is the east neighbour; the west one is position 4 of 8, or 3 of 6
   const westPos = rs === 6 ? 3 : 4, westBit = 1 << westPos;
   // cells that take the general path, one bit each: the grid edge, and cells next to the virtual
-  // vertex when nodata lets it reach the interior
-  let slow: Int32Array | null = null;
-  if (grid !== null) {
-    slow = new Int32Array((n + 32) >>> 5);
-    const mark = (i: number): void => { slow![i >>> 5] |= 1 << (i & 31); };
-    for (let c = 0; c < w; c++) { mark(c); mark((h - 1) * w + c); }
-    for (let r = 0; r < h; r++) { mark(r * w); mark(r * w + w - 1); }
-    if (interiorVirtual) for (let i = 0; i < n; i++) if (virtualAdj![i]) mark(i);
-  }
-  /** Flags of cells j, j + 1, j + 2 in the bit set, as bits 0–2. */
-  const three = (bits: Int32Array, j: number): number => {
-    const q = j >>> 5, sh = j & 31;
-    let x = bits[q] >>> sh;
-    if (sh > 29) x |= bits[q + 1] << (32 - sh);
-    return x & 7;
-  };
+  // vertex when nodata lets it reach the interior (without nodata only edge cells touch it)
+  const slow = grid !== null ? generalCells(grid, virtualAdj !== null && grid.hasNodata ? virtualAdj : null) : null;
 
   const m = order.length;
   for (let s = 0; s < m; s++) {
@@ -152,22 +160,22 @@ export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'jo
         const nb = swept & nbrMask;
         const k = nb & 1 ? 0 : nb & westBit ? westPos : 31 - Math.clz32(nb & -nb);
         const j = v + off[k];
-        const p = parent[j];
-        parent[v] = p > 0 ? p : j + 1;
+        const p = forest[j];
+        forest[v] = p > 0 ? p : j + 1;
         continue;
       }
       if (groups === 0) {
-        parent[v] = -1 - newNode(v, v);
+        forest[v] = -1 - tree.newNode(v, v);
         continue;
       }
       // one find per group of neighbours already known to be connected, in ring order
       // (the first neighbour of each group), so roots[] is ordered as a scan of all would order it
       let nr = 0;
       for (let reps = repr[swept]; reps !== 0; reps &= reps - 1) {
-        nr = addRoot(nr, find(v + off[31 - Math.clz32(reps & -reps)]));
+        nr = addRoot(roots, nr, find(forest, v + off[31 - Math.clz32(reps & -reps)]));
       }
-      if (nr === 1) parent[v] = roots[0] + 1;
-      else merge(v, nr);
+      if (nr === 1) forest[v] = roots[0] + 1;
+      else tree.merge(forest, roots, v, nr);
       continue;
     }
     const k = up ? cx.sublevelNbrs(v, nbr) : cx.superlevelNbrs(v, nbr);
@@ -175,27 +183,45 @@ export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'jo
     for (let q = 0; q < k; q++) {
       const j = nbr[q];
       if (((done[j >>> 5] >>> (j & 31)) & 1) === 0) continue;
-      nr = addRoot(nr, find(j));
+      nr = addRoot(roots, nr, find(forest, j));
     }
-    if (virtualAdj !== null && virtualAdj[v]) nr = addRoot(nr, find(n));
+    if (virtualAdj !== null && virtualAdj[v]) nr = addRoot(roots, nr, find(forest, n));
     if (nr === 0) {
-      parent[v] = -1 - newNode(v, v);
+      forest[v] = -1 - tree.newNode(v, v);
     } else if (nr === 1) {
-      parent[v] = roots[0] + 1;
+      forest[v] = roots[0] + 1;
     } else {
-      merge(v, nr);
+      tree.merge(forest, roots, v, nr);
     }
   }
   return {
     kind,
-    vertex: nodeVertex.toArray(),
-    parent: nodeParent.toArray(),
-    birth: nodeBirth.toArray(),
-    childCount: nodeChildren.toArray(),
+    vertex: tree.vertex.toArray(),
+    parent: tree.parent.toArray(),
+    birth: tree.birth.toArray(),
+    childCount: tree.children.toArray(),
     hasVirtual: virtualAdj !== null,
-    pairBirth: pairB.toArray(),
-    pairDeath: pairD.toArray(),
+    pairBirth: tree.pairB.toArray(),
+    pairDeath: tree.pairD.toArray(),
   };
+}
+
+/** Bit set of the cells a grid sweep handles in general: the grid edge, and the given cells. */
+function generalCells(grid: GridComplex, also: Uint8Array | null): Int32Array {
+  const n = grid.n, w = grid.w, h = grid.h;
+  const bits = new Int32Array((n + 32) >>> 5);
+  for (let c = 0; c < w; c++) {
+    bits[c >>> 5] |= 1 << (c & 31);
+    const i = (h - 1) * w + c;
+    bits[i >>> 5] |= 1 << (i & 31);
+  }
+  for (let r = 0; r < h; r++) {
+    const i = r * w, j = i + w - 1;
+    bits[i >>> 5] |= 1 << (i & 31);
+    bits[j >>> 5] |= 1 << (j & 31);
+  }
+  if (also !== null) for (let i = 0; i < n; i++) if (also[i]) bits[i >>> 5] |= 1 << (i & 31);
+  return bits;
 }
 
 /**
