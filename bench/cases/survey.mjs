@@ -30,9 +30,9 @@ function freshGrid(L, ctx) {
   return new L.Grid({ width: ctx.size, height: ctx.size, values: ctx.float64 ? Float64Array.from(v) : v.slice() });
 }
 
-/** Run survey once on a small grid so the timed runs measure compiled code. */
+/** Run survey on a small grid so the timed runs measure compiled code. */
 function warmUp(L) {
-  const n = 256, v = new Float32Array(n * n);
+  const n = 128, v = new Float32Array(n * n);
   for (let i = 0; i < v.length; i++) v[i] = Math.sin(i * 0.37) * 10 + ((i * 2654435761) >>> 0) / 2 ** 32;
   L.survey(new L.Grid({ width: n, height: n, values: v }), OPTS);
 }
@@ -56,6 +56,7 @@ export const surveyCase = {
       const a = await timeIt((f) => f.sort(), { setup: () => Float64Array.from(values) });
       const b = await timeIt((g) => L.survey(g, OPTS), {
         setup: () => freshGrid(L, ctx),
+        warm: () => warmUp(L),
         teardown: (res) => {
           checkEuler(ctx, res);
           ctx.note('survey.euler', res.euler);
@@ -91,6 +92,7 @@ export const stagesCase = {
     for (let k = 0; k < ctx.repeat; k++) {
       const g = freshGrid(L, ctx);
       collect();
+      warmUp(L);
       const step = (name, fn) => {
         const t = lap(fn);
         stages[name].push(t.wall);
@@ -147,7 +149,7 @@ export const loadCase = {
         const g = await reader(path);
         readMs.push(performance.now() - t0);
         return L.survey(g, OPTS);
-      }, { repeat: ctx.repeat, teardown: (res) => checkEuler(ctx, res) });
+      }, { repeat: ctx.repeat, warm: () => warmUp(L), teardown: (res) => checkEuler(ctx, res) });
       ctx.record('load.read.ms', median(readMs), { label: '  readGeoTiff', unit: 'ms', samples: readMs });
       ctx.record('load.total.ms', median(ms), { label: 'readGeoTiff + survey', unit: 'ms', samples: ms, cpu: ms.cpu });
     } finally {

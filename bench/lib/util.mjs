@@ -28,14 +28,16 @@ export function collect() {
  * Time fn() `repeat` times (fresh `setup()` input each time, not timed) and return the
  * wall-clock samples in milliseconds; the array also carries `cpu`, the process CPU time
  * (user + system) of each sample, which other work on the machine inflates less.
- * A full GC runs before every sample so one sample's garbage is not charged to the next.
+ * A full GC runs before every sample so one sample's garbage is not charged to the next;
+ * a forced full GC can also throw away optimised code, so `warm()` (not timed) runs after it.
  */
-export async function timeIt(fn, { repeat = 1, setup = null, teardown = null } = {}) {
+export async function timeIt(fn, { repeat = 1, setup = null, teardown = null, warm = null } = {}) {
   const ms = [];
   ms.cpu = [];
   for (let k = 0; k < repeat; k++) {
     const input = setup ? await setup() : undefined;
     collect();
+    if (warm) await warm();
     const c0 = process.cpuUsage();
     const t0 = performance.now();
     const out = await fn(input);
