@@ -213,6 +213,12 @@ describe('demo reports in Chromium', () => {
       const inTree = await page.locator(`#tree g.mk[data-k="${other}"]`).count();
       if (inTree) expect(await page.locator(`#tree g.mk[data-k="${other}"]`).first().getAttribute('class')).toMatch(/\bsel\b/);
       await page.locator('#sec-map').screenshot({ path: join(SHOTS, `${name}-selected.png`) });
+      // the "show all" button shows only when rows are left out
+      const rowsShown = await page.locator(`${T} tbody tr`).count();
+      expect(await page.locator(`#tbl-${want.table} .tablebar button`, { hasText: /^show all/ }).isVisible()).toBe(rowsShown < (await page.evaluate((id) => {
+        const d = JSON.parse(document.getElementById('sill-data')!.textContent!);
+        return d.tables.find((t: { id: string }) => t.id === id).rows.length;
+      }, want.table)));
       // sorting by a numeric column orders the rows
       const heads = await page.locator(`${T} th`).allTextContents();
       const col = heads.findIndex((h) => h.startsWith(want.sortBy)) + 1;

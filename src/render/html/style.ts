@@ -24,6 +24,7 @@ export function reportCss(): string {
   return `
 :root { color-scheme: light; }
 * { box-sizing: border-box; }
+[hidden] { display: none !important; }
 body { margin: 0; background: ${T.page}; color: ${T.text}; font: 15px/1.45 ${FONT}; }
 a { color: ${T.link}; }
 main { max-width: 1480px; margin: 0 auto; padding: 0 20px 40px; }
