@@ -125,6 +125,7 @@ export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResul
     minDepth: Math.max(minDepth, minPersistence), minArea, minVolume,
     areaScale, zFactor: areas.zFactor, fillOnlyBelow: opts.fillOnlyBelow,
   });
+  sw.sums = undefined; // the per-node sums are in the hierarchy now; let their memory go
   let sweepPits = 0;
   for (let k = 1; k < sw.count; k++) if (sw.vertex[k] === sw.birth[k]) sweepPits++;
   // The sweep and the lower links find pits independently: a cell starts a component exactly
