@@ -146,3 +146,28 @@ describe('sill ponds --report (command line)', () => {
     expect(html).toContain('--origin 0.5,8.5 --spacing 1,-1');
   });
 });
+
+describe('scattered samples', () => {
+  it('are drawn interpolated on their triangles, features at their own coordinates', async () => {
+    const { Mesh } = await import('../../src/surface/mesh.js');
+    // a single Gaussian well sampled on a jittered lattice: one pit (analytic), at the sample nearest (50, 30)
+    const xs: number[] = [], ys: number[] = [], vs: number[] = [];
+    for (let j = 0; j < 13; j++) for (let i = 0; i < 21; i++) {
+      const x = i * 5 + ((i * 7 + j * 3) % 5) * 0.3, y = j * 5 + ((i * 3 + j * 5) % 5) * 0.3;
+      xs.push(x); ys.push(y); vs.push(-Math.exp(-((x - 50) ** 2 + (y - 30) ** 2) / 300) + 1e-4 * x);
+    }
+    const mesh = new Mesh(Float64Array.from(xs), Float64Array.from(ys), Float64Array.from(vs));
+    const { result, report } = surveyReport(mesh, { boundary: 'closed' }, 'well');
+    const built = buildSurveyReport(mesh, result, report, { commandLine: 'sill survey well', files: [] });
+    const d = dataOf(renderHtml(built.doc));
+    expect(d.interpolated).toBe(true);
+    const pit = report.criticalPoints.find((c) => c.kind === 'pit')!;
+    expect(Math.hypot(pit.x - 50, pit.y - 30)).toBeLessThan(4);
+    // the pit marker sits at the inverse transform of its (x, y): u = (x − x0)/dx, v = (y − y0)/dy
+    const t = d.frame.transform as number[];
+    const m = new RegExp(`data-k="v${pit.index}" transform="translate\\(([-\\d.]+) ([-\\d.]+)\\)`).exec(built.svgs.map)!;
+    expect(Number(m[1])).toBeCloseTo((pit.x - t[0]) / t[1], 2);
+    expect(Number(m[2])).toBeCloseTo((pit.y - t[3]) / t[5], 2);
+    expect(built.doc.map.markers).toBe(report.criticalPoints.length);
+  });
+});

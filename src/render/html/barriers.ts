@@ -203,7 +203,7 @@ export function buildBarriersReport(result: BarriersResult, report: BarriersRepo
       svg: map.svg, geometry: map.geometry, frame: sd.frame, markers: markers.length,
       caption: 'Scroll or pinch to zoom, drag to pan. ▽ minima (labelled), ◇ transition states, white lines the minimum-energy paths. Click one to find it in the graph and the tables.',
       toggles: [{ id: 'surface', label: 'surface', on: true }, { id: 'contours', label: 'contours', on: true }, { id: 'paths', label: 'paths', on: true }, { id: 'markers', label: 'markers', on: true }],
-      hover: [surfaceHover(sd, 'energy', eu)], xyUnit: sd.xyUnit, geographic: false,
+      hover: [surfaceHover(sd, sd.isGrid ? 'energy' : 'energy (interpolated)', eu)], xyUnit: sd.xyUnit, geographic: false, interpolated: !sd.isGrid,
     },
     treeTitle: 'Disconnectivity graph',
     tree: { svg: tree.svg, markers: tree.markers, caption: 'Energy rises upward. Each minimum starts a branch; two branches join at the transition state where their basins first meet, so the height of a join above a minimum is its barrier.' },

@@ -15,7 +15,7 @@ export function reportClient(): void {
   interface Data {
     frame: { width: number; height: number; transform: number[]; factor: number; dw: number; dh: number };
     geometry: { fw: number; fh: number; ml: number; mt: number; pw: number; ph: number; k: number };
-    northUp: boolean; geographic: boolean; xyUnit: string;
+    northUp: boolean; geographic: boolean; xyUnit: string; interpolated: boolean;
     hover: HoverLayer[];
     tips: Record<string, Tip>;
     tables: Table[];
@@ -250,7 +250,10 @@ export function reportClient(): void {
     const X = t[0] + (c + 0.5) * t[1] + (r + 0.5) * t[2], Y = t[3] + (c + 0.5) * t[4] + (r + 0.5) * t[5];
     const xy = D.geographic ? `${X.toFixed(6)}, ${Y.toFixed(6)}` : `${fmt(X, 9)}, ${fmt(Y, 9)}`;
     const f = F.factor, i = Math.floor(c / f), j = Math.floor(r / f), p = j * F.dw + i;
-    const bits: string[] = [f > 1 ? `cell (${c}, ${r}), block of ${f}×${f}` : `cell (${c}, ${r})`, `x, y ${xy}${D.xyUnit ? ' ' + D.xyUnit : ''}`];
+    const bits: string[] = [
+      ...(D.interpolated ? [] : [f > 1 ? `cell (${c}, ${r}), block of ${f}×${f}` : `cell (${c}, ${r})`]),
+      `x, y ${xy}${D.xyUnit ? ' ' + D.xyUnit : ''}`,
+    ];
     D.hover.forEach((L, q) => {
       const a = hoverData[q];
       if (!a || !a.length) return;

@@ -69,6 +69,8 @@ export interface MapBlock extends FigureBlock {
   hover: HoverLayer[];
   /** Map x/y units for the pointer read-out. */
   xyUnit: string;
+  /** The display raster interpolates scattered samples (no data cells to name). */
+  interpolated?: boolean;
   geographic: boolean;
 }
 

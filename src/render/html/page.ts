@@ -18,7 +18,7 @@ export function clientScript(): string {
 export function renderHtml(doc: ReportDoc): string {
   const m = doc.map;
   const data = {
-    frame: m.frame, geometry: m.geometry, northUp: northUp(m.frame.transform), geographic: m.geographic, xyUnit: m.xyUnit,
+    frame: m.frame, geometry: m.geometry, northUp: northUp(m.frame.transform), geographic: m.geographic, xyUnit: m.xyUnit, interpolated: !!m.interpolated,
     hover: m.hover, tips: doc.tips, tables: doc.tables,
   };
   const header = doc.header.map((h) => {
