@@ -11,7 +11,7 @@ import { mapToPlot, finiteRange } from '../figures/raster.js';
 import { fmtNum } from '../figures/scale.js';
 import { n } from '../figures/svg.js';
 import type { ReportDoc, TableSpec, ReportContext, BuiltReport } from './model.js';
-import { surfaceDisplay, surfaceLayer, surfaceContours, surfaceHover, displayNotes, commonHeader, valueDecimals, fmtDec, type SurfaceDisplay } from './surface.js';
+import { surfaceDisplay, surfaceLayer, surfaceContours, surfaceHover, displayNotes, commonHeader, readoutNote, valueDecimals, fmtDec, type SurfaceDisplay } from './surface.js';
 import { axesLabels, pairsDiagram, vkey, xyText } from './survey.js';
 
 export const skey = (id: string): string => `s:${id}`;
@@ -210,7 +210,7 @@ export function buildBarriersReport(result: BarriersResult, report: BarriersRepo
     persistence: { svg: diagram.svg, markers: diagram.drawn, caption: 'Pairs of critical points of the sampled surface; the shaded band holds the basins merged by the persistence threshold.' },
     tables, tips,
     facts: [`${nMin} minima, ${nTs} transition states, ${report.barriers.length} barriers`, `Euler ${report.euler.holds ? 'holds ✓' : 'FAILS ✗'} (χ = ${report.euler.characteristic})`],
-    notes: [...mapNotes, 'Markers: minimum ▽, transition state ◇ — told apart by shape; colour repeats the kind.', `Colour ramp: ${layer.ramp.name} (d3-scale-chromatic).`, ...report.notes],
+    notes: [...mapNotes, readoutNote(sd), 'Markers: minimum ▽, transition state ◇ — told apart by shape; colour repeats the kind.', `Colour ramp: ${layer.ramp.name} (d3-scale-chromatic).`, ...report.notes],
     files: ctx.files,
     version: report.sill,
     generated: ctx.generated ?? new Date().toISOString(),

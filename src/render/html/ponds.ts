@@ -19,7 +19,7 @@ import { n } from '../figures/svg.js';
 import { RAMPS } from '../figures/theme.js';
 import type { ReportDoc, TableSpec, ReportContext, BuiltReport, HoverLayer } from './model.js';
 import {
-  surfaceDisplay, surfaceLayer, surfaceContours, surfaceHover, displayNotes, commonHeader, TERRAIN_CAUTION, valueDecimals, fmtDec, packArray,
+  surfaceDisplay, surfaceLayer, surfaceContours, surfaceHover, displayNotes, commonHeader, readoutNote, TERRAIN_CAUTION, valueDecimals, fmtDec, packArray,
 } from './surface.js';
 import { axesLabels } from './survey.js';
 
@@ -123,7 +123,9 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
   const dec = valueDecimals(g.values, finiteRange(sd.stats.min)[0], finiteRange(sd.stats.max)[1]);
   const fz = (x: number) => fmtDec(x, dec);
   const geo = sd.geographic;
-  const xyUnit = sd.xyUnit || (g.crs ? 'CRS units' : 'input units');
+  // the unit ponds measured the horizontal in (it may have assumed metres for a CRS that names none)
+  const hu = /^(m|ft|us-ft|km|deg)\b/.exec(u.horizontal)?.[1];
+  const xyUnit = sd.xyUnit || (hu === 'deg' ? '°' : hu) || (g.crs ? 'CRS units' : 'input units');
 
   // water depth overlay: block means of the depth at the spill levels
   const R = result.rasters;
@@ -312,7 +314,7 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
       `${fmtNum(t.volume, 4)} ${vu} over ${fmtNum(t.area, 4)} ${au}`,
       ...(report.euler ? [`Euler ${report.euler.holds ? 'holds ✓' : 'FAILS ✗'} (χ = ${report.euler.characteristic})`] : []),
     ],
-    notes: [...mapNotes, 'Markers: pit ▽, pour point ➤ (pointing to the cell the water spills into), nesting ◇ where depressions merge.',
+    notes: [...mapNotes, readoutNote(sd), 'Markers: pit ▽, pour point ➤ (pointing to the cell the water spills into), nesting ◇ where depressions merge.',
       `Colour ramps: ${layer.ramp.name} for the terrain, ${depthRamp.name} (reversed) for the depth — d3-scale-chromatic.`],
     files: ctx.files,
     version: report.sill,

@@ -151,8 +151,8 @@ export function surfaceHover(sd: SurfaceDisplay, label: string, unit: string): H
 export function displayNotes(sd: SurfaceDisplay, surface: Grid | Mesh, contours: ContourSet | null, valueUnit: string): string[] {
   const notes: string[] = [];
   if (!sd.isGrid) notes.push(`scattered samples shown interpolated linearly on their Delaunay triangles (${sd.frame.width} × ${sd.frame.height} display cells)`);
-  else if (sd.frame.factor > 1) notes.push(`display: blocks of ${sd.frame.factor} × ${sd.frame.factor} cells (${sd.frame.dw} × ${sd.frame.dh}); block means coloured, pointer shows each block's range; features at full resolution`);
-  else notes.push(`display: one pixel per cell (${surface.kind === 'grid' ? `${surface.width} × ${surface.height}` : ''}); pointer shows exact cell values`);
+  else if (sd.frame.factor > 1) notes.push(`display: blocks of ${sd.frame.factor} × ${sd.frame.factor} cells (${sd.frame.dw} × ${sd.frame.dh}), coloured by their mean; features at full resolution`);
+  else notes.push(`display: one pixel per cell (${surface.kind === 'grid' ? `${surface.width} × ${surface.height}` : ''})`);
   if (contours && contours.lines.length) notes.push(`contours every ${fmtNum(contours.levels.step)}${valueUnit ? ' ' + valueUnit : ''} (thicker every ${fmtNum(contours.levels.step * contours.levels.indexEvery)})`);
   return notes;
 }
@@ -203,6 +203,14 @@ export function commonHeader(r: CommonHeaderInput, parameters: string, commandLi
     { label: 'Command', value: commandLine, mono: true },
     { label: 'sill version', value: r.sill },
   ];
+}
+
+/** What the pointer read-out under the map shows (for the page's notes). */
+export function readoutNote(sd: SurfaceDisplay): string {
+  if (!sd.isGrid) return 'The read-out under the map gives the interpolated value under the pointer.';
+  return sd.frame.factor > 1
+    ? `The read-out under the map gives the range of the ${sd.frame.factor} × ${sd.frame.factor} cells under the pointer; tooltips of features give their full-resolution values.`
+    : 'The read-out under the map gives the exact value of the cell under the pointer.';
 }
 
 /** The screening caution every terrain report carries. */

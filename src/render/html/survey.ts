@@ -12,7 +12,7 @@ import { fmtNum, topIndices } from '../figures/scale.js';
 import type { MarkerKind } from '../figures/markers.js';
 import type { ReportDoc, TableSpec, ReportContext, BuiltReport } from './model.js';
 import {
-  surfaceDisplay, surfaceLayer, surfaceContours, surfaceHover, displayNotes, commonHeader, plotOf, TERRAIN_CAUTION, valueDecimals, fmtDec, type SurfaceDisplay,
+  surfaceDisplay, surfaceLayer, surfaceContours, surfaceHover, displayNotes, commonHeader, readoutNote, plotOf, TERRAIN_CAUTION, valueDecimals, fmtDec, type SurfaceDisplay,
 } from './surface.js';
 import { finiteRange } from '../figures/raster.js';
 
