@@ -51,7 +51,7 @@ export class MemoryProbe {
   baseline() {
     try { writeFileSync('/proc/self/clear_refs', '5'); this.hwmReset = true; } catch { this.hwmReset = false; }
     const mu = process.memoryUsage();
-    this.base = { rss: mu.rss, js: mu.heapUsed + mu.arrayBuffers };
+    this.base = { rss: mu.rss, js: mu.heapUsed + mu.arrayBuffers, heap: mu.heapUsed, buffers: mu.arrayBuffers };
     new Float64Array(this.peakBuf)[0] = mu.rss;
     this.marks = [];
   }
@@ -59,7 +59,10 @@ export class MemoryProbe {
   /** Record process.memoryUsage() at a named point (no GC). */
   mark(label) {
     const mu = process.memoryUsage();
-    this.marks.push({ label, rss: mu.rss - this.base.rss, js: mu.heapUsed + mu.arrayBuffers - this.base.js });
+    this.marks.push({
+      label, rss: mu.rss - this.base.rss, js: mu.heapUsed + mu.arrayBuffers - this.base.js,
+      heap: mu.heapUsed - this.base.heap, buffers: mu.arrayBuffers - this.base.buffers,
+    });
   }
 
   async stop() {
