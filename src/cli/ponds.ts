@@ -4,11 +4,13 @@ import { InputError } from '../errors.js';
 import { pondsReport, pondsCsvColumns, type PondsReport, type DepressionRecord } from '../report/ponds.js';
 import type { PondsResult } from '../hydro/ponds.js';
 import { topLabels } from '../hydro/rasters.js';
-import { depressionOutlines, type PolygonCoords } from '../hydro/vectors.js';
+import { depressionOutlines, type DepressionOutline } from '../hydro/vectors.js';
 import { toWgs84 } from '../hydro/reproject.js';
 import { stageVolume } from '../hydro/stage.js';
 import { writeGeoTiff } from '../io/index.js';
 import { toCsv, featureCollection, pointFeature, type Feature } from '../io/tables.js';
+import { openSync, writeSync, closeSync } from 'node:fs';
+import { once } from 'node:events';
 import { OutputFolder } from '../io/outdir.js';
 import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, fmtCoord, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
@@ -105,7 +107,12 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
     written = await writePondsFiles(opts.out, result, report, { project, stageId, stageStep, progress, render });
   }
   progress.done();
-  if (opts.json) process.stdout.write(JSON.stringify(report) + '\n');
+  if (opts.json) {
+    // streamed: the text of a large report can be longer than one string may be
+    for (const chunk of reportJsonChunks(report, false)) {
+      if (!process.stdout.write(chunk)) await once(process.stdout, 'drain');
+    }
+  }
   say(opts, pondsSummary(report, opts.out, written));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
@@ -136,6 +143,14 @@ export async function writePondsFiles(dir: string, result: PondsResult, report: 
 
     w.progress?.stage('tracing outlines');
     const outlines = depressionOutlines(g, R.labels, result.hierarchy);
+    const omitted = outlines.reduce((k, o) => k + (o.omitted ? 1 : 0), 0);
+    report.outlines = {
+      traced: outlines.length - omitted,
+      omitted,
+      note: omitted > 0
+        ? `${omitted} nested merged depressions have no polygon in depressions.geojson (null geometry): tracing every level of this deep hierarchy would scan the grid too many times; the top-level and leaf depressions and the largest nested ones are traced — use --min-depth, --min-area or --min-volume to simplify the hierarchy`
+        : 'every depression has its polygon',
+    };
     const tokens = result.areas.units.tokens;
     const meta = {
       name: 'depressions',
@@ -143,9 +158,11 @@ export async function writePondsFiles(dir: string, result: PondsResult, report: 
       units: report.units,
       caution: report.caution,
     };
-    out.write('depressions.geojson', featureCollection(depressionFeatures(report, outlines, null), g.crs, meta));
-    if (w.project) out.write('depressions-wgs84.geojson', featureCollection(depressionFeatures(report, outlines, w.project), null, { ...meta, name: 'depressions-wgs84' }));
-    out.write('depressions.csv', toCsv(report.depressions, pondsCsvColumns(tokens)));
+    w.progress?.stage('writing depressions.geojson');
+    writeChunks(out.path('depressions.geojson'), featureChunks(report, outlines, null, g.crs, meta));
+    if (w.project) writeChunks(out.path('depressions-wgs84.geojson'), featureChunks(report, outlines, w.project, null, { ...meta, name: 'depressions-wgs84' }));
+    w.progress?.stage('writing depressions.csv');
+    writeChunks(out.path('depressions.csv'), csvChunks(report.depressions, pondsCsvColumns(tokens)));
     if (w.stageId !== undefined) {
       const table = stageVolume(result, w.stageId, w.stageStep);
       out.write(`stage-volume-${w.stageId}.csv`, toCsv(table, [
@@ -155,7 +172,8 @@ export async function writePondsFiles(dir: string, result: PondsResult, report: 
         ['cells', (s) => s.cells],
       ]));
     }
-    out.write('report.json', JSON.stringify(report, null, 1) + '\n');
+    w.progress?.stage('writing report.json');
+    writeChunks(out.path('report.json'), reportJsonChunks(report, true));
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'filled.tif', 'depth.tif', 'labels.tif'], (ctx) => buildPondsHtml(result, report, ctx));
     return out.commit();
@@ -173,26 +191,70 @@ function depressionProps(d: DepressionRecord): Record<string, unknown> {
   };
 }
 
-function depressionFeatures(report: PondsReport, outlines: { id: number; polygons: PolygonCoords[] }[], project: ((x: number, y: number) => [number, number]) | null): Feature[] {
+/** Write text pieces to a file through a 1 MB buffer (no single string holds the whole file). */
+function writeChunks(path: string, chunks: Iterable<string>): void {
+  const fd = openSync(path, 'w');
+  try {
+    let buf: string[] = [], size = 0;
+    for (const c of chunks) {
+      buf.push(c);
+      size += c.length;
+      if (size >= 1 << 20) { writeSync(fd, buf.join('')); buf = []; size = 0; }
+    }
+    if (buf.length) writeSync(fd, buf.join(''));
+  } finally {
+    closeSync(fd);
+  }
+}
+
+/** The report as JSON text in pieces: every key, then the depressions one record a line. */
+export function* reportJsonChunks(report: PondsReport, pretty: boolean): Generator<string> {
+  const { depressions, ...rest } = report;
+  const head = pretty ? JSON.stringify(rest, null, 1) : JSON.stringify(rest);
+  yield head.slice(0, head.lastIndexOf('}')).replace(/\s+$/, '');
+  yield pretty ? ',\n "depressions": [' : ',"depressions":[';
+  for (let k = 0; k < depressions.length; k++) yield (k ? ',' : '') + (pretty ? '\n  ' : '') + JSON.stringify(depressions[k]);
+  yield pretty ? (depressions.length ? '\n ]\n}\n' : ']\n}\n') : ']}\n';
+}
+
+/** CSV text in pieces of 10 000 rows (one header). */
+function* csvChunks<T>(rows: readonly T[], columns: readonly [string, (r: T) => unknown][]): Generator<string> {
+  for (let k = 0; k < Math.max(1, rows.length); k += 10000) {
+    const text = toCsv(rows.slice(k, k + 10000), columns);
+    yield k === 0 ? text : text.slice(text.indexOf('\n') + 1);
+  }
+}
+
+/**
+ * depressions.geojson in pieces, in the layout of featureCollection (src/io/tables.ts): the
+ * collection's members, then one feature at a time — a polygon per depression (null geometry when
+ * its outline was left out), then a point per pour point.
+ */
+function* featureChunks(report: PondsReport, outlines: DepressionOutline[], project: ((x: number, y: number) => [number, number]) | null, crs: PondsResult['grid']['crs'], meta: Record<string, unknown>): Generator<string> {
+  const empty = featureCollection([], crs, meta);
+  yield empty.slice(0, empty.lastIndexOf('[') + 1);
   const P = project ?? ((x: number, y: number): [number, number] => [x, y]);
-  const feats: Feature[] = [];
+  let first = true;
   for (const o of outlines) {
     const d = report.depressions[o.id - 1];
     const coords = o.polygons.map((poly) => poly.map((ring) => ring.map(([x, y]) => P(x, y))));
-    feats.push({
+    const f: Feature = {
       type: 'Feature', id: d.id,
-      geometry: coords.length === 1 ? { type: 'Polygon', coordinates: coords[0] } : { type: 'MultiPolygon', coordinates: coords },
+      geometry: o.omitted ? null : coords.length === 1 ? { type: 'Polygon', coordinates: coords[0] } : { type: 'MultiPolygon', coordinates: coords },
       properties: depressionProps(d),
-    });
+    };
+    yield (first ? '' : ',') + JSON.stringify(f);
+    first = false;
   }
   for (const d of report.depressions) {
     const [x, y] = P(d.pour.x, d.pour.y);
-    feats.push(pointFeature(x, y, {
+    yield (first ? '' : ',') + JSON.stringify(pointFeature(x, y, {
       kind: 'pour point', id: d.id, spillValue: d.spillValue, into: d.into, pourCol: d.pour.col, pourRow: d.pour.row,
       toCol: d.pour.to.col, toRow: d.pour.to.row, toOutside: d.pour.to.outside,
     }));
+    first = false;
   }
-  return feats;
+  yield ']}\n';
 }
 
 export function pondsSummary(r: PondsReport, outDir?: string, files: string[] = []): string {
@@ -231,6 +293,7 @@ export function pondsSummary(r: PondsReport, outDir?: string, files: string[] = 
     }
   }
   lines.push(`caution      ${r.caution}`);
+  if (r.outlines && r.outlines.omitted > 0) lines.push(`outlines     ${r.outlines.note}`);
   if (outDir) lines.push(`files        ${outDir}/ ${files.map((f) => f.split(/[\\/]/).pop()).join(' ')}`);
   return lines.join('\n');
 }

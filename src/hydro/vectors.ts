@@ -19,6 +19,19 @@ export interface DepressionOutline {
   id: number;
   /** Polygons (exterior ring first, then holes), in map coordinates, exterior counter-clockwise. */
   polygons: PolygonCoords[];
+  /** True when the outline was left out to stay within the tracing budget (polygons is then empty). */
+  omitted?: boolean;
+}
+
+export interface OutlineOptions {
+  /**
+   * Most grid cells the tracing may scan, summed over the depressions' bounding boxes (default:
+   * 8 × the grid's cells). Top-level and leaf depressions (whose regions do not overlap) are
+   * always traced; nested merged depressions — each one scans again the cells of the ones inside
+   * it, which in a deep hierarchy adds up fast — are traced largest volume first while the budget
+   * lasts.
+   */
+  budget?: number;
 }
 
 /** Bounding boxes [c0, r0, c1, r1] (inclusive) of each depression's wet cells, nested ones included. */
@@ -84,12 +97,28 @@ function cornerRing(ring: number[][]): Ring {
 }
 
 /**
- * Outline of every depression at its spill level (its wet cells, nested depressions included).
+ * Outline of every depression at its spill level (its wet cells, nested depressions included),
+ * within a budget of scanned cells (see OutlineOptions).
  * @param labels innermost depression id per cell (0 none, −1 nodata)
  */
-export function depressionOutlines(grid: Grid, labels: Int32Array, hier: Hierarchy): DepressionOutline[] {
+export function depressionOutlines(grid: Grid, labels: Int32Array, hier: Hierarchy, opts: OutlineOptions = {}): DepressionOutline[] {
   const W = grid.width;
   const box = depressionBoxes(labels, W, hier);
+  const cost = (d: number): number => (box[4 * d + 2] < 0 ? 0 : (box[4 * d + 2] - box[4 * d] + 1) * (box[4 * d + 3] - box[4 * d + 1] + 1));
+  const trace = new Uint8Array(hier.count + 1);
+  let budget = opts.budget ?? 8 * labels.length;
+  const nested: number[] = [];
+  for (let d = 1; d <= hier.count; d++) {
+    const leaf = hier.childStart[d + 1] === hier.childStart[d];
+    if (hier.parent[d] === 0 || leaf) { trace[d] = 1; budget -= cost(d); } else nested.push(d);
+  }
+  nested.sort((a, b) => hier.volume[b] - hier.volume[a] || a - b);
+  for (const d of nested) {
+    const c = cost(d);
+    if (c > budget) continue;
+    trace[d] = 1;
+    budget -= c;
+  }
   const [x0, dx, rx, y0, ry, dy] = grid.transform;
   const { tin, tout } = hier;
   const gen = contours().smooth(false).thresholds([0.5]);
@@ -97,6 +126,7 @@ export function depressionOutlines(grid: Grid, labels: Int32Array, hier: Hierarc
   for (let d = 1; d <= hier.count; d++) {
     const b = 4 * d;
     const c0 = box[b], r0 = box[b + 1], c1 = box[b + 2], r1 = box[b + 3];
+    if (!trace[d]) { out.push({ id: d, polygons: [], omitted: true }); continue; }
     if (c1 < 0) { out.push({ id: d, polygons: [] }); continue; }
     const bw = c1 - c0 + 1, bh = r1 - r0 + 1;
     const mask = new Uint8Array(bw * bh);

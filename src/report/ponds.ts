@@ -71,6 +71,8 @@ export interface PondsReport {
     filledCells: number;
   };
   labelLevel: 'leaf' | 'top';
+  /** With -o: how many depressions have a polygon in depressions.geojson. */
+  outlines?: { traced: number; omitted: number; note: string };
   depressions: DepressionRecord[];
 }
 
