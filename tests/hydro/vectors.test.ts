@@ -87,4 +87,25 @@ describe('depression outlines', () => {
     expect(o.polygons[0]).toHaveLength(2);
     expect(polygonArea(o.polygons)).toBe(49 - 9);
   });
+
+  it('within a tracing budget: top-level and leaf depressions always, nested merged ones left out first', () => {
+    // pits 1, 2, 3 in a row; 1 and 2 meet at 5 (a nested merged depression), then 3 joins at 7
+    const v = [
+      9, 9, 9, 9, 9, 9, 9,
+      9, 1, 5, 2, 7, 3, 9,
+      9, 9, 9, 9, 9, 9, 9,
+    ];
+    const g = gridOf(7, 3, v);
+    const { result, report } = pondsReport(g, {});
+    const nested = report.depressions.filter((d) => d.parent !== null && d.children.length > 0);
+    expect(nested).toHaveLength(1);
+    const all = depressionOutlines(g, result.rasters.labels, result.hierarchy);
+    expect(all.every((o) => !o.omitted && o.polygons.length === 1)).toBe(true);
+    const few = depressionOutlines(g, result.rasters.labels, result.hierarchy, { budget: 0 });
+    for (const o of few) {
+      const d = report.depressions[o.id - 1];
+      if (d.parent === null || d.children.length === 0) { expect(o.omitted).toBeFalsy(); expect(o.polygons).toHaveLength(1); }
+      else { expect(o.omitted).toBe(true); expect(o.polygons).toEqual([]); }
+    }
+  });
 });
