@@ -186,7 +186,12 @@ export function buildPondsReport(result: PondsResult, input: string | null, labe
     boundary: 'open',
     nodataAs: o.nodataOutlet ? 'outlet' : 'wall',
     euler: e ? { ...e } : null,
-    units: { horizontal: u.horizontal, elevation: u.elevation, depth: u.elevation, area: u.area, volume: u.volume, notes: u.notes },
+    units: {
+      horizontal: u.horizontal, elevation: u.elevation, depth: u.elevation, area: u.area, volume: u.volume,
+      notes: g.crs && g.crs.epsg === undefined
+        ? [...u.notes, 'the CRS has no EPSG code, so the GeoTIFFs and the GeoJSON are written without one: assign the DEM\'s CRS to them in your GIS']
+        : u.notes,
+    },
     cellArea: { uniform: result.areas.uniform, min: amin, max: amax },
     filters: { minDepth: o.minDepth, minArea: o.minArea, minVolume: o.minVolume, minPersistence: o.minPersistence, fillOnlyBelow: o.fillOnlyBelow },
     removed: H.removed,
