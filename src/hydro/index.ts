@@ -1,9 +1,9 @@
 /** Ponding analysis: depression hierarchy, spill levels, pour points, volumes, filled/depth/label rasters. */
 export { ponds, checkPondsInput, type PondsOptions, type PondsResult, type PondsEuler } from './ponds.js';
 export { cellAreas, ellipsoidalCellArea, zoneArea, XY_UNITS, Z_UNITS, type CellAreas, type PondsUnits, type UnitOptions } from './areas.js';
-export { sweepDepressions, type DepressionSweep } from './sweep.js';
+export { sweepDepressions, nodeSums, type DepressionSweep, type NodeSums } from './sweep.js';
 export { buildHierarchy, type Hierarchy, type HierarchyFilters, type RemovedSummary } from './hierarchy.js';
-export { pondRasters, topLabels, type PondRasters } from './rasters.js';
-export { depressionOutlines, depressionBoxes, ringArea, type DepressionOutline } from './vectors.js';
+export { pondRasters, topLabels, type PondRasters, type SpareMemory } from './rasters.js';
+export { depressionOutlines, depressionBoxes, ringArea, type DepressionOutline, type OutlineOptions } from './vectors.js';
 export { stageVolume, type StageRow } from './stage.js';
 export { toWgs84, projDefinition } from './reproject.js';
