@@ -24,12 +24,14 @@ export function stageVolume(res: PondsResult, id: number, step?: number): StageR
   const values = res.grid.values, W = res.grid.width;
   const rowArea = res.areas.rowArea;
   const lo = H.tin[id], hi = H.tout[id];
-  const zs: number[] = [], as: number[] = [];
-  for (let i = 0; i < labels.length; i++) {
-    const d = labels[i];
-    if (d > 0 && H.tin[d] >= lo && H.tin[d] < hi) { zs.push(values[i]); as.push(rowArea[(i / W) | 0]); }
-  }
-  const idx = zs.map((_, k) => k).sort((a, b) => zs[a] - zs[b]);
+  const inside = (d: number) => d > 0 && H.tin[d] >= lo && H.tin[d] < hi;
+  let m = 0;
+  for (let i = 0; i < labels.length; i++) if (inside(labels[i])) m++;
+  const zs = new Float64Array(m), as = new Float64Array(m);
+  for (let i = 0, k = 0; i < labels.length; i++) if (inside(labels[i])) { zs[k] = values[i]; as[k++] = rowArea[(i / W) | 0]; }
+  const idx = new Uint32Array(m);
+  for (let k = 0; k < m; k++) idx[k] = k;
+  idx.sort((a, b) => zs[a] - zs[b]);
   const pit = H.pitValue[id], spill = H.spillValue[id];
   const dz = step ?? (spill - pit) / 50;
   if (!(dz > 0)) throw new InputError(`--stage-step must be greater than 0, got ${step}`);
