@@ -355,7 +355,9 @@ export class GridComplex implements SurfaceComplex {
     // Outlets are lower than everything. The cells of P/G containing i are exactly those of P
     // (none of them lies in G), so the lower star — and its χ — is that of P with outlets as low vertices.
     const chi = this.chi[m | g];
-    this.lastLowerLinkEmpty = (m | g) === 0;
+    // empty lower link: nothing lower among the neighbours joined by edges (with connectivity 4 a
+    // lower diagonal alone adds no link vertex)
+    this.lastLowerLinkEmpty = ((m | g) & this.subMask) === 0;
     return 1 - chi;
   }
 
@@ -367,7 +369,7 @@ export class GridComplex implements SurfaceComplex {
    */
   forEachCritical(visit: (i: number, contribution: number, lowerLinkEmpty: boolean) => void): void {
     const w = this.w, h = this.h, v = this.values, rs = this.ringSize, chi = this.chi;
-    const ghost = this.ghostNodata;
+    const ghost = this.ghostNodata, sub = this.subMask;
     let last = -1;
     const edge = (i: number): void => {
       if (v[i] !== v[i]) return;
@@ -395,7 +397,7 @@ export class GridComplex implements SurfaceComplex {
           const m = +(v[i + 1] < vi) | (+(v[b + 1] < vi) << 1) | (+(v[b] < vi) << 2) | (+(v[b - 1] < vi) << 3) |
             (+(v[i - 1] <= vi) << 4) | (+(v[a - 1] <= vi) << 5) | (+(v[a] <= vi) << 6) | (+(v[a + 1] <= vi) << 7);
           const x = 1 - chi[m];
-          if (x !== 0) visit(i, x, m === 0);
+          if (x !== 0) visit(i, x, (m & sub) === 0);
         }
       } else if (rs === 8) {
         for (let i = row + 1; i < end; i++) {
@@ -406,7 +408,7 @@ export class GridComplex implements SurfaceComplex {
           const m = +(!(v[i + 1] >= vi)) | (+(!(v[b + 1] >= vi)) << 1) | (+(!(v[b] >= vi)) << 2) | (+(!(v[b - 1] >= vi)) << 3) |
             (+(!(v[i - 1] > vi)) << 4) | (+(!(v[a - 1] > vi)) << 5) | (+(!(v[a] > vi)) << 6) | (+(!(v[a + 1] > vi)) << 7);
           const x = 1 - chi[m];
-          if (x !== 0) visit(i, x, m === 0);
+          if (x !== 0) visit(i, x, (m & sub) === 0);
         }
       } else if (!ghost) {
         for (let i = row + 1; i < end; i++) {
@@ -417,7 +419,7 @@ export class GridComplex implements SurfaceComplex {
           const m = +(v[i + 1] < vi) | (+(v[b + 1] < vi) << 1) | (+(v[b] < vi) << 2) |
             (+(v[i - 1] <= vi) << 3) | (+(v[a - 1] <= vi) << 4) | (+(v[a] <= vi) << 5);
           const x = 1 - chi[m];
-          if (x !== 0) visit(i, x, m === 0);
+          if (x !== 0) visit(i, x, (m & sub) === 0);
         }
       } else {
         for (let i = row + 1; i < end; i++) {
@@ -428,7 +430,7 @@ export class GridComplex implements SurfaceComplex {
           const m = +(!(v[i + 1] >= vi)) | (+(!(v[b + 1] >= vi)) << 1) | (+(!(v[b] >= vi)) << 2) |
             (+(!(v[i - 1] > vi)) << 3) | (+(!(v[a - 1] > vi)) << 4) | (+(!(v[a] > vi)) << 5);
           const x = 1 - chi[m];
-          if (x !== 0) visit(i, x, m === 0);
+          if (x !== 0) visit(i, x, (m & sub) === 0);
         }
       }
       edge(end);

@@ -3,6 +3,8 @@ import fc from 'fast-check';
 import { Grid } from '../../src/surface/grid.js';
 import { Mesh } from '../../src/surface/mesh.js';
 import { survey } from '../../src/morse/survey.js';
+import { buildMergeTree } from '../../src/morse/mergetree.js';
+import { PIT } from '../../src/morse/critical.js';
 import { GridComplex, type Boundary, type Connectivity } from '../../src/surface/complex.js';
 
 const BOUNDARIES: Boundary[] = ['open', 'closed', 'periodic', 'periodic-x', 'periodic-y'];
@@ -88,6 +90,12 @@ describe('Euler relation (property)', () => {
             expect(s.euler.holds).toBe(true);
             expect(s.eulerKept.holds).toBe(true);
             expect(s.simplices.characteristic).toBe(bruteChi(g, conn, boundary));
+            // Source: definition of the join tree — every pit starts a component of the sublevel
+            // sets, so the pits found from lower links are exactly the leaves of the join tree.
+            const raw = buildMergeTree(s.complex, s.order, 'join');
+            const leaves = Array.from(raw.vertex).filter((v, k) => v >= 0 && raw.childCount[k] === 0).sort((a, b) => a - b);
+            const pits = Array.from(s.critical.vertex).filter((_, k) => s.critical.kind[k] === PIT);
+            expect(pits).toEqual(leaves);
           }),
           { numRuns: 60 },
         );
