@@ -129,10 +129,8 @@ export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResul
   let sweepPits = 0;
   for (let k = 1; k < sw.count; k++) if (sw.vertex[k] === sw.birth[k]) sweepPits++;
   // The sweep and the lower links find pits independently: a cell starts a component exactly
-  // when its lower link is empty. The outside vertex is the one extra pit. (Not compared for
-  // connectivity 4, where the lower-link code counts a cell whose only lower neighbours are
-  // diagonal as a peak rather than a pit; the Euler sum is unaffected.)
-  if (euler && connectivity !== 4 && euler.pits - 1 !== sweepPits) {
+  // when its lower link is empty. The outside vertex is the one extra pit.
+  if (euler && euler.pits - 1 !== sweepPits) {
     throw new Error(`internal: the depression sweep found ${sweepPits} pits but the lower links ${euler.pits - 1}; this is a bug in sill, please report it with the input`);
   }
   stage('filled, depth and label rasters');
