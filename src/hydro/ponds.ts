@@ -7,7 +7,7 @@ import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
 import { buildComplex, GridComplex, type Connectivity, type Boundary, type SimplexCounts } from '../surface/complex.js';
 import { sortOrder } from '../morse/order.js';
-import { findCriticalPoints } from '../morse/critical.js';
+import { countCriticalPoints } from '../morse/critical.js';
 import { cellAreas, type CellAreas, type UnitOptions } from './areas.js';
 import { sweepDepressions, nodeSums } from './sweep.js';
 import { buildHierarchy, type Hierarchy, type HierarchyFilters } from './hierarchy.js';
@@ -101,12 +101,11 @@ export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResul
 
   stage('outlets and neighbour graph');
   const complex = buildComplex(grid, { connectivity, boundary: 'open', nodataOutlet }) as GridComplex;
-  // The Euler self-check first, while little memory is in use (its lists of critical points are
-  // dropped once counted).
+  // The Euler self-check first, while little memory is in use (counts only, no lists).
   let euler: PondsEuler | null = null;
   if (opts.euler !== false) {
     stage('Euler check');
-    const critical = findCriticalPoints(complex);
+    const critical = countCriticalPoints(complex);
     const simplices: SimplexCounts = complex.countSimplices();
     const chi = simplices.characteristic;
     euler = {

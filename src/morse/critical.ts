@@ -54,6 +54,30 @@ export function findCriticalPoints(cx: SurfaceComplex): CriticalPoints {
   };
 }
 
+export type CriticalCounts = Pick<CriticalPoints, 'pits' | 'passes' | 'peaks' | 'outsidePit'>;
+
+/** The counts of findCriticalPoints without the lists: for the Euler self-check of other commands. */
+export function countCriticalPoints(cx: SurfaceComplex): CriticalCounts {
+  const v = cx.values;
+  let pits = 0, passes = 0, peaks = 0;
+  const add = (_i: number, c: number, lowerLinkEmpty: boolean): void => {
+    if (c < 0) passes -= c;
+    else if (lowerLinkEmpty) pits += c;
+    else peaks += c;
+  };
+  if (cx instanceof GridComplex) {
+    cx.forEachCritical(add);
+  } else {
+    for (let i = 0; i < cx.n; i++) {
+      if (v[i] !== v[i]) continue;
+      const c = cx.contribution(i);
+      if (c !== 0) add(i, c, cx.lastLowerLinkEmpty);
+    }
+  }
+  if (cx.hasOmega) pits += 1;
+  return { pits, passes, peaks, outsidePit: cx.hasOmega };
+}
+
 /** Position of vertex `x` in the sorted `vertex` array, or −1. */
 export function indexOfVertex(cp: CriticalPoints, x: number): number {
   let lo = 0, hi = cp.vertex.length - 1;

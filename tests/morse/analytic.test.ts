@@ -100,3 +100,17 @@ describe('more analytic surfaces', () => {
     expect(leaves.sort((a, b) => a - b)).toEqual([7 * 30 + 7, 7 * 30 + 22]);
   });
 });
+
+describe('counts without lists', () => {
+  it('countCriticalPoints gives the counts of findCriticalPoints', async () => {
+    const { countCriticalPoints, findCriticalPoints } = await import('../../src/morse/critical.js');
+    const { buildComplex } = await import('../../src/surface/complex.js');
+    // Source: same definition, two code paths — rounded sin·sin (ties) with nodata cells, several modes.
+    const g = gridOf(23, 17, (c, r) => (c % 7 === 3 && r % 5 === 2 ? NaN : Math.round(4 * Math.sin(c / 2) * Math.sin(r / 3))));
+    for (const connectivity of [4, 6, 8] as const) for (const boundary of ['open', 'closed', 'periodic'] as const) {
+      const cx = buildComplex(g, { connectivity, boundary });
+      const { pits, passes, peaks, outsidePit } = findCriticalPoints(cx);
+      expect(countCriticalPoints(cx)).toEqual({ pits, passes, peaks, outsidePit });
+    }
+  });
+});
