@@ -59,6 +59,8 @@ class TreeBuilder {
   readonly parent = new IntList(1024);
   readonly birth = new IntList(1024);
   readonly children = new IntList(1024);
+  /** Union-by-rank: the rank of the union-find tree whose root carries this node. */
+  readonly rank = new IntList(1024);
   readonly pairB = new IntList(1024);
   readonly pairD = new IntList(1024);
 
@@ -68,6 +70,7 @@ class TreeBuilder {
     this.vertex.push(vtx);
     this.parent.push(-1);
     this.children.push(0);
+    this.rank.push(0);
     return this.birth.push(birth);
   }
 
@@ -88,20 +91,28 @@ class TreeBuilder {
       if (this.older(birth[-1 - forest[r]], birth[-1 - forest[elder]])) elder = r;
     }
     const node = this.newNode(v, birth[-1 - forest[elder]]);
-    const parent = this.parent.data, children = this.children.data, bornAt = this.birth.data;
+    const parent = this.parent.data, children = this.children.data, bornAt = this.birth.data, rank = this.rank.data;
+    // union by rank: the root of highest rank becomes the root of the union (the elder rule is
+    // carried by the tree node, not by which root survives)
+    let top = roots[0], topRank = rank[-1 - forest[top]], tie = false;
     for (let t = 0; t < nr; t++) {
       const r = roots[t];
       const child = -1 - forest[r];
       parent[child] = node;
       children[node]++;
       if (r !== elder) { this.pairB.push(bornAt[child]); this.pairD.push(v); }
+      if (t > 0) {
+        const rr = rank[child];
+        if (rr > topRank) { top = r; topRank = rr; tie = false; } else if (rr === topRank) tie = true;
+      }
     }
     for (let t = 0; t < nr; t++) {
       const r = roots[t];
-      if (r !== elder) forest[r] = elder + 1;
+      if (r !== top) forest[r] = top + 1;
     }
-    forest[v] = elder + 1;
-    forest[elder] = -1 - node;
+    forest[v] = top + 1;
+    forest[top] = -1 - node;
+    rank[node] = tie ? topRank + 1 : topRank;
   }
 }
 
