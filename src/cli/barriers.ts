@@ -34,7 +34,13 @@ export function registerBarriers(program: Command): void {
     .command('barriers')
     .description('energy landscapes: minima, transition states, barriers, minimum-energy paths and the disconnectivity graph')
     .argument('<input>', 'energy grid or scattered samples (text x y energy, GeoTIFF, .npy)');
-  addCommonOptions(cmd, { boundary: 'closed' })
+  addCommonOptions(cmd, { boundary: 'closed' });
+  const mp = cmd.options.find((o) => o.long === '--min-persistence');
+  if (mp) {
+    mp.description = 'merge basins whose barrier is below V (input energy unit)';
+    mp.defaultValueDescription = '1 kT at --temperature when --units is given, else 0';
+  }
+  cmd
     .option('--units <unit>', `energy unit of the input: ${ENERGY_UNITS.join(', ')}`, 'none')
     .option('--to <unit>', 'report energies in this unit (default: the input unit)')
     .option('--temperature <kelvin>', 'temperature for kT, free energies and rates', '300')
