@@ -7,3 +7,7 @@ export { pondRasters, topLabels, type PondRasters, type SpareMemory } from './ra
 export { depressionOutlines, depressionBoxes, ringArea, type DepressionOutline, type OutlineOptions } from './vectors.js';
 export { stageVolume, type StageRow } from './stage.js';
 export { toWgs84, projDefinition } from './reproject.js';
+export { runoff, runoffStageVolume, type RunoffOptions, type RunoffResult, type RunoffWater, type RunoffInputInfo, type WaterBodies } from './runoff.js';
+export { fillSpillMerge, routingTree, flowDestinations, layerLevels, stepWeights, type RoutingTree, type RoutingResult } from './runoff-route.js';
+export { parseDepth, depthUnit, alignRaster, checkDepthRaster, DEPTH_UNITS, type AlignedRaster } from './runoff-input.js';
+export { bodyOutlines } from './runoff-vectors.js';

@@ -72,7 +72,7 @@ export function ringArea(ring: Ring): number {
 }
 
 /** Turn a d3-contour ring (midpoints of cell edges, closed) into cell-corner vertices without collinear points. */
-function cornerRing(ring: number[][]): Ring {
+export function cornerRing(ring: number[][]): Ring {
   const pts: [number, number][] = [];
   for (let i = 0; i + 1 < ring.length; i++) {
     const [x1, y1] = ring[i], [x2, y2] = ring[i + 1];
