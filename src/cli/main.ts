@@ -7,6 +7,7 @@ import { registerSurvey } from './survey.js';
 import { registerDemo } from './demo.js';
 import { registerBarriers } from './barriers.js';
 import { registerPonds } from './ponds.js';
+import { registerRunoff } from './runoff.js';
 
 export function buildProgram(): Command {
   const program = new Command();
@@ -19,6 +20,7 @@ export function buildProgram(): Command {
   registerSurvey(program);
   registerBarriers(program);
   registerPonds(program);
+  registerRunoff(program);
   registerDemo(program);
   for (const c of program.commands) c.exitOverride();
   return program;
