@@ -6,6 +6,7 @@ import { larkmoorDem, dihedralScan } from '../demo/generate.js';
 import { writeGeoTiff } from '../io/index.js';
 import { runSurveyCommand } from './survey.js';
 import { runPondsCommand } from './ponds.js';
+import { runRunoffCommand } from './runoff.js';
 import { runBarriersCommand } from './barriers.js';
 
 interface DemoOptions { out?: string; quiet?: boolean }
@@ -40,6 +41,8 @@ export async function runDemo(dir: string, quiet: boolean): Promise<void> {
   await runSurveyCommand(demPath, { out: join(root, 'larkmoor-survey'), minPersistence: '0.5', connectivity: '8', boundary: 'open', quiet, report: true });
   log(`-- sill ponds ${demPath} --min-depth 0.05 -o ${join(root, 'larkmoor-ponds')} --report`);
   await runPondsCommand(demPath, { out: join(root, 'larkmoor-ponds'), minDepth: '0.05', connectivity: '8', boundary: 'open', quiet, report: true });
+  log(`-- sill runoff ${demPath} --depth 40mm -o ${join(root, 'larkmoor-runoff')} --report`);
+  await runRunoffCommand(demPath, { out: join(root, 'larkmoor-runoff'), depth: '40mm', connectivity: '8', boundary: 'open', quiet, report: true });
   log('');
   log(`== ${scan.description}`);
   log(`   input ${scanPath}`);

@@ -98,6 +98,22 @@ function expected(dir: string): Expect {
       table: 'depressions', sortBy: 'spill level',
     };
   }
+  if (rep.schema === 'sill/runoff@1') {
+    type D = { id: number; parent: number | null; children: number[]; pit: { col: number; row: number }; pour: { col: number; row: number }; waterVolume: number; received: number };
+    const deps = rep.depressions as D[];
+    // the page marks the 400 depressions holding the most water (src/render/html/runoff.ts): a pour point ➤ each and a
+    // pit ▽ on the innermost ones; the spill-level tree has a node per depression and a spill cap on each outermost one
+    const marked = [...deps].sort((a, b) => b.waterVolume - a.waterVolume || b.received - a.received || a.id - b.id).slice(0, 400);
+    const leaves = marked.filter((d) => d.children.length === 0);
+    return {
+      map: marked.length + leaves.length, tree: deps.length + deps.filter((d) => d.parent === null).length, persistence: 0,
+      cells: [
+        ...leaves.slice(0, 3).map((d) => ({ key: `d${d.id}`, selector: 'g.mk-pit', u: d.pit.col + 0.5, v: d.pit.row + 0.5 })),
+        ...marked.slice(0, 3).map((d) => ({ key: `d${d.id}`, selector: 'g.mk-pour', u: d.pour.col + 0.5, v: d.pour.row + 0.5 })),
+      ],
+      table: 'depressions', sortBy: 'received',
+    };
+  }
   if (rep.schema === 'sill/barriers@1') {
     // the diagram shows the survey of the same surface at the barriers' threshold: ask sill survey for it
     const sv = sill(['survey', rep.input, '--json', '--boundary', rep.boundary, '--connectivity', String(rep.connectivity), '--min-persistence', String(rep.minPersistence.value / rep.units.factor)]);
