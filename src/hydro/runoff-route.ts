@@ -56,13 +56,16 @@ export function stepWeights(transform: readonly number[], height: number, conn: 
 /**
  * For every cell, the node its water reaches: the leaf (pit node of the sweep) at the end of its
  * steepest-descent path, or 0 when the path leaves the map. Nodata cells get 0.
- * Paths are followed from each cell not yet resolved and written back, so every cell's step is
- * worked out once.
+ * Two passes: the step of every cell in storage order (cells next to an outlet and pits are
+ * resolved at once; any other cell stores −3 − the cell it drains to), then the paths are followed
+ * from each unresolved cell until a resolved one and written back.
+ * Steepest: the largest drop over distance to a neighbour earlier in the (value, index) order;
+ * equal drops go to the first of them in ring order (E, SE, S, SW, W, NW, N, NE, as in sweep.ts).
  * @param label the sweep's per-cell node label (a pit cell's label is its own leaf)
  * @param dest  output, one entry per cell
  */
 export function flowDestinations(cx: GridComplex, label: Int32Array, dest: Int32Array, steps: { inv: Float64Array; perRow: boolean }): void {
-  const values = cx.values, w = cx.w, n = cx.n;
+  const values = cx.values, w = cx.w, h = cx.h;
   const omegaAdj = cx.omegaAdj;
   if (omegaAdj === null) throw new Error('internal: runoff routing needs the open boundary');
   const off = sublevelOffsets(cx.connectivity);
@@ -70,44 +73,62 @@ export function flowDestinations(cx: GridComplex, label: Int32Array, dest: Int32
   const roff = new Int32Array(k);
   for (let q = 0; q < k; q++) roff[q] = off[q][1] * w + off[q][0];
   const inv = steps.inv, perRow = steps.perRow;
-  const UNSET = -1;
-  dest.fill(UNSET);
-  let stack = new Int32Array(1024);
-
-  // the next cell down from x: −1 at a pit, −2 off the map
-  const next = (x: number): number => {
-    if (omegaAdj[x] === 1) return -2;
-    const z = values[x];
-    const base = perRow ? ((x / w) | 0) * k : 0;
-    let best = -1, bestDrop = -1, bestZ = 0;
+  const wt = new Float64Array(k);
+  // the step of one cell, any connectivity
+  const step = (i: number): number => {
+    const z = values[i];
+    // nodata holds no water; a cell next to an outlet drains off the map (the outside is lowest)
+    if (z !== z || omegaAdj[i] === 1) return 0;
+    // every ring neighbour of a cell not touching an outlet lies on the grid (the grid edge is an outlet)
+    let best = -1, bd = -1;
     for (let q = 0; q < k; q++) {
-      // every ring neighbour of a cell not touching an outlet lies on the grid (the grid edge is an outlet)
-      const j = x + roff[q];
+      const j = i + roff[q];
       const y = values[j];
-      if (!(y < z || (y === z && j < x))) continue; // higher, later in the order, or a nodata wall
-      const drop = (z - y) * inv[base + q];
-      if (drop > bestDrop || (drop === bestDrop && (y < bestZ || (y === bestZ && j < best)))) {
-        best = j; bestDrop = drop; bestZ = y;
-      }
+      if (!(y < z || (y === z && j < i))) continue; // higher, later in the order, or a nodata wall
+      const d = (z - y) * wt[q];
+      if (d > bd) { best = j; bd = d; }
     }
-    return best;
+    return best < 0 ? label[i] : -3 - best;
   };
-
-  for (let i = 0; i < n; i++) {
-    if (dest[i] !== UNSET) continue;
-    if (values[i] !== values[i]) { dest[i] = 0; continue; }
-    let top = 0, x = i, d = 0;
-    for (;;) {
-      const t = next(x);
-      if (t === -2) { d = 0; dest[x] = 0; break; }
-      if (t === -1) { d = label[x]; dest[x] = d; break; }
-      if (top === stack.length) { const s = new Int32Array(2 * top); s.set(stack); stack = s; }
-      stack[top++] = x;
-      const dt = dest[t];
-      if (dt !== UNSET) { d = dt; break; }
-      x = t;
+  const fast = k === 8 && !perRow;
+  const w0 = inv[0], w1 = inv[1], w2 = inv[2], w3 = inv[3], w4 = inv[4], w5 = inv[5], w6 = inv[6], w7 = inv[7];
+  for (let r = 0, i = 0; r < h; r++) {
+    if (perRow || r === 0) for (let q = 0; q < k; q++) wt[q] = inv[(perRow ? r * k : 0) + q];
+    if (!fast || r === 0 || r === h - 1 || w < 3) {
+      for (let c = 0; c < w; c++, i++) dest[i] = step(i);
+      continue;
     }
-    while (top > 0) dest[stack[--top]] = d;
+    dest[i] = step(i); i++;
+    for (let c = 1; c < w - 1; c++, i++) {
+      const z = values[i];
+      if (z !== z || omegaAdj[i] === 1) { dest[i] = 0; continue; }
+      // drops to the 8 neighbours; forward ones (later in storage order) are lower only when strictly
+      // lower, backward ones also when equal. Math.max is NaN when a neighbour is nodata: general path.
+      const d0 = (z - values[i + 1]) * w0, d1 = (z - values[i + w + 1]) * w1, d2 = (z - values[i + w]) * w2, d3 = (z - values[i + w - 1]) * w3;
+      const d4 = (z - values[i - 1]) * w4, d5 = (z - values[i - w - 1]) * w5, d6 = (z - values[i - w]) * w6, d7 = (z - values[i - w + 1]) * w7;
+      const m = Math.max(d0, d1, d2, d3, d4, d5, d6, d7);
+      let q: number;
+      if (m > 0) q = d0 === m ? 0 : d1 === m ? 1 : d2 === m ? 2 : d3 === m ? 3 : d4 === m ? 4 : d5 === m ? 5 : d6 === m ? 6 : 7;
+      else if (m === 0) q = d4 === 0 ? 4 : d5 === 0 ? 5 : d6 === 0 ? 6 : d7 === 0 ? 7 : -1;
+      else if (m < 0) q = -1;
+      else { dest[i] = step(i); continue; }
+      dest[i] = q < 0 ? label[i] : -3 - (i + roff[q]);
+    }
+    dest[i] = step(i); i++;
+  }
+  let stack = new Int32Array(1024);
+  const n = cx.n;
+  for (let i = 0; i < n; i++) {
+    let t = dest[i];
+    if (t >= 0) continue;
+    let top = 0, x = i;
+    while (t < 0) {
+      if (top === stack.length) { const s2 = new Int32Array(2 * top); s2.set(stack); stack = s2; }
+      stack[top++] = x;
+      x = -3 - t;
+      t = dest[x];
+    }
+    while (top > 0) dest[stack[--top]] = t;
   }
 }
 
@@ -219,66 +240,112 @@ export interface RoutingResult {
 
 /**
  * Fill–Spill–Merge over the routing tree.
+ *
+ * Water is tracked where it stands: `own[k]` is the water in node k's own layer (a leaf: all it
+ * holds), so the water a node holds is the sum of `own` over its subtree — kept in a Fenwick tree
+ * over the Euler tour, so that the room left in any node is found in O(log nodes). Water arriving
+ * at a node from below (from a full child, or a leaf's own catchment) goes to the node's children
+ * that still have room, lowest pit first — entering each at its entry leaf and rising from the
+ * lowest node there that is not full — then to the node's own layer; when all is full it climbs to
+ * the parent. Full nodes are skipped with a union-find jump to their parent, and a node becomes
+ * full once, so the routing costs O(nodes · log nodes).
  * @param direct node → water arriving from the cells that drain to it (leaves only); entry 0 = water
  *               draining straight off the map
  */
 export function fillSpillMerge(t: RoutingTree, direct: Float64Array): RoutingResult {
   const { count: K, parent, childStart, children, capacity: cap, layer, entryLeaf, tin, tout } = t;
-  const stored = new Float64Array(K), own = new Float64Array(K), excess = new Float64Array(K), mark = new Float64Array(K);
+  const own = new Float64Array(K), excess = new Float64Array(K), mark = new Float64Array(K);
   const full = new Uint8Array(K);
   // "received" as a sum over subtrees of marks: water entering the subtree of s at leaf λ is
   // added at λ and taken off at s's parent, so it counts for every node on the path λ … s.
   for (let k = 1; k < K; k++) mark[k] = direct[k];
   let outflow = direct[0];
 
-  // pending gifts: (node, amount, leaf where it enters)
-  let sNode = new Int32Array(256), sLeaf = new Int32Array(256), sAmt = new Float64Array(256);
-  let sp = 0;
-  const push = (s: number, x: number, lam: number): void => {
-    if (sp === sNode.length) {
-      const a = new Int32Array(2 * sp), b = new Int32Array(2 * sp), c = new Float64Array(2 * sp);
-      a.set(sNode); b.set(sLeaf); c.set(sAmt);
-      sNode = a; sLeaf = b; sAmt = c;
+  // Fenwick tree over Euler-tour positions (1-based) of the water in each node's own layer
+  const fen = new Float64Array(K + 1);
+  const add = (k: number, x: number): void => { for (let i = tin[k] + 1; i <= K; i += i & -i) fen[i] += x; };
+  const prefix = (i: number): number => { let s = 0; for (; i > 0; i -= i & -i) s += fen[i]; return s; };
+  const held = (k: number): number => prefix(tout[k]) - prefix(tin[k]);
+  // union-find jump over full nodes: the lowest ancestor (or self) that is not full
+  const jump = new Int32Array(K);
+  for (let k = 0; k < K; k++) jump[k] = k;
+  const lowestOpen = (k: number): number => {
+    while (full[k]) {
+      const j = jump[k];
+      const jj = full[j] ? jump[j] : j;
+      jump[k] = jj;
+      k = jj;
     }
-    sNode[sp] = s; sAmt[sp] = x; sLeaf[sp] = lam; sp++;
+    return k;
   };
-  /** A gift from a sibling: water enters q at its entry leaf. */
-  const give = (q: number, x: number): void => {
-    const lam = entryLeaf[q];
-    mark[lam] += x;
-    mark[parent[q]] -= x;
-    push(q, x, lam);
-    drain();
-  };
-  /** Route the pending gifts down the tree; each is at most the room left in its node. */
-  const drain = (): void => {
+  const setFull = (k: number): void => { full[k] = 1; const p = parent[k]; jump[k] = p > 0 ? p : k; };
+  const isLeaf = (k: number): boolean => childStart[k] === childStart[k + 1];
+
+  // fill a whole subtree (its nodes not yet full), each node's layer to the brim
+  let fillStack = new Int32Array(256);
+  const fillSubtree = (c: number): void => {
+    let sp = 0;
+    fillStack[sp++] = c;
     while (sp > 0) {
-      sp--;
-      const s = sNode[sp], x = sAmt[sp], lam = sLeaf[sp];
-      const room = cap[s] - stored[s];
-      const complete = x >= room;
-      if (complete) { stored[s] = cap[s]; full[s] = 1; } else stored[s] += x;
-      const a = childStart[s], b = childStart[s + 1];
-      if (a === b) { own[s] = stored[s]; continue; }
-      // the child on the way in, then its siblings in overflow order, then the layer
-      const tl = tin[lam];
-      let c0 = -1;
-      for (let q = a; q < b; q++) { const c = children[q]; if (tin[c] <= tl && tl < tout[c]) { c0 = c; break; } }
-      if (c0 < 0) throw new Error(`internal: water entering node ${s} at node ${lam} found no child holding it`);
-      let rem = x;
-      for (let q = a - 1; q < b; q++) {
-        const c = q < a ? c0 : children[q];
-        if (q >= a && c === c0) continue;
-        const r = cap[c] - stored[c];
-        if (!(r > 0)) continue;
-        const g = complete || rem >= r ? r : rem;
-        if (c === c0) push(c, g, lam);
-        else { const e = entryLeaf[c]; mark[e] += g; mark[s] -= g; push(c, g, e); }
-        rem -= g;
-        if (!complete && rem <= 0) break;
+      const q = fillStack[--sp];
+      if (full[q]) continue;
+      const a = childStart[q], b = childStart[q + 1];
+      const brim = a === b ? cap[q] : layer[q];
+      add(q, brim - own[q]);
+      own[q] = brim;
+      setFull(q);
+      for (let i = a; i < b; i++) {
+        const ch = children[i];
+        if (full[ch]) continue;
+        if (sp === fillStack.length) { const f = new Int32Array(2 * sp); f.set(fillStack); fillStack = f; }
+        fillStack[sp++] = ch;
       }
-      if (complete) own[s] = layer[s];
-      else if (rem > 0) own[s] += rem;
+    }
+  };
+
+  /**
+   * Water x arrives at node y (not full) from below; it is routed inside the subtree of `top` and
+   * whatever `top` cannot hold is returned (it leaves over top's pour point).
+   */
+  const rise = (y: number, x: number, top: number): number => {
+    for (;;) {
+      if (!(x > 0)) return 0;
+      let entered = -1;
+      if (isLeaf(y)) {
+        const r = cap[y] - own[y];
+        if (x < r) { own[y] += x; add(y, x); return 0; }
+        own[y] = cap[y];
+        add(y, r);
+        x -= r;
+      } else {
+        const a = childStart[y], b = childStart[y + 1];
+        for (let i = a; i < b; i++) {
+          const c = children[i];
+          if (full[c]) continue;
+          const r = cap[c] - held(c);
+          // water enters c at the cell next to the pass, and from there runs down to its entry leaf
+          const e = entryLeaf[c];
+          if (x >= r) {
+            mark[e] += r; mark[y] -= r;
+            fillSubtree(c);
+            x -= r;
+            if (!(x > 0)) return 0;
+          } else {
+            mark[e] += x; mark[y] -= x;
+            entered = lowestOpen(e);
+            break;
+          }
+        }
+        if (entered >= 0) { y = entered; continue; }
+        const r = layer[y] - own[y];
+        if (x < r) { own[y] += x; add(y, x); return 0; }
+        own[y] = layer[y];
+        add(y, r);
+        x -= r;
+      }
+      setFull(y);
+      if (y === top) return x;
+      y = parent[y];
     }
   };
 
@@ -286,45 +353,20 @@ export function fillSpillMerge(t: RoutingTree, direct: Float64Array): RoutingRes
     const a = childStart[k], b = childStart[k + 1];
     if (a === b) {
       const d = direct[k];
-      if (d >= cap[k]) { stored[k] = cap[k]; full[k] = 1; excess[k] = d - cap[k]; } else stored[k] = d;
-      own[k] = stored[k];
+      const c = cap[k];
+      if (d >= c) { own[k] = c; add(k, c); setFull(k); excess[k] = d - c; } else if (d > 0) { own[k] = d; add(k, d); }
     } else {
-      let E = 0, held = 0;
-      for (let q = a; q < b; q++) { const c = children[q]; E += excess[c]; held += stored[c]; }
-      const room = cap[k] - held;
-      if (E > 0 && E >= room) {
-        // every child fills and the water rises through the layer to the spill level
-        for (let q = a; q < b; q++) { const c = children[q]; const r = cap[c] - stored[c]; if (r > 0) give(c, r); }
-        own[k] = layer[k];
-        stored[k] = cap[k];
-        full[k] = 1;
-        excess[k] = E - room;
-      } else if (E > 0) {
-        // the overflow goes to the siblings with room, lowest pit first; what is left rises in the layer
-        let rem = E;
-        for (let q = a; q < b && rem > 0; q++) {
-          const c = children[q];
-          const r = cap[c] - stored[c];
-          if (!(r > 0)) continue;
-          const g = rem >= r ? r : rem;
-          give(c, g);
-          rem -= g;
-        }
-        if (rem > 0) own[k] = rem;
-        stored[k] = held + E;
-      } else {
-        stored[k] = held;
-        // children exactly full with nothing to spare: a layer of no volume is full too
-        if (layer[k] === 0) {
-          let all = 1;
-          for (let q = a; q < b; q++) if (!full[children[q]]) { all = 0; break; }
-          if (all) full[k] = 1;
-        }
-      }
+      let E = 0, allFull = 1;
+      for (let q = a; q < b; q++) { const c = children[q]; E += excess[c]; if (!full[c]) allFull = 0; }
+      if (E > 0) excess[k] = rise(k, E, k);
+      else if (allFull && layer[k] === 0) setFull(k); // children exactly full, a layer of no volume: full too
     }
     if (parent[k] === 0) outflow += excess[k];
   }
 
+  // water held per node: its own layer and its subtree's
+  const stored = Float64Array.from(own);
+  for (let k = 1; k < K; k++) { const p = parent[k]; if (p > 0) stored[p] += stored[k]; }
   const received = mark;
   for (let k = 1; k < K; k++) { const p = parent[k]; if (p > 0) received[p] += received[k]; }
   const passedOn = new Float64Array(K);
@@ -362,7 +404,46 @@ export function layerLevels(
     target[k] = stored[k] / scale;
     for (let q = childStart[k]; q < childStart[k + 1]; q++) { const c = children[q]; A[k] += rec[S * c + SUMA]; AZ[k] += rec[S * c + SUMAZ]; }
   }
-  if (anyOpen === 0) return level;
+  if (anyOpen === 0) {
+    // nothing to invert
+  } else if (uniform) {
+    // equal cells: gather the cells of the open layers node by node (two passes in storage order),
+    // sort each node's elevations and follow its curve up to the water it holds
+    const n = values.length;
+    const start = new Int32Array(K + 1);
+    for (let i = 0; i < n; i++) { const z = values[i]; if (z === z) { const k = label[i]; if (k > 0 && open[k]) start[k + 1]++; } }
+    for (let k = 0; k < K; k++) start[k + 1] += start[k];
+    const zs = values instanceof Float32Array ? new Float32Array(start[K]) : new Float64Array(start[K]);
+    const pos = start.slice(0, K);
+    for (let i = 0; i < n; i++) { const z = values[i]; if (z === z) { const k = label[i]; if (k > 0 && open[k]) zs[pos[k]++] = z; } }
+    for (let k = 1; k < K; k++) {
+      if (!open[k]) continue;
+      const a = start[k], b = start[k + 1];
+      if (b - a > 24) zs.subarray(a, b).sort();
+      else {
+        // short lists (most of them): insertion sort, without the cost of a view and a native call
+        for (let i = a + 1; i < b; i++) {
+          const x = zs[i];
+          let j = i - 1;
+          while (j >= a && zs[j] > x) { zs[j + 1] = zs[j]; j--; }
+          zs[j + 1] = x;
+        }
+      }
+      let Ak = A[k], AZk = AZ[k];
+      const tk = target[k];
+      for (let j = a; j < b; j++) {
+        const dz = zs[j] - z0;
+        if (dz * Ak - AZk >= tk) break;
+        Ak += 1;
+        AZk += dz;
+      }
+      level[k] = z0 + (tk + AZk) / Ak;
+      open[k] = 0;
+    }
+  } else {
+    orderWalk();
+  }
+  function orderWalk(): void {
   const m = order.length;
   for (let s = 0; s < m && anyOpen > 0; s++) {
     const v = order[s];
@@ -376,9 +457,10 @@ export function layerLevels(
       anyOpen--;
       continue;
     }
-    const a = uniform ? 1 : rowArea[(v / width) | 0];
+    const a = rowArea[(v / width) | 0];
     A[k] += a;
     AZ[k] += a * dz;
+  }
   }
   for (let k = 1; k < K; k++) {
     if (open[k]) level[k] = z0 + (target[k] + AZ[k]) / A[k];

@@ -252,9 +252,12 @@ export function runoff(surface: Grid | Mesh, opts: RunoffOptions): RunoffResult 
     else continue;
     bodyRoot[k] = k;
   }
-  const roots: number[] = [];
-  for (let k = 1; k < K; k++) if (bodyRoot[k] === k && stored[k] > 0) roots.push(k);
-  roots.sort((a, b) => stored[b] - stored[a] || a - b);
+  // bodies numbered from the largest volume down (ties by node): the radix sort of the cell order, on −volume
+  let nRoots = 0;
+  for (let k = 1; k < K; k++) if (bodyRoot[k] === k && stored[k] > 0) nRoots++;
+  const rootNode = new Int32Array(nRoots), negVolume = new Float64Array(nRoots);
+  for (let k = 1, q = 0; k < K; k++) if (bodyRoot[k] === k && stored[k] > 0) { rootNode[q] = k; negVolume[q++] = -stored[k]; }
+  const roots = Array.from(sortOrder(negVolume), (q) => rootNode[q]);
   const B = roots.length + 1;
   const bodyOfRoot = new Int32Array(K);
   const bodies: WaterBodies = {

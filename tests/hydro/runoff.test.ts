@@ -318,6 +318,33 @@ describe('routing details of the method', () => {
       expect(held(B2)).toBeCloseTo(b2, 12);
     }
   });
+  it('three depressions meeting at one pass (a monkey saddle): the overflow goes to the one with the lowest pit first', () => {
+    // 9 × 9 cells of 9; the pass (4, 4) at 5 joins a west arm (pit 1), a north-east arm (pit 2) and a south-east arm (pit 0)
+    const v = new Float64Array(81).fill(9);
+    const set = (c: number, r: number, z: number) => { v[r * 9 + c] = z; };
+    set(4, 4, 5);
+    set(1, 4, 3); set(2, 4, 1); set(3, 4, 3);
+    set(5, 3, 3); set(6, 2, 2);
+    set(5, 5, 3); set(6, 6, 0);
+    const g = new Grid({ width: 9, height: 9, values: v, transform: [0, 1, 0, 0, 0, -1], crs: UTM });
+    const H = runoff(g, { depth: 0, euler: false }).hierarchy;
+    const idAt = (c: number, r: number) => { for (let d = 1; d <= H.count; d++) if (H.pit[d] === r * 9 + c) return d; throw new Error('no pit'); };
+    const W = idAt(2, 4), NE = idAt(6, 2), SE = idAt(6, 6);
+    expect([H.volume[W], H.volume[NE], H.volume[SE]]).toEqual([8, 5, 7]);
+    expect(H.parent[W]).toBe(H.parent[NE]);
+    expect(H.parent[SE]).toBe(H.parent[NE]);
+    // 8 on the north-east arm: it holds 5 and passes 3 on, all into the south-east arm (pit 0) before the west one (pit 1)
+    const rain = new Grid({ width: 9, height: 9, values: v.map((_, i) => (i === 2 * 9 + 6 ? 8 : NaN)), transform: g.transform, crs: UTM });
+    const r = runoff(g, { depthRaster: rain, euler: false });
+    checkBalance(r);
+    const held = (d: number) => r.route.stored[r.hierarchy.node[d]];
+    expect([held(NE), held(SE), held(W)]).toEqual([5, 3, 0]);
+    // 15: the south-east arm fills (7), the west one takes the remaining 3
+    const more = new Grid({ width: 9, height: 9, values: v.map((_, i) => (i === 2 * 9 + 6 ? 15 : NaN)), transform: g.transform, crs: UTM });
+    const q = runoff(g, { depthRaster: more, euler: false });
+    checkBalance(q);
+    expect([q.route.stored[q.hierarchy.node[NE]], q.route.stored[q.hierarchy.node[SE]], q.route.stored[q.hierarchy.node[W]]]).toEqual([5, 7, 3]);
+  });
 });
 
 describe('runoff input', () => {
