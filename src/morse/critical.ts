@@ -25,25 +25,29 @@ export interface CriticalPoints {
   outsidePit: boolean;
 }
 
-export function findCriticalPoints(cx: SurfaceComplex): CriticalPoints {
+/** Call visit(i, contribution, lower link empty) for every vertex with a non-zero contribution, in index order. */
+function visitCritical(cx: SurfaceComplex, visit: (i: number, c: number, lowerLinkEmpty: boolean) => void): void {
+  if (cx instanceof GridComplex) {
+    cx.forEachCritical(visit);
+    return;
+  }
   const v = cx.values;
+  for (let i = 0; i < cx.n; i++) {
+    if (v[i] !== v[i]) continue;
+    const c = cx.contribution(i);
+    if (c !== 0) visit(i, c, cx.lastLowerLinkEmpty);
+  }
+}
+
+export function findCriticalPoints(cx: SurfaceComplex): CriticalPoints {
   const verts = new IntList(4096), kinds = new IntList(4096), mult = new IntList(4096);
   let pits = 0, passes = 0, peaks = 0;
-  const add = (i: number, c: number, lowerLinkEmpty: boolean): void => {
+  visitCritical(cx, (i, c, lowerLinkEmpty) => {
     verts.push(i);
     if (c < 0) { kinds.push(PASS); mult.push(-c); passes -= c; }
     else if (lowerLinkEmpty) { kinds.push(PIT); mult.push(c); pits += c; }
     else { kinds.push(PEAK); mult.push(c); peaks += c; }
-  };
-  if (cx instanceof GridComplex) {
-    cx.forEachCritical(add);
-  } else {
-    for (let i = 0; i < cx.n; i++) {
-      if (v[i] !== v[i]) continue;
-      const c = cx.contribution(i);
-      if (c !== 0) add(i, c, cx.lastLowerLinkEmpty);
-    }
-  }
+  });
   if (cx.hasOmega) pits += 1;
   return {
     vertex: verts.toArray(),
@@ -58,22 +62,12 @@ export type CriticalCounts = Pick<CriticalPoints, 'pits' | 'passes' | 'peaks' | 
 
 /** The counts of findCriticalPoints without the lists: for the Euler self-check of other commands. */
 export function countCriticalPoints(cx: SurfaceComplex): CriticalCounts {
-  const v = cx.values;
   let pits = 0, passes = 0, peaks = 0;
-  const add = (_i: number, c: number, lowerLinkEmpty: boolean): void => {
+  visitCritical(cx, (_i, c, lowerLinkEmpty) => {
     if (c < 0) passes -= c;
     else if (lowerLinkEmpty) pits += c;
     else peaks += c;
-  };
-  if (cx instanceof GridComplex) {
-    cx.forEachCritical(add);
-  } else {
-    for (let i = 0; i < cx.n; i++) {
-      if (v[i] !== v[i]) continue;
-      const c = cx.contribution(i);
-      if (c !== 0) add(i, c, cx.lastLowerLinkEmpty);
-    }
-  }
+  });
   if (cx.hasOmega) pits += 1;
   return { pits, passes, peaks, outsidePit: cx.hasOmega };
 }
