@@ -1,5 +1,6 @@
 /** Ponding analysis: depression hierarchy, spill levels, pour points, volumes, filled/depth/label rasters. */
-export { ponds, checkPondsInput, type PondsOptions, type PondsResult, type PondsEuler } from './ponds.js';
+export { ponds, type PondsOptions, type PondsResult } from './ponds.js';
+export { checkPondsInput, type PondsEuler } from './common.js';
 export { cellAreas, ellipsoidalCellArea, zoneArea, XY_UNITS, Z_UNITS, type CellAreas, type PondsUnits, type UnitOptions } from './areas.js';
 export { sweepDepressions, nodeSums, type DepressionSweep, type NodeSums } from './sweep.js';
 export { buildHierarchy, type Hierarchy, type HierarchyFilters, type RemovedSummary } from './hierarchy.js';

@@ -6,13 +6,12 @@
 import { InputError } from '../errors.js';
 import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
-import { buildComplex, GridComplex, type Connectivity, type Boundary, type SimplexCounts } from '../surface/complex.js';
+import type { GridComplex, Connectivity, Boundary } from '../surface/complex.js';
 import { sortOrder } from '../morse/order.js';
-import { countCriticalPoints } from '../morse/critical.js';
 import { cellAreas, type CellAreas, type UnitOptions } from './areas.js';
 import { sweepDepressions, nodeSums, SUM_STRIDE as S, SPILLZ, PITZ, type NodeSums } from './sweep.js';
 import { buildHierarchy, type Hierarchy } from './hierarchy.js';
-import { checkPondsInput, type PondsEuler } from './ponds.js';
+import { hydroSetup, openComplex, checkedSweepPits, type PondsEuler } from './common.js';
 import { stepWeights, flowDestinations, routingTree, fillSpillMerge, layerLevels, type RoutingTree, type RoutingResult } from './runoff-route.js';
 import { alignRaster, checkDepthRaster } from './runoff-input.js';
 import type { StageRow } from './stage.js';
@@ -124,14 +123,7 @@ export interface RunoffResult {
 }
 
 export function runoff(surface: Grid | Mesh, opts: RunoffOptions): RunoffResult {
-  const source = opts.source ?? 'input';
-  const grid = checkPondsInput(surface, source);
-  const boundary = opts.boundary ?? 'open';
-  if (boundary !== 'open') {
-    throw new InputError(`runoff needs --boundary open (water leaves the map at its edge and, unless --nodata-as wall, at nodata cells); got '${boundary}'`);
-  }
-  const connectivity = opts.connectivity ?? 8;
-  const nodataOutlet = opts.nodataOutlet ?? true;
+  const { source, grid, connectivity, nodataOutlet } = hydroSetup('runoff', surface, opts);
   const hasDepth = opts.depth !== undefined, hasRaster = opts.depthRaster !== undefined;
   if (hasDepth === hasRaster) throw new InputError(hasDepth ? 'give either --depth or --depth-raster, not both' : 'say how much runoff: --depth D (e.g. 25mm) or --depth-raster R.tif');
   if (hasDepth && !(Number.isFinite(opts.depth) && opts.depth! >= 0)) throw new InputError(`--depth must be a finite depth ≥ 0, got ${opts.depth}`);
@@ -169,20 +161,7 @@ export function runoff(surface: Grid | Mesh, opts: RunoffOptions): RunoffResult 
     initialInfo = { source: src, resampled: al.resampled, wetCells: 0 };
   }
 
-  stage('outlets and neighbour graph');
-  const complex = buildComplex(grid, { connectivity, boundary: 'open', nodataOutlet }) as GridComplex;
-  let euler: PondsEuler | null = null;
-  if (opts.euler !== false) {
-    stage('Euler check');
-    const critical = countCriticalPoints(complex);
-    const simplices: SimplexCounts = complex.countSimplices();
-    const chi = simplices.characteristic;
-    euler = {
-      characteristic: chi, pits: critical.pits, passes: critical.passes, peaks: critical.peaks,
-      holds: critical.pits - critical.passes + critical.peaks === chi,
-      outsidePit: critical.outsidePit, simplices: simplices.byDimension,
-    };
-  }
+  const { complex, euler } = openComplex(grid, connectivity, nodataOutlet, opts.euler !== false, stage);
   stage('ordering the cells');
   const values = grid.values, W = grid.width, H = grid.height, n = grid.size;
   const order = sortOrder(values);
@@ -192,11 +171,7 @@ export function runoff(surface: Grid | Mesh, opts: RunoffOptions): RunoffResult 
   const sums = nodeSums(sw, values, W, areas.rowArea, areas.uniform);
   stage('depression hierarchy');
   const hierarchy = buildHierarchy(sw, sums, { areaScale, zFactor: areas.zFactor });
-  let sweepPits = 0;
-  for (let k = 1; k < sw.count; k++) if (sw.vertex[k] === sw.birth[k]) sweepPits++;
-  if (euler && euler.pits - 1 !== sweepPits) {
-    throw new Error(`internal: the depression sweep found ${sweepPits} pits but the lower links ${euler.pits - 1}; this is a bug in sill, please report it with the input`);
-  }
+  const sweepPits = checkedSweepPits(sw, euler);
 
   stage('flow paths');
   const label = sw.label;

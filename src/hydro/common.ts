@@ -1,0 +1,78 @@
+/** Set-up shared by `ponds` and `runoff`: the input checks, the open-boundary complex, the Euler self-check. */
+import { InputError } from '../errors.js';
+import type { Grid } from '../surface/grid.js';
+import type { Mesh } from '../surface/mesh.js';
+import { buildComplex, GridComplex, type Connectivity, type Boundary, type SimplexCounts } from '../surface/complex.js';
+import { countCriticalPoints } from '../morse/critical.js';
+import type { EulerInfo } from '../report/common.js';
+import type { DepressionSweep } from './sweep.js';
+
+/** The Euler self-check of a hydrology command (the same block every report carries). */
+export type PondsEuler = EulerInfo;
+
+/** Check that a surface can be analysed for ponding; returns it as a Grid. */
+export function checkPondsInput(surface: Grid | Mesh, source: string): Grid {
+  if (surface.kind !== 'grid') {
+    throw new InputError(`${source}: ponds needs a regular grid (a raster DEM); these are scattered samples — grid them first, or give a matrix or a GeoTIFF`);
+  }
+  const v = surface.values;
+  let lo = Infinity, hi = -Infinity;
+  for (let i = 0; i < v.length; i++) { const z = v[i]; if (z < lo) lo = z; if (z > hi) hi = z; }
+  if (lo === Infinity) throw new InputError(`${source}: every cell is nodata; check the nodata value (--nodata) and the band (--band)`);
+  if (lo === hi) throw new InputError(`${source}: every valid cell has the same value (${lo}); a flat surface has no depressions — check the band and the nodata value`);
+  return surface;
+}
+
+export interface HydroSetupOptions {
+  connectivity?: Connectivity;
+  boundary?: Boundary;
+  nodataOutlet?: boolean;
+  source?: string;
+}
+
+/** The input and the options every hydrology command starts from; `command` names it in messages. */
+export function hydroSetup(command: string, surface: Grid | Mesh, opts: HydroSetupOptions): { source: string; grid: Grid; connectivity: Connectivity; nodataOutlet: boolean } {
+  const source = opts.source ?? 'input';
+  const grid = checkPondsInput(surface, source);
+  const boundary = opts.boundary ?? 'open';
+  if (boundary !== 'open') {
+    throw new InputError(`${command} needs --boundary open (water leaves the map at its edge and, unless --nodata-as wall, at nodata cells); got '${boundary}'`);
+  }
+  return { source, grid, connectivity: opts.connectivity ?? 8, nodataOutlet: opts.nodataOutlet ?? true };
+}
+
+/**
+ * The open-boundary complex, then the Euler self-check (unless `euler` is false) while little
+ * memory is in use (counts only, no lists).
+ */
+export function openComplex(grid: Grid, connectivity: Connectivity, nodataOutlet: boolean, euler: boolean, stage: (s: string) => void): { complex: GridComplex; euler: PondsEuler | null } {
+  stage('outlets and neighbour graph');
+  const complex = buildComplex(grid, { connectivity, boundary: 'open', nodataOutlet }) as GridComplex;
+  if (!euler) return { complex, euler: null };
+  stage('Euler check');
+  const critical = countCriticalPoints(complex);
+  const simplices: SimplexCounts = complex.countSimplices();
+  const chi = simplices.characteristic;
+  return {
+    complex,
+    euler: {
+      characteristic: chi, pits: critical.pits, passes: critical.passes, peaks: critical.peaks,
+      holds: critical.pits - critical.passes + critical.peaks === chi,
+      outsidePit: critical.outsidePit, simplices: simplices.byDimension,
+    },
+  };
+}
+
+/**
+ * Pits found by the sweep (cells that start a component), checked against the Euler check's.
+ * The sweep and the lower links find pits independently: a cell starts a component exactly when
+ * its lower link is empty. The outside vertex is the one extra pit.
+ */
+export function checkedSweepPits(sw: DepressionSweep, euler: PondsEuler | null): number {
+  let sweepPits = 0;
+  for (let k = 1; k < sw.count; k++) if (sw.vertex[k] === sw.birth[k]) sweepPits++;
+  if (euler && euler.pits - 1 !== sweepPits) {
+    throw new Error(`internal: the depression sweep found ${sweepPits} pits but the lower links ${euler.pits - 1}; this is a bug in sill, please report it with the input`);
+  }
+  return sweepPits;
+}
