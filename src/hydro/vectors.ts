@@ -8,7 +8,7 @@
  * ends of each diagonal segment gives the exact outline along cell edges (the polygon area is
  * then exactly the cells' area — a check the tests make).
  */
-import { contours } from 'd3-contour';
+import { contours, type Contours } from 'd3-contour';
 import type { Grid } from '../surface/grid.js';
 import type { Hierarchy } from './hierarchy.js';
 
@@ -34,15 +34,17 @@ export interface OutlineOptions {
   budget?: number;
 }
 
-/** Bounding boxes [c0, r0, c1, r1] (inclusive) of each depression's wet cells, nested ones included. */
-export function depressionBoxes(labels: Int32Array, width: number, hier: Hierarchy): Int32Array {
-  const R = hier.count + 1;
-  const box = new Int32Array(4 * R);
-  for (let d = 0; d < R; d++) { box[4 * d] = 0x7fffffff; box[4 * d + 1] = 0x7fffffff; box[4 * d + 2] = -1; box[4 * d + 3] = -1; }
+/**
+ * Bounding boxes [c0, r0, c1, r1] (inclusive) of the cells of each label 1..count (labels ≤ 0
+ * are none); a label without cells gets c1 = r1 = −1.
+ */
+export function labelBoxes(labels: Int32Array, width: number, count: number): Int32Array {
+  const box = new Int32Array(4 * (count + 1));
+  for (let d = 0; d <= count; d++) { box[4 * d] = 0x7fffffff; box[4 * d + 1] = 0x7fffffff; box[4 * d + 2] = -1; box[4 * d + 3] = -1; }
   const height = labels.length / width;
-  for (let r = 0; r < height; r++) {
-    for (let c = 0; c < width; c++) {
-      const d = labels[r * width + c];
+  for (let r = 0, i = 0; r < height; r++) {
+    for (let c = 0; c < width; c++, i++) {
+      const d = labels[i];
       if (d <= 0) continue;
       const b = 4 * d;
       if (c < box[b]) box[b] = c;
@@ -51,6 +53,45 @@ export function depressionBoxes(labels: Int32Array, width: number, hier: Hierarc
       if (r > box[b + 3]) box[b + 3] = r;
     }
   }
+  return box;
+}
+
+/** Cells in the bounding box of label `d` (0 when it has none). */
+export function boxCells(box: Int32Array, d: number): number {
+  const b = 4 * d;
+  return box[b + 2] < 0 ? 0 : (box[b + 2] - box[b] + 1) * (box[b + 3] - box[b + 1] + 1);
+}
+
+/**
+ * The polygons of a cell mask (1 inside) of bw × bh cells whose first cell is (c0, r0), traced
+ * with `gen` (d3-contour, no smoothing, threshold 0.5) and put on the map with `transform`.
+ */
+export function maskPolygons(gen: Contours, mask: Uint8Array, bw: number, bh: number, c0: number, r0: number, transform: readonly number[]): PolygonCoords[] {
+  const [x0, dx, rx, y0, ry, dy] = transform;
+  const geom = gen.size([bw, bh]).contour(mask as unknown as number[], 0.5);
+  const polygons: PolygonCoords[] = [];
+  for (const poly of geom.coordinates) {
+    const rings: Ring[] = [];
+    poly.forEach((ring, k) => {
+      const mapped: Ring = cornerRing(ring).map(([X, Y]) => {
+        const C = c0 + X, Rr = r0 + Y;
+        return [x0 + C * dx + Rr * rx, y0 + C * ry + Rr * dy];
+      });
+      const a = ringArea(mapped);
+      // exterior counter-clockwise, holes clockwise (RFC 7946 §3.1.6)
+      if ((k === 0 && a < 0) || (k > 0 && a > 0)) mapped.reverse();
+      mapped.push([mapped[0][0], mapped[0][1]]);
+      rings.push(mapped);
+    });
+    polygons.push(rings);
+  }
+  return polygons;
+}
+
+/** Bounding boxes [c0, r0, c1, r1] (inclusive) of each depression's wet cells, nested ones included. */
+export function depressionBoxes(labels: Int32Array, width: number, hier: Hierarchy): Int32Array {
+  const R = hier.count + 1;
+  const box = labelBoxes(labels, width, hier.count);
   for (let d = 1; d < R; d++) {
     const p = hier.parent[d];
     if (p <= 0) continue;
@@ -104,7 +145,7 @@ export function cornerRing(ring: number[][]): Ring {
 export function depressionOutlines(grid: Grid, labels: Int32Array, hier: Hierarchy, opts: OutlineOptions = {}): DepressionOutline[] {
   const W = grid.width;
   const box = depressionBoxes(labels, W, hier);
-  const cost = (d: number): number => (box[4 * d + 2] < 0 ? 0 : (box[4 * d + 2] - box[4 * d] + 1) * (box[4 * d + 3] - box[4 * d + 1] + 1));
+  const cost = (d: number): number => boxCells(box, d);
   const trace = new Uint8Array(hier.count + 1);
   let budget = opts.budget ?? 8 * labels.length;
   const nested: number[] = [];
@@ -119,7 +160,6 @@ export function depressionOutlines(grid: Grid, labels: Int32Array, hier: Hierarc
     trace[d] = 1;
     budget -= c;
   }
-  const [x0, dx, rx, y0, ry, dy] = grid.transform;
   const { tin, tout } = hier;
   const gen = contours().smooth(false).thresholds([0.5]);
   const out: DepressionOutline[] = [];
@@ -138,25 +178,7 @@ export function depressionOutlines(grid: Grid, labels: Int32Array, hier: Hierarc
         if (e > 0 && tin[e] >= lo && tin[e] < hi) mask[r * bw + c] = 1;
       }
     }
-    const geom = gen.size([bw, bh]).contour(mask as unknown as number[], 0.5);
-    const polygons: PolygonCoords[] = [];
-    for (const poly of geom.coordinates) {
-      const rings: Ring[] = [];
-      poly.forEach((ring, k) => {
-        const px = cornerRing(ring);
-        const mapped: Ring = px.map(([X, Y]) => {
-          const C = c0 + X, Rr = r0 + Y;
-          return [x0 + C * dx + Rr * rx, y0 + C * ry + Rr * dy];
-        });
-        const a = ringArea(mapped);
-        // exterior counter-clockwise, holes clockwise (RFC 7946 §3.1.6)
-        if ((k === 0 && a < 0) || (k > 0 && a > 0)) mapped.reverse();
-        mapped.push([mapped[0][0], mapped[0][1]]);
-        rings.push(mapped);
-      });
-      polygons.push(rings);
-    }
-    out.push({ id: d, polygons });
+    out.push({ id: d, polygons: maskPolygons(gen, mask, bw, bh, c0, r0, grid.transform) });
   }
   return out;
 }
