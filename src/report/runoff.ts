@@ -2,8 +2,8 @@
 import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
 import { runoff, type RunoffOptions, type RunoffResult, type RunoffWater } from '../hydro/runoff.js';
-import { surfaceInfo, num, SILL_VERSION, type SurfaceInfo, type EulerInfo } from './common.js';
-import { cleanValue, cleanDifference, type CellRef } from './ponds.js';
+import { num, type SurfaceInfo, type EulerInfo } from './common.js';
+import { depressionCore, reportHead, reportUnits, cellAreaRange, type DepressionCore } from './hydro-common.js';
 
 export const RUNOFF_CAUTION =
   'Screening information only: the runoff is routed instantly over the DEM as it stands — no infiltration, evaporation, ' +
@@ -14,25 +14,7 @@ export const RUNOFF_CAUTION =
 
 export type WaterState = 'full' | 'partial' | 'dry';
 
-export interface RunoffDepressionRecord {
-  id: number;
-  parent: number | null;
-  children: number[];
-  /** 0 for a top-level depression, 1 for one nested in it, … */
-  level: number;
-  kind: 'leaf' | 'merged';
-  pitValue: number;
-  pit: CellRef;
-  spillValue: number;
-  /** The pass cell, and the cell beyond it the overflow runs into (`outside`: off the grid or a nodata outlet). */
-  pour: CellRef & { to: CellRef & { outside: boolean } };
-  /** Where it spills: the depression its overflow runs into, or 'outside'. */
-  into: number | 'outside';
-  /** Cells, area and volume at the spill level (what `sill ponds` reports): the capacity. */
-  cells: number;
-  area: number;
-  volume: number;
-  maxDepth: number;
+export interface RunoffDepressionRecord extends DepressionCore {
   /** Water that reached it: from its catchment and from its neighbours' overflow (volume unit). */
   received: number;
   /** Water it holds after the routing, nested depressions included. */
@@ -119,67 +101,25 @@ export interface RunoffReportOptions extends RunoffOptions {
   depthRasterUnit?: string;
 }
 
-function cellRef(g: Grid, i: number): CellRef {
-  const row = Math.floor(i / g.width), col = i - row * g.width;
-  return { col, row, x: g.x(col, row), y: g.y(col, row) };
-}
-
-/** The cell beyond the pass: a cell, or the first outlet of the ring (off the grid or nodata). */
-function pourTarget(res: RunoffResult, pass: number, to: number): CellRef & { outside: boolean } {
-  const g = res.grid;
-  if (to >= 0) return { ...cellRef(g, to), outside: false };
-  const row = Math.floor(pass / g.width), col = pass - row * g.width;
-  const ring = res.options.connectivity === 4 ? [[1, 0], [0, 1], [-1, 0], [0, -1]]
-    : res.options.connectivity === 6 ? [[1, 0], [1, 1], [0, 1], [-1, 0], [-1, -1], [0, -1]]
-      : [[1, 0], [0, 1], [-1, 0], [0, -1], [1, 1], [-1, 1], [-1, -1], [1, -1]];
-  for (const [dc, dr] of ring) {
-    const c = col + dc, r = row + dr;
-    const off = c < 0 || r < 0 || c >= g.width || r >= g.height;
-    if (off || (res.options.nodataOutlet && Number.isNaN(g.values[r * g.width + c]))) {
-      return { col: c, row: r, x: g.x(c, r), y: g.y(c, r), outside: true };
-    }
-  }
-  throw new Error(`internal: pass cell (${col}, ${row}) spills to the outside but touches no outlet`);
-}
-
 export function runoffReport(surface: Grid | Mesh, opts: RunoffReportOptions, input: string | null = null): RunoffRun {
   const result = runoff(surface, { ...opts, source: opts.source ?? input ?? 'input' });
   return { result, report: buildRunoffReport(result, input, opts) };
 }
 
 export function buildRunoffReport(result: RunoffResult, input: string | null, opts: { depthText?: string; depthRasterUnit?: string } = {}): RunoffReport {
-  const g = result.grid;
   const H = result.hierarchy;
   const T = result.tree, Rt = result.route;
-  const u = result.areas.units;
-  const f32 = g.values instanceof Float32Array;
   const depressions: RunoffDepressionRecord[] = [];
   let nFull = 0, nPartial = 0, nDry = 0, capacity = 0;
   for (let id = 1; id <= H.count; id++) {
     const k = H.node[id];
-    const kids = Array.from(H.children.subarray(H.childStart[id], H.childStart[id + 1]));
-    const isTop = H.parent[id] === 0;
-    const pitValue = cleanValue(H.pitValue[id], f32), spillValue = cleanValue(H.spillValue[id], f32);
     const stored = Rt.stored[k];
     const state: WaterState = Rt.full[k] ? 'full' : stored > 0 ? 'partial' : 'dry';
     if (state === 'full') nFull++; else if (state === 'partial') nPartial++; else nDry++;
-    if (isTop) capacity += H.volume[id];
+    if (H.parent[id] === 0) capacity += H.volume[id];
     const lev = result.singleLevel[k];
     depressions.push({
-      id,
-      parent: isTop ? null : H.parent[id],
-      children: kids,
-      level: H.level[id],
-      kind: kids.length === 0 ? 'leaf' : 'merged',
-      pitValue,
-      pit: cellRef(g, H.pit[id]),
-      spillValue,
-      pour: { ...cellRef(g, H.spillCell[id]), to: pourTarget(result, H.spillCell[id], H.pourTo[id]) },
-      into: H.into[id] === 0 ? 'outside' : H.into[id],
-      cells: H.wetCells[id],
-      area: H.area[id],
-      volume: H.volume[id],
-      maxDepth: f32 ? cleanDifference(spillValue, pitValue) : H.maxDepth[id],
+      ...depressionCore(result, id),
       received: Rt.received[k],
       waterVolume: stored,
       passedOn: Rt.passedOn[k],
@@ -202,28 +142,12 @@ export function buildRunoffReport(result: RunoffResult, input: string | null, op
       depression: B.depression[b] > 0 ? B.depression[b] : null, full: B.full[b] === 1,
     });
   }
-  const rowArea = result.areas.rowArea;
-  let amin = Infinity, amax = -Infinity;
-  for (let r = 0; r < rowArea.length; r++) { amin = Math.min(amin, rowArea[r]); amax = Math.max(amax, rowArea[r]); }
-  const e = result.euler;
   const inp = result.input;
   return {
     schema: 'sill/runoff@1',
-    sill: SILL_VERSION,
-    input,
-    caution: RUNOFF_CAUTION,
-    surface: surfaceInfo(g),
-    connectivity: result.options.connectivity,
-    boundary: 'open',
-    nodataAs: result.options.nodataOutlet ? 'outlet' : 'wall',
-    euler: e ? { ...e } : null,
-    units: {
-      horizontal: u.horizontal, elevation: u.elevation, depth: u.elevation, area: u.area, volume: u.volume, runoff: 'm',
-      notes: g.crs && g.crs.epsg === undefined
-        ? [...u.notes, 'the CRS has no EPSG code, so the GeoTIFFs and the GeoJSON are written without one: assign the DEM\'s CRS to them in your GIS']
-        : u.notes,
-    },
-    cellArea: { uniform: result.areas.uniform, min: amin, max: amax },
+    ...reportHead(result, input, RUNOFF_CAUTION),
+    units: reportUnits(result, { runoff: 'm' }),
+    cellArea: cellAreaRange(result.areas),
     runoff: {
       mode: inp.mode,
       depth: inp.depth,
