@@ -8,28 +8,26 @@ import { depressionOutlines, type DepressionOutline } from '../hydro/vectors.js'
 import { toWgs84 } from '../hydro/reproject.js';
 import { stageVolume } from '../hydro/stage.js';
 import { writeGeoTiff } from '../io/index.js';
-import { toCsv, featureCollection, pointFeature, type Feature } from '../io/tables.js';
-import { openSync, writeSync, closeSync } from 'node:fs';
-import { once } from 'node:events';
+import { pointFeature, type Feature } from '../io/tables.js';
 import { OutputFolder } from '../io/outdir.js';
-import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, fmtCoord, type CommonOptions } from './common.js';
+import { addCommonOptions, parseNumber, Progress, say, fmt, fmtCoord } from './common.js';
+import {
+  parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printChunks, writeChunks, listJsonChunks, csvChunks,
+  collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
+} from './hydro-common.js';
 import { loadInput } from './load.js';
 import { reportRequest, addReport, reportSummary, flagsOf, PONDS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildPondsReport as buildPondsHtml } from '../render/html/ponds.js';
 
-export interface PondsCliOptions extends CommonOptions {
-  nodataAs?: string;
+export interface PondsCliOptions extends HydroCliOptions {
   minDepth?: string;
   minArea?: string;
   minVolume?: string;
   fillOnlyBelow?: string;
   labelLevel?: string;
   zUnits?: string;
-  zFactor?: string;
   xyUnits?: string;
   wgs84?: boolean;
-  stageVolume?: string;
-  stageStep?: string;
 }
 
 export function registerPonds(program: Command): void {
@@ -61,13 +59,8 @@ function optionalNumber(name: string, s: string | undefined, min = 0): number | 
 
 export async function runPondsCommand(input: string, opts: PondsCliOptions): Promise<PondsReport> {
   const progress = new Progress(opts.quiet || opts.json);
-  const connectivity = parseConnectivity(opts.connectivity);
-  const boundary = parseBoundary(opts.boundary);
-  if (boundary !== 'open') {
-    throw new InputError(`ponds needs --boundary open (water leaves the map at its edge and, unless --nodata-as wall, at nodata cells); got '${boundary}'`);
-  }
-  const nodataAs = opts.nodataAs ?? 'outlet';
-  if (nodataAs !== 'outlet' && nodataAs !== 'wall') throw new InputError(`--nodata-as must be outlet or wall, got '${nodataAs}'`);
+  const { connectivity, boundary } = parseOpenBoundary('ponds', opts);
+  const nodataAs = parseNodataAs(opts);
   const labelLevel = opts.labelLevel ?? 'leaf';
   if (labelLevel !== 'leaf' && labelLevel !== 'top') throw new InputError(`--label-level must be leaf or top, got '${labelLevel}'`);
   const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', { min: 0 });
@@ -75,11 +68,7 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   const minArea = optionalNumber('--min-area', opts.minArea);
   const minVolume = optionalNumber('--min-volume', opts.minVolume);
   const fillOnlyBelow = opts.fillOnlyBelow === undefined ? undefined : parseNumber('--fill-only-below', opts.fillOnlyBelow, { positive: true });
-  const zFactor = opts.zFactor === undefined ? undefined : parseNumber('--z-factor', opts.zFactor, { positive: true });
-  const stageId = opts.stageVolume === undefined ? undefined : parseNumber('--stage-volume', opts.stageVolume, { integer: true, min: 1 });
-  const stageStep = opts.stageStep === undefined ? undefined : parseNumber('--stage-step', opts.stageStep, { positive: true });
-  if (stageStep !== undefined && stageId === undefined) throw new InputError('--stage-step needs --stage-volume ID');
-  if (stageId !== undefined && !opts.out) throw new InputError('--stage-volume writes a table: give an output folder with -o/--out');
+  const { zFactor, stageId, stageStep } = parseZAndStage(opts);
   const render = reportRequest('ponds', [input], { ...opts }, flagsOf({ ...opts }, PONDS_FLAGS));
   if (opts.wgs84 && !opts.out) throw new InputError('--wgs84 writes depressions-wgs84.geojson: give an output folder with -o/--out');
 
@@ -92,13 +81,7 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
     labelLevel, source: input,
     onStage: (s) => progress.stage(s),
   }, input);
-  if (report.euler && !report.euler.holds) {
-    const e = report.euler;
-    throw new Error(`Euler relation fails (χ = ${e.characteristic}, pits − passes + peaks = ${e.pits - e.passes + e.peaks}); this is a bug in sill, please report it with the input`);
-  }
-  if (stageId !== undefined && stageId > report.depressions.length) {
-    throw new InputError(`--stage-volume ${stageId}: there ${report.depressions.length === 1 ? 'is 1 depression' : `are ${report.depressions.length} depressions`} (ids 1…${report.depressions.length}); pick one from depressions.csv`);
-  }
+  checkHydroReport(report, stageId, 'depressions.csv');
   // check --wgs84 before writing anything
   const project = opts.wgs84 ? toWgs84(result.grid.crs, input) : null;
   let written: string[] = [];
@@ -107,12 +90,7 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
     written = await writePondsFiles(opts.out, result, report, { project, stageId, stageStep, progress, render });
   }
   progress.done();
-  if (opts.json) {
-    // streamed: the text of a large report can be longer than one string may be
-    for (const chunk of reportJsonChunks(report, false)) {
-      if (!process.stdout.write(chunk)) await once(process.stdout, 'drain');
-    }
-  }
+  if (opts.json) await printChunks(reportJsonChunks(report, false));
   say(opts, pondsSummary(report, opts.out, written));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
@@ -143,14 +121,9 @@ export async function writePondsFiles(dir: string, result: PondsResult, report: 
 
     w.progress?.stage('tracing outlines');
     const outlines = depressionOutlines(g, R.labels, result.hierarchy);
-    const omitted = outlines.reduce((k, o) => k + (o.omitted ? 1 : 0), 0);
-    report.outlines = {
-      traced: outlines.length - omitted,
-      omitted,
-      note: omitted > 0
-        ? `${omitted} nested merged depressions have no polygon in depressions.geojson (null geometry): tracing every level of this deep hierarchy would scan the grid too many times; the top-level and leaf depressions and the largest nested ones are traced — use --min-depth, --min-area or --min-volume to simplify the hierarchy`
-        : 'every depression has its polygon',
-    };
+    report.outlines = outlinesEntry(outlines,
+      (omitted) => `${omitted} nested merged depressions have no polygon in depressions.geojson (null geometry): tracing every level of this deep hierarchy would scan the grid too many times; the top-level and leaf depressions and the largest nested ones are traced — use --min-depth, --min-area or --min-volume to simplify the hierarchy`,
+      'every depression has its polygon');
     const tokens = result.areas.units.tokens;
     const meta = {
       name: 'depressions',
@@ -164,13 +137,7 @@ export async function writePondsFiles(dir: string, result: PondsResult, report: 
     w.progress?.stage('writing depressions.csv');
     writeChunks(out.path('depressions.csv'), csvChunks(report.depressions, pondsCsvColumns(tokens)));
     if (w.stageId !== undefined) {
-      const table = stageVolume(result, w.stageId, w.stageStep);
-      out.write(`stage-volume-${w.stageId}.csv`, toCsv(table, [
-        [`level_${tokens.elevation}`, (s) => s.level],
-        [`area_${tokens.area}`, (s) => s.area],
-        [`volume_${tokens.volume}`, (s) => s.volume],
-        ['cells', (s) => s.cells],
-      ]));
+      out.write(`stage-volume-${w.stageId}.csv`, stageCsv(stageVolume(result, w.stageId, w.stageStep), tokens));
     }
     w.progress?.stage('writing report.json');
     writeChunks(out.path('report.json'), reportJsonChunks(report, true));
@@ -191,38 +158,9 @@ function depressionProps(d: DepressionRecord): Record<string, unknown> {
   };
 }
 
-/** Write text pieces to a file through a 1 MB buffer (no single string holds the whole file). */
-function writeChunks(path: string, chunks: Iterable<string>): void {
-  const fd = openSync(path, 'w');
-  try {
-    let buf: string[] = [], size = 0;
-    for (const c of chunks) {
-      buf.push(c);
-      size += c.length;
-      if (size >= 1 << 20) { writeSync(fd, buf.join('')); buf = []; size = 0; }
-    }
-    if (buf.length) writeSync(fd, buf.join(''));
-  } finally {
-    closeSync(fd);
-  }
-}
-
 /** The report as JSON text in pieces: every key, then the depressions one record a line. */
-export function* reportJsonChunks(report: PondsReport, pretty: boolean): Generator<string> {
-  const { depressions, ...rest } = report;
-  const head = pretty ? JSON.stringify(rest, null, 1) : JSON.stringify(rest);
-  yield head.slice(0, head.lastIndexOf('}')).replace(/\s+$/, '');
-  yield pretty ? ',\n "depressions": [' : ',"depressions":[';
-  for (let k = 0; k < depressions.length; k++) yield (k ? ',' : '') + (pretty ? '\n  ' : '') + JSON.stringify(depressions[k]);
-  yield pretty ? (depressions.length ? '\n ]\n}\n' : ']\n}\n') : ']}\n';
-}
-
-/** CSV text in pieces of 10 000 rows (one header). */
-function* csvChunks<T>(rows: readonly T[], columns: readonly [string, (r: T) => unknown][]): Generator<string> {
-  for (let k = 0; k < Math.max(1, rows.length); k += 10000) {
-    const text = toCsv(rows.slice(k, k + 10000), columns);
-    yield k === 0 ? text : text.slice(text.indexOf('\n') + 1);
-  }
+export function reportJsonChunks(report: PondsReport, pretty: boolean): Generator<string> {
+  return listJsonChunks(report, ['depressions'], pretty);
 }
 
 /**
@@ -230,43 +168,33 @@ function* csvChunks<T>(rows: readonly T[], columns: readonly [string, (r: T) => 
  * collection's members, then one feature at a time — a polygon per depression (null geometry when
  * its outline was left out), then a point per pour point.
  */
-function* featureChunks(report: PondsReport, outlines: DepressionOutline[], project: ((x: number, y: number) => [number, number]) | null, crs: PondsResult['grid']['crs'], meta: Record<string, unknown>): Generator<string> {
-  const empty = featureCollection([], crs, meta);
-  yield empty.slice(0, empty.lastIndexOf('[') + 1);
+function featureChunks(report: PondsReport, outlines: DepressionOutline[], project: ((x: number, y: number) => [number, number]) | null, crs: PondsResult['grid']['crs'], meta: Record<string, unknown>): Generator<string> {
   const P = project ?? ((x: number, y: number): [number, number] => [x, y]);
-  let first = true;
-  for (const o of outlines) {
-    const d = report.depressions[o.id - 1];
-    const coords = o.polygons.map((poly) => poly.map((ring) => ring.map(([x, y]) => P(x, y))));
-    const f: Feature = {
-      type: 'Feature', id: d.id,
-      geometry: o.omitted ? null : coords.length === 1 ? { type: 'Polygon', coordinates: coords[0] } : { type: 'MultiPolygon', coordinates: coords },
-      properties: depressionProps(d),
-    };
-    yield (first ? '' : ',') + JSON.stringify(f);
-    first = false;
-  }
-  for (const d of report.depressions) {
-    const [x, y] = P(d.pour.x, d.pour.y);
-    yield (first ? '' : ',') + JSON.stringify(pointFeature(x, y, {
-      kind: 'pour point', id: d.id, spillValue: d.spillValue, into: d.into, pourCol: d.pour.col, pourRow: d.pour.row,
-      toCol: d.pour.to.col, toRow: d.pour.to.row, toOutside: d.pour.to.outside,
-    }));
-    first = false;
-  }
-  yield ']}\n';
+  const features = function* (): Generator<Feature> {
+    for (const o of outlines) {
+      const d = report.depressions[o.id - 1];
+      const coords = o.polygons.map((poly) => poly.map((ring) => ring.map(([x, y]) => P(x, y))));
+      yield {
+        type: 'Feature', id: d.id,
+        geometry: o.omitted ? null : coords.length === 1 ? { type: 'Polygon', coordinates: coords[0] } : { type: 'MultiPolygon', coordinates: coords },
+        properties: depressionProps(d),
+      };
+    }
+    for (const d of report.depressions) {
+      const [x, y] = P(d.pour.x, d.pour.y);
+      yield pointFeature(x, y, {
+        kind: 'pour point', id: d.id, spillValue: d.spillValue, into: d.into, pourCol: d.pour.col, pourRow: d.pour.row,
+        toCol: d.pour.to.col, toRow: d.pour.to.row, toOutside: d.pour.to.outside,
+      });
+    }
+  };
+  return collectionChunks(crs, meta, features());
 }
 
 export function pondsSummary(r: PondsReport, outDir?: string, files: string[] = []): string {
   const s = r.surface;
   const u = r.units;
-  const lines: string[] = [];
-  lines.push(`surface      ${s.width} × ${s.height} grid, ${s.validCells} valid cells${s.crs?.name ? `, ${s.crs.name}` : ', no CRS'}`);
-  lines.push(`outlets      grid edge${r.nodataAs === 'outlet' ? ' and nodata cells' : ' (nodata cells are walls)'}; connectivity ${r.connectivity}`);
-  if (r.euler) {
-    const e = r.euler;
-    lines.push(`Euler        pits − passes + peaks = ${e.pits - e.passes + e.peaks}, χ = ${e.characteristic} by counting simplices: ${e.holds ? 'holds' : 'FAILS'}`);
-  }
+  const lines = summaryHead(r);
   const c = r.counts;
   lines.push(`depressions  ${c.depressions} (${c.leaf} leaf, ${c.merged} merged; ${c.topLevel} top-level)`);
   if (c.flats > 0) lines.push(`             ${c.flats} flat${c.flats === 1 ? '' : 's'} at their own spill level hold no water and are not counted`);
@@ -292,8 +220,6 @@ export function pondsSummary(r: PondsReport, outDir?: string, files: string[] = 
         `pours at cell (${d.pour.col}, ${d.pour.row}), x ${fmtCoord(d.pour.x, geo)}, y ${fmtCoord(d.pour.y, geo)} into ${d.into === 'outside' ? 'the outside' : `#${d.into}`}`);
     }
   }
-  lines.push(`caution      ${r.caution}`);
-  if (r.outlines && r.outlines.omitted > 0) lines.push(`outlines     ${r.outlines.note}`);
-  if (outDir) lines.push(`files        ${outDir}/ ${files.map((f) => f.split(/[\\/]/).pop()).join(' ')}`);
+  lines.push(...summaryTail(r, outDir, files));
   return lines.join('\n');
 }

@@ -1,7 +1,5 @@
 /** `sill runoff IN --depth D`: route a runoff depth through the depression hierarchy (fill, spill, merge). */
 import { Option, type Command } from 'commander';
-import { openSync, writeSync, closeSync } from 'node:fs';
-import { once } from 'node:events';
 import { InputError } from '../errors.js';
 import { runoffReport, runoffCsvColumns, type RunoffReport, type PondRecord } from '../report/runoff.js';
 import type { RunoffResult } from '../hydro/runoff.js';
@@ -10,25 +8,25 @@ import { parseDepth, depthUnit, DEPTH_UNITS } from '../hydro/runoff-input.js';
 import { bodyOutlines } from '../hydro/runoff-vectors.js';
 import type { DepressionOutline } from '../hydro/vectors.js';
 import { writeGeoTiff, loadSurface } from '../io/index.js';
-import { toCsv, featureCollection, type Feature } from '../io/tables.js';
+import type { Feature } from '../io/tables.js';
 import { OutputFolder } from '../io/outdir.js';
 import type { Grid } from '../surface/grid.js';
-import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, type CommonOptions } from './common.js';
+import { addCommonOptions, parseNumber, Progress, say, fmt } from './common.js';
+import {
+  parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printChunks, writeChunks, listJsonChunks, csvChunks,
+  collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
+} from './hydro-common.js';
 import { loadInput } from './load.js';
 import { reportRequest, addReport, reportSummary, flagsOf, type FlagSpec, type ReportRequest } from './report-option.js';
 import { buildRunoffHtml } from '../render/html/runoff.js';
 
-export interface RunoffCliOptions extends CommonOptions {
+export interface RunoffCliOptions extends HydroCliOptions {
   depth?: string;
   depthRaster?: string;
   depthUnits?: string;
   initialLevel?: string;
-  nodataAs?: string;
   zUnits?: string;
-  zFactor?: string;
   xyUnits?: string;
-  stageVolume?: string;
-  stageStep?: string;
 }
 
 /** The options of `runoff` that shape its result, for the command line in the report header. */
@@ -68,17 +66,12 @@ async function loadRaster(path: string, option: string): Promise<Grid> {
 
 export async function runRunoffCommand(input: string, opts: RunoffCliOptions): Promise<RunoffReport> {
   const progress = new Progress(opts.quiet || opts.json);
-  const connectivity = parseConnectivity(opts.connectivity);
-  const boundary = parseBoundary(opts.boundary);
-  if (boundary !== 'open') {
-    throw new InputError(`runoff needs --boundary open (water leaves the map at its edge and, unless --nodata-as wall, at nodata cells); got '${boundary}'`);
-  }
+  const { connectivity, boundary } = parseOpenBoundary('runoff', opts);
   const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', { min: 0 });
   if (minPersistence > 0) {
     throw new InputError('runoff routes the water through every depression, shallow ones included (they store water too); --min-persistence does not apply — filter runoff.csv instead');
   }
-  const nodataAs = opts.nodataAs ?? 'outlet';
-  if (nodataAs !== 'outlet' && nodataAs !== 'wall') throw new InputError(`--nodata-as must be outlet or wall, got '${nodataAs}'`);
+  const nodataAs = parseNodataAs(opts);
   if (opts.depth !== undefined && opts.depthRaster !== undefined) throw new InputError('give either --depth or --depth-raster, not both');
   if (opts.depth === undefined && opts.depthRaster === undefined) throw new InputError('say how much runoff to route: --depth D with its unit (e.g. --depth 40mm) or --depth-raster R.tif');
   if (opts.depthUnits !== undefined && opts.depthRaster === undefined) throw new InputError('--depth-units names the unit of --depth-raster values; with --depth write the unit in the value (e.g. 40mm)');
@@ -89,11 +82,7 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
     if (u === null) throw new InputError(`--depth-units must be one of mm, cm, m, in, ft; got '${opts.depthUnits}'`);
     rasterUnit = u;
   }
-  const zFactor = opts.zFactor === undefined ? undefined : parseNumber('--z-factor', opts.zFactor, { positive: true });
-  const stageId = opts.stageVolume === undefined ? undefined : parseNumber('--stage-volume', opts.stageVolume, { integer: true, min: 1 });
-  const stageStep = opts.stageStep === undefined ? undefined : parseNumber('--stage-step', opts.stageStep, { positive: true });
-  if (stageStep !== undefined && stageId === undefined) throw new InputError('--stage-step needs --stage-volume ID');
-  if (stageId !== undefined && !opts.out) throw new InputError('--stage-volume writes a table: give an output folder with -o/--out');
+  const { zFactor, stageId, stageStep } = parseZAndStage(opts);
   const render = reportRequest('runoff', [input], { ...opts }, flagsOf({ ...opts }, RUNOFF_FLAGS));
 
   progress.stage(`reading ${input}`);
@@ -109,13 +98,7 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
     source: input,
     onStage: (s) => progress.stage(s),
   }, input);
-  if (report.euler && !report.euler.holds) {
-    const e = report.euler;
-    throw new Error(`Euler relation fails (χ = ${e.characteristic}, pits − passes + peaks = ${e.pits - e.passes + e.peaks}); this is a bug in sill, please report it with the input`);
-  }
-  if (stageId !== undefined && stageId > report.depressions.length) {
-    throw new InputError(`--stage-volume ${stageId}: there ${report.depressions.length === 1 ? 'is 1 depression' : `are ${report.depressions.length} depressions`} (ids 1…${report.depressions.length}); pick one from runoff.csv`);
-  }
+  checkHydroReport(report, stageId, 'runoff.csv');
   progress.done();
   for (const w of report.warnings) process.stderr.write(`sill: warning: ${w}\n`);
   let written: string[] = [];
@@ -124,11 +107,7 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
     written = await writeRunoffFiles(opts.out, result, report, { stageId, stageStep, progress, render });
     progress.done();
   }
-  if (opts.json) {
-    for (const chunk of runoffJsonChunks(report, false)) {
-      if (!process.stdout.write(chunk)) await once(process.stdout, 'drain');
-    }
-  }
+  if (opts.json) await printChunks(runoffJsonChunks(report, false));
   say(opts, runoffSummary(report, opts.out, written));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
@@ -154,14 +133,9 @@ export async function writeRunoffFiles(dir: string, result: RunoffResult, report
 
     w.progress?.stage('tracing pond outlines');
     const outlines = bodyOutlines(g, R.bodies, result.bodies.count, result.bodies.volume);
-    const omitted = outlines.reduce((k, o) => k + (o.omitted ? 1 : 0), 0);
-    report.outlines = {
-      traced: outlines.length - omitted,
-      omitted,
-      note: omitted > 0
-        ? `${omitted} of the smallest ponds have no polygon in ponds.geojson (null geometry): their bounding boxes would take the tracing past its budget of 8 × the grid's cells; water-depth.tif has every one`
-        : 'every pond has its polygon',
-    };
+    report.outlines = outlinesEntry(outlines,
+      (omitted) => `${omitted} of the smallest ponds have no polygon in ponds.geojson (null geometry): their bounding boxes would take the tracing past its budget of 8 × the grid's cells; water-depth.tif has every one`,
+      'every pond has its polygon');
     const tokens = result.areas.units.tokens;
     w.progress?.stage('writing ponds.geojson');
     writeChunks(out.path('ponds.geojson'), pondChunks(report, outlines, g.crs, {
@@ -174,13 +148,7 @@ export async function writeRunoffFiles(dir: string, result: RunoffResult, report
     w.progress?.stage('writing runoff.csv');
     writeChunks(out.path('runoff.csv'), csvChunks(report.depressions, runoffCsvColumns(tokens)));
     if (w.stageId !== undefined) {
-      const table = runoffStageVolume(result, w.stageId, w.stageStep);
-      out.write(`stage-volume-${w.stageId}.csv`, toCsv(table, [
-        [`level_${tokens.elevation}`, (s) => s.level],
-        [`area_${tokens.area}`, (s) => s.area],
-        [`volume_${tokens.volume}`, (s) => s.volume],
-        ['cells', (s) => s.cells],
-      ]));
+      out.write(`stage-volume-${w.stageId}.csv`, stageCsv(runoffStageVolume(result, w.stageId, w.stageStep), tokens));
     }
     w.progress?.stage('writing report.json');
     writeChunks(out.path('report.json'), runoffJsonChunks(report, true));
@@ -193,43 +161,9 @@ export async function writeRunoffFiles(dir: string, result: RunoffResult, report
   }
 }
 
-/** Write text pieces to a file through a 1 MB buffer (no single string holds the whole file). */
-function writeChunks(path: string, chunks: Iterable<string>): void {
-  const fd = openSync(path, 'w');
-  try {
-    let buf: string[] = [], size = 0;
-    for (const c of chunks) {
-      buf.push(c);
-      size += c.length;
-      if (size >= 1 << 20) { writeSync(fd, buf.join('')); buf = []; size = 0; }
-    }
-    if (buf.length) writeSync(fd, buf.join(''));
-  } finally {
-    closeSync(fd);
-  }
-}
-
 /** The report as JSON text in pieces: every key, then the depressions and the ponds one record a line. */
-export function* runoffJsonChunks(report: RunoffReport, pretty: boolean): Generator<string> {
-  const { depressions, ponds, ...rest } = report;
-  const head = pretty ? JSON.stringify(rest, null, 1) : JSON.stringify(rest);
-  yield head.slice(0, head.lastIndexOf('}')).replace(/\s+$/, '');
-  const list = function* (name: string, rows: readonly unknown[]): Generator<string> {
-    yield pretty ? `,\n "${name}": [` : `,"${name}":[`;
-    for (let k = 0; k < rows.length; k++) yield (k ? ',' : '') + (pretty ? '\n  ' : '') + JSON.stringify(rows[k]);
-    yield pretty && rows.length ? '\n ]' : ']';
-  };
-  yield* list('depressions', depressions);
-  yield* list('ponds', ponds);
-  yield pretty ? '\n}\n' : '}\n';
-}
-
-/** CSV text in pieces of 10 000 rows (one header). */
-function* csvChunks<T>(rows: readonly T[], columns: readonly [string, (r: T) => unknown][]): Generator<string> {
-  for (let k = 0; k < Math.max(1, rows.length); k += 10000) {
-    const text = toCsv(rows.slice(k, k + 10000), columns);
-    yield k === 0 ? text : text.slice(text.indexOf('\n') + 1);
-  }
+export function runoffJsonChunks(report: RunoffReport, pretty: boolean): Generator<string> {
+  return listJsonChunks(report, ['depressions', 'ponds'], pretty);
 }
 
 function pondProps(p: PondRecord): Record<string, unknown> {
@@ -237,37 +171,27 @@ function pondProps(p: PondRecord): Record<string, unknown> {
 }
 
 /** ponds.geojson in pieces, in the layout of featureCollection (src/io/tables.ts): one polygon per pond. */
-function* pondChunks(report: RunoffReport, outlines: DepressionOutline[], crs: Grid['crs'], meta: Record<string, unknown>): Generator<string> {
-  const empty = featureCollection([], crs, meta);
-  yield empty.slice(0, empty.lastIndexOf('[') + 1);
-  let first = true;
-  for (const o of outlines) {
-    const p = report.ponds[o.id - 1];
-    const f: Feature = {
-      type: 'Feature', id: p.id,
-      geometry: o.omitted || o.polygons.length === 0 ? null
-        : o.polygons.length === 1 ? { type: 'Polygon', coordinates: o.polygons[0] } : { type: 'MultiPolygon', coordinates: o.polygons },
-      properties: pondProps(p),
-    };
-    yield (first ? '' : ',') + JSON.stringify(f);
-    first = false;
-  }
-  yield ']}\n';
+function pondChunks(report: RunoffReport, outlines: DepressionOutline[], crs: Grid['crs'], meta: Record<string, unknown>): Generator<string> {
+  const features = function* (): Generator<Feature> {
+    for (const o of outlines) {
+      const p = report.ponds[o.id - 1];
+      yield {
+        type: 'Feature', id: p.id,
+        geometry: o.omitted || o.polygons.length === 0 ? null
+          : o.polygons.length === 1 ? { type: 'Polygon', coordinates: o.polygons[0] } : { type: 'MultiPolygon', coordinates: o.polygons },
+        properties: pondProps(p),
+      };
+    }
+  };
+  return collectionChunks(crs, meta, features());
 }
 
 const pct = (x: number) => `${fmt(100 * x, 3)} %`;
 
 export function runoffSummary(r: RunoffReport, outDir?: string, files: string[] = []): string {
-  const s = r.surface;
   const u = r.units;
   const v = u.volume;
-  const lines: string[] = [];
-  lines.push(`surface      ${s.width} × ${s.height} grid, ${s.validCells} valid cells${s.crs?.name ? `, ${s.crs.name}` : ', no CRS'}`);
-  lines.push(`outlets      grid edge${r.nodataAs === 'outlet' ? ' and nodata cells' : ' (nodata cells are walls)'}; connectivity ${r.connectivity}`);
-  if (r.euler) {
-    const e = r.euler;
-    lines.push(`Euler        pits − passes + peaks = ${e.pits - e.passes + e.peaks}, χ = ${e.characteristic} by counting simplices: ${e.holds ? 'holds' : 'FAILS'}`);
-  }
+  const lines = summaryHead(r);
   const ro = r.runoff;
   if (ro.mode === 'uniform') lines.push(`runoff       ${ro.depthText ?? `${fmt(ro.depth)} m`} over every valid cell`);
   else lines.push(`runoff       ${ro.raster!.source} (${ro.raster!.unit}), ${ro.cells} cells with water${ro.raster!.resampled ? '; resampled to the DEM (see the warning)' : ''}`);
@@ -291,8 +215,6 @@ export function runoffSummary(r: RunoffReport, outDir?: string, files: string[] 
       lines.push(`  pond ${p.id}: ${fmt(p.volume)} ${v} at level ${fmt(p.level, 7)} ${u.elevation}, ${fmt(p.area)} ${u.area}, up to ${fmt(p.maxDepth)} ${u.elevation} deep, in ${d}${p.full ? ' (full: more water spills on)' : ''}`);
     }
   }
-  lines.push(`caution      ${r.caution}`);
-  if (r.outlines && r.outlines.omitted > 0) lines.push(`outlines     ${r.outlines.note}`);
-  if (outDir) lines.push(`files        ${outDir}/ ${files.map((f) => f.split(/[\\/]/).pop()).join(' ')}`);
+  lines.push(...summaryTail(r, outDir, files));
   return lines.join('\n');
 }
