@@ -4,29 +4,25 @@
  * spill level as a persistence diagram; the depressions table.
  */
 import type { PondsResult } from '../../hydro/ponds.js';
-import type { PondsReport, DepressionRecord } from '../../report/ponds.js';
+import type { PondsReport } from '../../report/ponds.js';
 import type { DepressionOutline } from '../../hydro/vectors.js';
-import { mapSvg, mapGeometry, type MapMarker, type MapShape } from '../figures/map.js';
+import { labelBoxes } from '../../hydro/vectors.js';
+import { mapSvg, type MapMarker, type MapShape } from '../figures/map.js';
 import { traceRegion } from '../figures/outline.js';
-import { treeSvg, reduceSweepTree, type TreeNodeIn } from '../figures/tree.js';
+import { treeSvg, type TreeNodeIn } from '../figures/tree.js';
 import { persistenceSvg, type DiagramPoint } from '../figures/persistence.js';
-import { blockStats, blockCentreSample, mapToPlot, finiteRange } from '../figures/raster.js';
-import { makeRamp } from '../figures/colour.js';
-import { overlay } from '../figures/layers.js';
-import { encodePng, pngDataUri } from '../figures/png.js';
+import { blockCentreSample, mapToPlot } from '../figures/raster.js';
 import { fmtNum, topIndices } from '../figures/scale.js';
 import { n } from '../figures/svg.js';
-import { RAMPS } from '../figures/theme.js';
-import type { ReportDoc, TableSpec, ReportContext, BuiltReport, HoverLayer } from './model.js';
-import {
-  surfaceDisplay, surfaceLayer, surfaceContours, surfaceHover, displayNotes, commonHeader, readoutNote, TERRAIN_CAUTION, valueDecimals, fmtDec, packArray,
-} from './surface.js';
+import type { ReportDoc, TableSpec, ReportContext, BuiltReport } from './model.js';
+import { displayNotes, readoutNote, TERRAIN_CAUTION } from './surface.js';
 import { axesLabels } from './survey.js';
+import { dkey, pourAngle, childrenFirstOf, waterDisplay, waterHover, spillTree, waterHeader, unitsRow, hydroToggles } from './hydro.js';
+
+export { dkey, pourAngle } from './hydro.js';
 
 /** Caps for the page: outlines (count, vertices, display cells scanned to trace them), markers, tree leaves, table rows. */
 export const PONDS_LIMITS = { outlines: 1500, outlinePoints: 250_000, tracedCells: 8_000_000, markers: 800, treeLeaves: 250, tableRows: 5000 };
-
-export const dkey = (id: number): string => `d${id}`;
 
 /** Outline rings (map coordinates, e.g. from depressions.geojson) as SVG path data in plot coordinates, collinear points dropped. */
 export function outlinePath(o: DepressionOutline, t: PondsResult['grid']['transform']): string {
@@ -47,22 +43,9 @@ export function outlinePath(o: DepressionOutline, t: PondsResult['grid']['transf
   return parts.join('');
 }
 
-/** Direction (degrees, plot coordinates) from the pour cell to the cell the water spills into. */
-export function pourAngle(d: DepressionRecord): number {
-  return (Math.atan2(d.pour.to.row - d.pour.row, d.pour.to.col - d.pour.col) * 180) / Math.PI;
-}
-
 /** Indices into report.depressions ordered deepest nesting level first (children before their parents). */
 export function childrenFirst(report: PondsReport): Int32Array {
-  const deps = report.depressions;
-  let maxLevel = 0;
-  for (const d of deps) if (d.level > maxLevel) maxLevel = d.level;
-  const start = new Int32Array(maxLevel + 2);
-  for (const d of deps) start[maxLevel - d.level + 1]++;
-  for (let l = 1; l <= maxLevel + 1; l++) start[l] += start[l - 1];
-  const out = new Int32Array(deps.length);
-  deps.forEach((d, i) => { out[start[maxLevel - d.level]++] = i; });
-  return out;
+  return childrenFirstOf(report.depressions);
 }
 
 /**
@@ -72,20 +55,7 @@ export function childrenFirst(report: PondsReport): Int32Array {
 export function displayOutlines(result: PondsResult, report: PondsReport, displayLabels: Int32Array, dw: number, dh: number, factor: number, tol: number): MapShape[] {
   const H = result.hierarchy;
   const deps = report.depressions;
-  const N = deps.length + 1;
-  const box = new Int32Array(4 * N);
-  for (let d = 0; d < N; d++) box.set([0x7fffffff, 0x7fffffff, -1, -1], 4 * d);
-  for (let r = 0; r < dh; r++) {
-    for (let c = 0; c < dw; c++) {
-      const e = displayLabels[r * dw + c];
-      if (e <= 0) continue;
-      const b = 4 * e;
-      if (c < box[b]) box[b] = c;
-      if (r < box[b + 1]) box[b + 1] = r;
-      if (c > box[b + 2]) box[b + 2] = c;
-      if (r > box[b + 3]) box[b + 3] = r;
-    }
-  }
+  const box = labelBoxes(displayLabels, dw, deps.length);
   // a parent's box holds its children's: deepest first
   for (const i of childrenFirst(report)) {
     const d = deps[i];
@@ -117,32 +87,22 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
   const g = result.grid;
   const u = report.units;
   const zu = u.elevation, au = u.area, vu = u.volume;
-  const sd = surfaceDisplay(g);
-  const layer = surfaceLayer(sd, { domain: 'terrain', label: `elevation [${zu}]`, underWater: true });
-  const contours = surfaceContours(sd, 10);
-  const dec = valueDecimals(g.values, finiteRange(sd.stats.min)[0], finiteRange(sd.stats.max)[1]);
-  const fz = (x: number) => fmtDec(x, dec);
+  // the water depth overlay: block means of the depth at the spill levels
+  const R = result.rasters;
+  const wd = waterDisplay(g, zu, R.depth);
+  const { sd, layer, contours, dec, fz, dmax, depthRamp, dTop, depthPng } = wd;
   const geo = sd.geographic;
   // the unit ponds measured the horizontal in (it may have assumed metres for a CRS that names none)
   const hu = /^(m|ft|us-ft|km|deg)\b/.exec(u.horizontal)?.[1];
   const xyUnit = sd.xyUnit || (hu === 'deg' ? '°' : hu) || (g.crs ? 'CRS units' : 'input units');
-
-  // water depth overlay: block means of the depth at the spill levels
-  const R = result.rasters;
   const f = sd.frame.factor;
-  const dstats = blockStats(R.depth, g.width, g.height, f);
-  const [, dmax] = finiteRange(dstats.max);
-  const depthRamp = makeRamp(RAMPS.depth.name, RAMPS.depth.lo, RAMPS.depth.hi);
-  const dTop = dmax > 0 ? dmax : 1;
-  const depthPng = pngDataUri(encodePng(overlay(dstats.mean, depthRamp, 0, dTop, 0.88), sd.frame.dw, sd.frame.dh, 4));
 
   // depressions, largest first for the caps
   const deps = report.depressions;
   const volumes = Float64Array.from(deps, (d) => d.volume);
   const byVolume = Array.from(topIndices(volumes, Math.max(PONDS_LIMITS.tableRows, PONDS_LIMITS.markers)), (i) => deps[i]);
   const displayLabels = f === 1 ? R.labels : blockCentreSample(R.labels, g.width, g.height, f);
-  const kfig = mapGeometry(g.width, g.height, 0).k;
-  const shapes = displayOutlines(result, report, displayLabels, sd.frame.dw, sd.frame.dh, f, Math.max(0.3, 0.6 / (kfig * f)));
+  const shapes = displayOutlines(result, report, displayLabels, sd.frame.dw, sd.frame.dh, f, wd.tol);
   const markers: MapMarker[] = [];
   for (const d of byVolume.slice(0, Math.floor(PONDS_LIMITS.markers / 2))) {
     // a merged depression's pit is its deepest child's pit: one marker there, the child's
@@ -185,16 +145,8 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
 
   // spill-level tree: each depression from its floor (pit, or where its children merged) up to its spill level
   const N = deps.length;
-  const childSpill = new Float64Array(N + 1).fill(-Infinity);
-  for (const d of deps) if (d.parent !== null && d.spillValue > childSpill[d.parent]) childSpill[d.parent] = d.spillValue;
-  // keep the largest innermost depressions; contract the rest on typed arrays, then make node objects
-  const parentIx = Int32Array.from(deps, (d) => (d.parent === null ? -1 : d.parent - 1));
-  const kids = Int32Array.from(deps, (d) => d.children.length);
-  const leafVol = Float64Array.from(deps, (d) => (d.children.length ? NaN : d.volume));
-  const keepLeaf = new Uint8Array(N);
-  for (const i of topIndices(leafVol, PONDS_LIMITS.treeLeaves)) keepLeaf[i] = 1;
-  const leafCount = deps.reduce((m, d) => m + (d.children.length ? 0 : 1), 0);
-  const red = reduceSweepTree(parentIx, kids, (i) => keepLeaf[i] === 1, childrenFirst(report));
+  // keep the largest innermost depressions, then make node objects
+  const { red, childSpill, leafCount } = spillTree(deps, PONDS_LIMITS.treeLeaves);
   const nodes: TreeNodeIn[] = Array.from(red.nodes, (i, q) => {
     const d = deps[i];
     const floor = d.children.length ? childSpill[d.id] : d.pitValue;
@@ -266,14 +218,7 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
     csv: 'depressions.csv',
   };
 
-  const hover: HoverLayer[] = [surfaceHover(sd, 'elevation', zu)];
-  if (f === 1) {
-    hover.push({ label: 'water depth', unit: zu, mode: 'exact', b64: packArray(Float32Array.from(dstats.mean)) });
-    hover.push({ label: 'depression', unit: '', mode: 'label', prefix: 'in depression #', b64: packArray(Int32Array.from(R.labels)) });
-  } else {
-    hover.push({ label: 'water depth', unit: zu, mode: 'range', b64: `${packArray(dstats.min)},${packArray(dstats.max)}` });
-    hover.push({ label: 'depression', unit: '', mode: 'label', prefix: 'block centre in depression #', b64: packArray(displayLabels) });
-  }
+  const hover = waterHover(wd, zu, 'depression', 'in depression #', 'block centre in depression #', R.labels, displayLabels);
 
   const fl = report.filters;
   const params = [
@@ -283,10 +228,7 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
     ...(fl.fillOnlyBelow !== null ? [`fill only below ${fmtNum(fl.fillOnlyBelow)} ${vu}`] : []),
     `labels: ${report.labelLevel}`,
   ];
-  const header = report.euler
-    ? commonHeader({ ...report, euler: report.euler }, params.join(', '), ctx.commandLine)
-    : commonHeader({ ...report, euler: { characteristic: 0, pits: 0, passes: 0, peaks: 0, holds: true, outsidePit: false, simplices: [] } }, params.join(', '), ctx.commandLine).filter((h) => h.label !== 'Euler check');
-  header.splice(header.findIndex((h) => h.label === 'Parameters'), 0, { label: 'Units', value: `elevations and depths in ${zu}, areas in ${au}, volumes in ${vu}; horizontal: ${u.horizontal}${u.notes.length ? ` (${u.notes.join(' ')})` : ''}` });
+  const header = waterHeader(report, params, ctx.commandLine, [unitsRow(u, 'elevations and depths')]);
   const t = report.totals, c = report.counts;
   const doc: ReportDoc = {
     command: 'ponds',
@@ -298,10 +240,7 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
     map: {
       svg: map.svg, geometry: map.geometry, frame: sd.frame, markers: markers.length,
       caption: 'Scroll or pinch to zoom, drag to pan. ▽ marks the pit, ➤ the pour point and the way the water leaves. Click an outline, a marker or a row to link them.',
-      toggles: [
-        { id: 'surface', label: 'terrain', on: true }, { id: 'depth', label: 'water depth', on: true }, { id: 'contours', label: 'contours', on: true },
-        { id: 'outlines', label: 'outlines', on: true }, { id: 'markers', label: 'markers', on: true },
-      ],
+      toggles: hydroToggles(),
       hover, xyUnit: sd.xyUnit, geographic: geo,
     },
     treeTitle: 'Spill-level tree',

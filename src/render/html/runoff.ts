@@ -6,25 +6,21 @@
  */
 import type { RunoffResult } from '../../hydro/runoff.js';
 import type { RunoffReport, RunoffDepressionRecord } from '../../report/runoff.js';
-import { mapSvg, mapGeometry, type MapMarker, type MapShape } from '../figures/map.js';
+import { labelBoxes } from '../../hydro/vectors.js';
+import { mapSvg, type MapMarker, type MapShape } from '../figures/map.js';
 import { traceRegion } from '../figures/outline.js';
-import { treeSvg, reduceSweepTree, type TreeNodeIn } from '../figures/tree.js';
-import { blockStats, blockCentreSample, finiteRange } from '../figures/raster.js';
-import { makeRamp } from '../figures/colour.js';
-import { overlay } from '../figures/layers.js';
-import { encodePng, pngDataUri } from '../figures/png.js';
-import { fmtNum, topIndices } from '../figures/scale.js';
-import { RAMPS } from '../figures/theme.js';
-import type { ReportDoc, TableSpec, ReportContext, BuiltReport, HoverLayer } from './model.js';
-import {
-  surfaceDisplay, surfaceLayer, surfaceContours, surfaceHover, displayNotes, commonHeader, readoutNote, valueDecimals, fmtDec, packArray,
-} from './surface.js';
+import { treeSvg, type TreeNodeIn } from '../figures/tree.js';
+import { blockCentreSample } from '../figures/raster.js';
+import { fmtNum } from '../figures/scale.js';
+import type { ReportDoc, TableSpec, ReportContext, BuiltReport } from './model.js';
+import { displayNotes, readoutNote } from './surface.js';
 import { axesLabels } from './survey.js';
+import { dkey, pourAngle, waterDisplay, waterHover, spillTree, waterHeader, unitsRow, hydroToggles } from './hydro.js';
+
+export { dkey } from './hydro.js';
 
 /** Caps for the page: pond outlines (count, vertices, display cells scanned), depressions marked, tree leaves, table rows. */
 export const RUNOFF_LIMITS = { outlines: 1500, outlinePoints: 250_000, tracedCells: 8_000_000, markedDepressions: 400, treeLeaves: 250, tableRows: 5000 };
-
-export const dkey = (id: number): string => `d${id}`;
 
 const STATE_WORD: Record<RunoffDepressionRecord['state'], string> = { full: 'full', partial: 'partly filled', dry: 'dry' };
 
@@ -33,34 +29,9 @@ export function runoffRanking(report: RunoffReport): RunoffDepressionRecord[] {
   return [...report.depressions].sort((a, b) => b.waterVolume - a.waterVolume || b.received - a.received || a.id - b.id);
 }
 
-/** Indices into report.depressions ordered deepest nesting level first (children before their parents). */
-function childrenFirst(deps: readonly RunoffDepressionRecord[]): Int32Array {
-  let maxLevel = 0;
-  for (const d of deps) if (d.level > maxLevel) maxLevel = d.level;
-  const start = new Int32Array(maxLevel + 2);
-  for (const d of deps) start[maxLevel - d.level + 1]++;
-  for (let l = 1; l <= maxLevel + 1; l++) start[l] += start[l - 1];
-  const out = new Int32Array(deps.length);
-  deps.forEach((d, i) => { out[start[maxLevel - d.level]++] = i; });
-  return out;
-}
-
 /** Outlines of the largest ponds at display resolution, linked to the depression that holds them. */
 function pondOutlines(result: RunoffResult, report: RunoffReport, displayBodies: Int32Array, dw: number, dh: number, factor: number, tol: number): MapShape[] {
-  const N = report.ponds.length + 1;
-  const box = new Int32Array(4 * N);
-  for (let b = 0; b < N; b++) box.set([0x7fffffff, 0x7fffffff, -1, -1], 4 * b);
-  for (let r = 0; r < dh; r++) {
-    for (let c = 0; c < dw; c++) {
-      const e = displayBodies[r * dw + c];
-      if (e <= 0) continue;
-      const b = 4 * e;
-      if (c < box[b]) box[b] = c;
-      if (r < box[b + 1]) box[b + 1] = r;
-      if (c > box[b + 2]) box[b + 2] = c;
-      if (r > box[b + 3]) box[b + 3] = r;
-    }
-  }
+  const box = labelBoxes(displayBodies, dw, report.ponds.length);
   const shapes: MapShape[] = [];
   let points = 0, traced = 0;
   const scratch = new Uint8Array((dw + 2) * (dh + 2));
@@ -87,38 +58,25 @@ export function buildRunoffHtml(result: RunoffResult, report: RunoffReport, ctx:
   const g = result.grid;
   const u = report.units;
   const zu = u.elevation, au = u.area, vu = u.volume;
-  const sd = surfaceDisplay(g);
-  const layer = surfaceLayer(sd, { domain: 'terrain', label: `elevation [${zu}]`, underWater: true });
-  const contours = surfaceContours(sd, 10);
-  const dec = valueDecimals(g.values, finiteRange(sd.stats.min)[0], finiteRange(sd.stats.max)[1]);
-  const fz = (x: number | null) => fmtDec(x, dec);
-  const geo = sd.geographic;
-  const hu = /^(m|ft|us-ft|km|deg)\b/.exec(u.horizontal)?.[1];
-  const xyUnit = sd.xyUnit || (hu === 'deg' ? '°' : hu) || (g.crs ? 'CRS units' : 'input units');
-
   // water depth after the routing
   const R = result.rasters;
+  const wd = waterDisplay(g, zu, R.depth);
+  const { sd, layer, contours, dec, fz, dmax, depthRamp, dTop, depthPng } = wd;
+  const geo = sd.geographic;
   const f = sd.frame.factor;
-  const dstats = blockStats(R.depth, g.width, g.height, f);
-  const [, dmax] = finiteRange(dstats.max);
-  const depthRamp = makeRamp(RAMPS.depth.name, RAMPS.depth.lo, RAMPS.depth.hi);
-  const dTop = dmax > 0 ? dmax : 1;
-  const depthPng = pngDataUri(encodePng(overlay(dstats.mean, depthRamp, 0, dTop, 0.88), sd.frame.dw, sd.frame.dh, 4));
 
   const deps = report.depressions;
   const ranked = runoffRanking(report);
   const displayBodies = f === 1 ? R.bodies : blockCentreSample(R.bodies, g.width, g.height, f);
-  const kfig = mapGeometry(g.width, g.height, 0).k;
-  const shapes = pondOutlines(result, report, displayBodies, sd.frame.dw, sd.frame.dh, f, Math.max(0.3, 0.6 / (kfig * f)));
+  const shapes = pondOutlines(result, report, displayBodies, sd.frame.dw, sd.frame.dh, f, wd.tol);
   const into = (d: RunoffDepressionRecord) => (d.into === 'outside' ? 'the outside' : `#${d.into}`);
   const marked = ranked.slice(0, RUNOFF_LIMITS.markedDepressions);
   const markers: MapMarker[] = [];
   for (const d of marked) {
     if (d.children.length === 0) markers.push({ key: dkey(d.id), kind: 'pit', u: d.pit.col + 0.5, v: d.pit.row + 0.5, title: `depression #${d.id}: pit ${fz(d.pitValue)} ${zu}; ${STATE_WORD[d.state]}` });
     // the pour arrow points from the pass to the cell the overflow runs into
-    const angle = (Math.atan2(d.pour.to.row - d.pour.row, d.pour.to.col - d.pour.col) * 180) / Math.PI;
     markers.push({
-      key: dkey(d.id), kind: 'pour', u: d.pour.col + 0.5, v: d.pour.row + 0.5, angle,
+      key: dkey(d.id), kind: 'pour', u: d.pour.col + 0.5, v: d.pour.row + 0.5, angle: pourAngle(d),
       title: d.state === 'full'
         ? `depression #${d.id}: full at ${fz(d.spillValue)} ${zu}; passes ${fmtNum(d.passedOn, 5)} ${vu} on into ${into(d)}`
         : `depression #${d.id}: ${STATE_WORD[d.state]} (${fmtNum(100 * d.fillFraction, 3)} %); would spill here at ${fz(d.spillValue)} ${zu} into ${into(d)}`,
@@ -161,16 +119,7 @@ export function buildRunoffHtml(result: RunoffResult, report: RunoffReport, ctx:
   });
 
   // spill-level tree, as on the ponds page, with how full each depression is
-  const N = deps.length;
-  const childSpill = new Float64Array(N + 1).fill(-Infinity);
-  for (const d of deps) if (d.parent !== null && d.spillValue > childSpill[d.parent]) childSpill[d.parent] = d.spillValue;
-  const parentIx = Int32Array.from(deps, (d) => (d.parent === null ? -1 : d.parent - 1));
-  const kids = Int32Array.from(deps, (d) => d.children.length);
-  const leafRank = Float64Array.from(deps, (d) => (d.children.length ? NaN : d.volume));
-  const keepLeaf = new Uint8Array(N);
-  for (const i of topIndices(leafRank, RUNOFF_LIMITS.treeLeaves)) keepLeaf[i] = 1;
-  const leafCount = deps.reduce((m, d) => m + (d.children.length ? 0 : 1), 0);
-  const red = reduceSweepTree(parentIx, kids, (i) => keepLeaf[i] === 1, childrenFirst(deps));
+  const { red, childSpill, leafCount } = spillTree(deps, RUNOFF_LIMITS.treeLeaves);
   const nodes: TreeNodeIn[] = Array.from(red.nodes, (i, q) => {
     const d = deps[i];
     const floor = d.children.length ? childSpill[d.id] : d.pitValue;
@@ -215,14 +164,7 @@ export function buildRunoffHtml(result: RunoffResult, report: RunoffReport, ctx:
     csv: 'runoff.csv',
   };
 
-  const hover: HoverLayer[] = [surfaceHover(sd, 'elevation', zu)];
-  if (f === 1) {
-    hover.push({ label: 'water depth', unit: zu, mode: 'exact', b64: packArray(Float32Array.from(dstats.mean)) });
-    hover.push({ label: 'pond', unit: '', mode: 'label', prefix: 'pond ', b64: packArray(Int32Array.from(R.bodies)) });
-  } else {
-    hover.push({ label: 'water depth', unit: zu, mode: 'range', b64: `${packArray(dstats.min)},${packArray(dstats.max)}` });
-    hover.push({ label: 'pond', unit: '', mode: 'label', prefix: 'block centre in pond ', b64: packArray(displayBodies) });
-  }
+  const hover = waterHover(wd, zu, 'pond', 'pond ', 'block centre in pond ', R.bodies, displayBodies);
 
   const ro = report.runoff;
   const params = [
@@ -230,13 +172,10 @@ export function buildRunoffHtml(result: RunoffResult, report: RunoffReport, ctx:
     ...(ro.initialLevel ? [`initial water level ${ro.initialLevel.source}`] : []),
     `nodata as ${report.nodataAs}`,
   ];
-  const header = report.euler
-    ? commonHeader({ ...report, euler: report.euler }, params.join(', '), ctx.commandLine)
-    : commonHeader({ ...report, euler: { characteristic: 0, pits: 0, passes: 0, peaks: 0, holds: true, outsidePit: false, simplices: [] } }, params.join(', '), ctx.commandLine).filter((h) => h.label !== 'Euler check');
-  header.splice(header.findIndex((h) => h.label === 'Parameters'), 0,
-    { label: 'Units', value: `elevations and levels in ${zu}, areas in ${au}, volumes in ${vu}; horizontal: ${u.horizontal}${u.notes.length ? ` (${u.notes.join(' ')})` : ''}` },
+  const header = waterHeader(report, params, ctx.commandLine, [
+    unitsRow(u, 'elevations and levels'),
     { label: 'Water balance', value: `input ${fmtNum(w.input, 6)} = ponded ${fmtNum(w.ponded, 6)} + outflow ${fmtNum(w.outflow, 6)} ${vu}; relative error ${w.balanceError.toExponential(1)}`, status: w.balanceError <= 1e-9 ? 'ok' : 'fail' },
-  );
+  ]);
   const c = report.counts;
   const doc: ReportDoc = {
     command: 'runoff',
@@ -248,10 +187,7 @@ export function buildRunoffHtml(result: RunoffResult, report: RunoffReport, ctx:
     map: {
       svg: map.svg, geometry: map.geometry, frame: sd.frame, markers: markers.length,
       caption: 'Scroll or pinch to zoom, drag to pan. ▽ marks a pit, ➤ a pour point, where a full depression passes its water on. Click an outline, a marker or a row to link them.',
-      toggles: [
-        { id: 'surface', label: 'terrain', on: true }, { id: 'depth', label: 'water depth', on: true }, { id: 'contours', label: 'contours', on: true },
-        { id: 'outlines', label: 'outlines', on: true }, { id: 'markers', label: 'markers', on: true },
-      ],
+      toggles: hydroToggles(),
       hover, xyUnit: sd.xyUnit, geographic: geo,
     },
     treeTitle: 'Spill-level tree',
