@@ -1,4 +1,5 @@
 /** Run the built `sill` binary (npm test builds it first). */
+import { it, expect } from 'vitest';
 import { spawnSync } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
 import { existsSync, mkdtempSync } from 'node:fs';
@@ -15,4 +16,22 @@ export function sill(args: string[], opts: { cwd?: string } = {}): { code: numbe
 
 export function tempDir(prefix = 'sill-test-'): string {
   return mkdtempSync(join(tmpdir(), prefix));
+}
+
+/**
+ * One test per case: `sill ARGS -o OUT` fails as bad input — exit 2, nothing on stdout, one line
+ * on stderr matching the pattern, and no output folder (OUT is a folder named after the case in `dir()`).
+ */
+export function itRejects(cases: [string, () => string[], RegExp][], dir: () => string): void {
+  for (const [name, args, msg] of cases) {
+    it(name, () => {
+      const out = join(dir(), `bad-${name.replace(/\W+/g, '-')}`);
+      const r = sill([...args(), '-o', out]);
+      expect(r.code).toBe(2);
+      expect(r.stdout).toBe('');
+      expect(r.stderr.trim().split('\n')).toHaveLength(1);
+      expect(r.stderr).toMatch(msg);
+      expect(existsSync(out)).toBe(false);
+    });
+  }
 }

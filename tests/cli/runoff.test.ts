@@ -9,7 +9,7 @@ import { describe, it, expect, beforeAll } from 'vitest';
 import { readFileSync, existsSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { spawnSync } from 'node:child_process';
-import { sill, tempDir } from './run.js';
+import { sill, tempDir, itRejects } from './run.js';
 import { larkmoorDem } from '../../src/demo/generate.js';
 import { writeGeoTiff, readGeoTiff } from '../../src/io/index.js';
 
@@ -232,17 +232,7 @@ print(json.dumps(out))
       ['persistence filter', () => ['runoff', dem, '--depth', '4mm', '--min-persistence', '1'], /--min-persistence does not apply/],
       ['--stage-volume of no depression', () => ['runoff', dem, '--depth', '4mm', '--stage-volume', '99999'], /--stage-volume 99999/],
     ];
-    for (const [name, args, msg] of cases) {
-      it(name, () => {
-        const out = join(dir, `bad-${name.replace(/\W+/g, '-')}`);
-        const r = sill([...args(), '-o', out]);
-        expect(r.code).toBe(2);
-        expect(r.stdout).toBe('');
-        expect(r.stderr.trim().split('\n')).toHaveLength(1);
-        expect(r.stderr).toMatch(msg);
-        expect(existsSync(out)).toBe(false);
-      });
-    }
+    itRejects(cases, () => dir);
   });
 
   it('sill demo routes 40 mm over the demo DEM, with a report', () => {

@@ -15,31 +15,8 @@ import fc from 'fast-check';
 import { runoff, type RunoffResult } from '../../src/hydro/runoff.js';
 import { runoffReport } from '../../src/report/runoff.js';
 import { Grid } from '../../src/surface/grid.js';
-import { bruteFill, randomGrid, NEIGHBOURS } from './helpers.js';
-
-const gridArb = fc
-  .record({
-    w: fc.integer({ min: 3, max: 12 }),
-    h: fc.integer({ min: 3, max: 12 }),
-    levels: fc.constantFrom(0, 2, 3, 5, 9),
-    holeRate: fc.constantFrom(0, 0, 0.08, 0.25),
-    seed: fc.integer(),
-    conn: fc.constantFrom<4 | 6 | 8>(4, 6, 8),
-    outlet: fc.boolean(),
-    geo: fc.boolean(),
-  })
-  .map(({ w, h, levels, holeRate, seed, conn, outlet, geo }) => {
-    const g0 = randomGrid(seed, w, h, levels, holeRate);
-    const g = geo
-      ? new Grid({ width: w, height: h, values: g0.values, transform: [10, 0.5, 0, 60, 0, -0.5], crs: { epsg: 4326, geographic: true, linearUnit: 'degree' } })
-      : new Grid({ width: w, height: h, values: g0.values, transform: [0, 2, 0, 0, 0, -3], crs: { epsg: 32633, geographic: false, linearUnit: 'metre' } });
-    return { g, conn, outlet };
-  })
-  .filter(({ g }) => {
-    let lo = Infinity, hi = -Infinity;
-    for (const z of g.values) if (z === z) { lo = Math.min(lo, z); hi = Math.max(hi, z); }
-    return hi > lo;
-  });
+import { bruteFill, NEIGHBOURS } from './helpers.js';
+import { gridArb } from './arbitraries.js';
 
 /** A runoff field: uniform, or per cell in [0, scale) with some cells nodata. */
 const fieldArb = fc.record({ seed: fc.integer(), scale: fc.constantFrom(0.01, 0.3, 2, 20), holes: fc.constantFrom(0, 0.2), uniform: fc.boolean() });
