@@ -155,6 +155,27 @@ function lowerNeighbours(values: Float32Array | Float64Array, w: number, h: numb
   }
 }
 
+/** The union-find root of cell `j` in the interleaved cell array, halving the path on the way. */
+function findRoot(cv: Int32Array, j: number): number {
+  let x = j;
+  for (;;) {
+    const p = cv[2 * x];
+    if (p < 0) return x;
+    const gp = cv[2 * p];
+    if (gp < 0) return p;
+    cv[2 * x] = gp;
+    x = gp;
+  }
+}
+
+/** Add root `x` (reached through neighbour `j`) to the first `nr` roots unless it is there; the new count. */
+function addRoot(roots: Int32Array, ents: Int32Array, nr: number, x: number, j: number): number {
+  for (let t = 0; t < nr; t++) if (roots[t] === x) return nr;
+  roots[nr] = x;
+  ents[nr] = j;
+  return nr + 1;
+}
+
 /**
  * @param cx    the grid complex (open boundary) — its ω-adjacency and neighbour graph are used
  * @param order ascending (value, index) order of the valid cells (src/morse/order.ts)
@@ -211,18 +232,7 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array, areas?: { 
         const q = 31 - Math.clz32(rep & -rep);
         rep &= rep - 1;
         const j = v + roff[q];
-        let x = j;
-        for (;;) {
-          const p = cv[2 * x];
-          if (p < 0) break;
-          const gp = cv[2 * p];
-          if (gp < 0) { x = p; break; }
-          cv[2 * x] = gp;
-          x = gp;
-        }
-        let t = 0;
-        while (t < nr && roots[t] !== x) t++;
-        if (t === nr) { roots[nr] = x; ents[nr++] = j; }
+        nr = addRoot(roots, ents, nr, findRoot(cv, j), j);
       }
     } else {
       const z = values[v];
@@ -230,18 +240,7 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array, areas?: { 
       for (let q = 0; q < k; q++) {
         const j = nbr[q], y = values[j];
         if (!(y < z || (y === z && j < v))) continue;
-        let x = j;
-        for (;;) {
-          const p = cv[2 * x];
-          if (p < 0) break;
-          const gp = cv[2 * p];
-          if (gp < 0) { x = p; break; }
-          cv[2 * x] = gp;
-          x = gp;
-        }
-        let t = 0;
-        while (t < nr && roots[t] !== x) t++;
-        if (t === nr) { roots[nr] = x; ents[nr++] = j; }
+        nr = addRoot(roots, ents, nr, findRoot(cv, j), j);
       }
     }
     const atOutlet = (info & INFO_OUTLET) !== 0;
