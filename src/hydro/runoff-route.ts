@@ -281,24 +281,39 @@ export function fillSpillMerge(t: RoutingTree, direct: Float64Array): RoutingRes
   const setFull = (k: number): void => { full[k] = 1; const p = parent[k]; jump[k] = p > 0 ? p : k; };
   const isLeaf = (k: number): boolean => childStart[k] === childStart[k + 1];
 
-  // fill a whole subtree (its nodes not yet full), each node's layer to the brim
+  /**
+   * Fill the whole subtree of c (its nodes not yet full), each node's layer to the brim, with water
+   * entering it at leaf e. The water climbs from e to c; on the way, every node's children that
+   * are not yet full fill from their full sibling over the pass, entering each at its entry leaf
+   * and climbing inside it in the same way. That sibling-to-sibling water is booked as received
+   * by the child's subtree (mark at its entry leaf, taken off at the node where the siblings meet),
+   * so that every node filled here received its room, and the nodes on a path passed the rest on.
+   * Each node is filled once: O(nodes filled · log nodes).
+   */
   let fillStack = new Int32Array(256);
-  const fillSubtree = (c: number): void => {
+  const fillSubtree = (c: number, e: number): void => {
     let sp = 0;
-    fillStack[sp++] = c;
+    fillStack[sp++] = c; fillStack[sp++] = e;
     while (sp > 0) {
-      const q = fillStack[--sp];
-      if (full[q]) continue;
-      const a = childStart[q], b = childStart[q + 1];
-      const brim = a === b ? cap[q] : layer[q];
-      add(q, brim - own[q]);
-      own[q] = brim;
-      setFull(q);
-      for (let i = a; i < b; i++) {
-        const ch = children[i];
-        if (full[ch]) continue;
-        if (sp === fillStack.length) { const f = new Int32Array(2 * sp); f.set(fillStack); fillStack = f; }
-        fillStack[sp++] = ch;
+      const from = fillStack[--sp], top = fillStack[--sp];
+      if (full[top]) continue;
+      // the full nodes below the first open one on the path hold no room
+      for (let q = lowestOpen(from); ; q = parent[q]) {
+        const a = childStart[q], b = childStart[q + 1];
+        for (let i = a; i < b; i++) {
+          const ch = children[i];
+          if (full[ch]) continue; // full already, or the child on the path (filled just before)
+          const r = cap[ch] - held(ch);
+          const ce = entryLeaf[ch];
+          mark[ce] += r; mark[q] -= r;
+          if (sp + 2 > fillStack.length) { const f = new Int32Array(2 * fillStack.length); f.set(fillStack); fillStack = f; }
+          fillStack[sp++] = ch; fillStack[sp++] = ce;
+        }
+        const brim = a === b ? cap[q] : layer[q];
+        add(q, brim - own[q]);
+        own[q] = brim;
+        setFull(q);
+        if (q === top) break;
       }
     }
   };
@@ -327,7 +342,7 @@ export function fillSpillMerge(t: RoutingTree, direct: Float64Array): RoutingRes
           const e = entryLeaf[c];
           if (x >= r) {
             mark[e] += r; mark[y] -= r;
-            fillSubtree(c);
+            fillSubtree(c, e);
             x -= r;
             if (!(x > 0)) return 0;
           } else {
