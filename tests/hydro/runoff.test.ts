@@ -345,6 +345,48 @@ describe('routing details of the method', () => {
     checkBalance(q);
     expect([q.route.stored[q.hierarchy.node[NE]], q.route.stored[q.hierarchy.node[SE]], q.route.stored[q.hierarchy.node[W]]]).toEqual([5, 7, 3]);
   });
+
+  it('overflow that fills a pair of nested depressions at once is received by both: the one it enters and the sibling it spills into', () => {
+    // 8 × 9 cells of 2 m × 3 m (6 m²), connectivity 4, nodata as walls (a random DEM of the property tests).
+    // Depression P (spill 2) holds a pair meeting at 1: D1 (pit (5, 4)) and D2 (pit (4, 6)), 6 m³ each, and a flat
+    // pit of no volume at (2, 7). Rain on that cell only overflows into P at the cell next to D2; with more than
+    // the pair can hold, D2 fills, passes 6 on to D1, which fills too, and the rest stands over both in P.
+    const _ = null;
+    const g = gridOf(8, 9, [
+      _, _, 3, 0, 0, _, 0, 1,
+      4, 2, 4, 3, 1, 3, 1, 2,
+      1, 3, _, 1, 3, 4, 3, 2,
+      4, 3, _, 1, 2, 2, 2, 1,
+      1, 2, 0, 1, 3, 0, 2, 1,
+      0, 0, 0, 3, 2, 1, 3, 4,
+      4, 1, 4, 1, 0, 1, 4, 3,
+      2, 3, 1, 1, 2, 4, 2, _,
+      0, 2, 3, 2, 0, 2, 4, 2,
+    ], { transform: [0, 2, 0, 0, 0, -3], crs: UTM });
+    const rain = (depth: number) => new Grid({ width: 8, height: 9, values: g.values.map((_z, i) => (i === 7 * 8 + 2 ? depth : NaN)), transform: g.transform, crs: UTM });
+    const opts = { connectivity: 4 as const, nodataOutlet: false, euler: false };
+    const pitAt = (rep: ReturnType<typeof runoffReport>['report'], c: number, r: number) => rep.depressions.find((d) => d.pit.col === c && d.pit.row === r && d.children.length === 0)!;
+    // [depth on the cell, D1 received/held/passed on, D2 received/held/passed on, P's water]: 9 m³ fill D2 and give D1 3;
+    // 30 m³ fill both (the pair at once) and leave 18 over them in P
+    for (const [depth, d1, d2, p] of [[1.5, [3, 3, 0], [9, 6, 3], 9], [5, [6, 6, 0], [12, 6, 6], 30]] as const) {
+      const { result, report } = runoffReport(g, { depthRaster: rain(depth), ...opts });
+      checkBalance(result);
+      const D1 = pitAt(report, 5, 4), D2 = pitAt(report, 4, 6);
+      expect(D1.parent).toBe(D2.parent);
+      const P = report.depressions[D1.parent! - 1];
+      expect([D1.volume, D2.volume]).toEqual([6, 6]);
+      for (const [d, want] of [[D1, d1], [D2, d2]] as const) {
+        expect(d.received).toBeCloseTo(want[0], 12);
+        expect(d.waterVolume).toBeCloseTo(want[1], 12);
+        expect(d.passedOn).toBeCloseTo(want[2], 12);
+        // the bookkeeping of every depression: received = held + passed on
+        expect(d.received).toBeCloseTo(d.waterVolume + d.passedOn, 12);
+      }
+      expect(P.received).toBeCloseTo(p, 12);
+      expect(P.waterVolume).toBeCloseTo(p, 12);
+      expect(P.passedOn).toBeCloseTo(0, 12);
+    }
+  });
 });
 
 describe('runoff input', () => {
