@@ -63,48 +63,6 @@ export function sublevelOffsets(conn: 4 | 6 | 8): [number, number][] {
 }
 
 
-/**
- * For every set `mask` of ring positions already swept: one ring position per group of swept
- * positions that are already in one component — joined by graph edges between swept positions
- * (those edges are in the sublevel set) — counting only groups that hold a graph neighbour of
- * the centre. One union-find lookup per group is then enough.
- */
-export function groupRepresentatives(conn: 4 | 6 | 8): { dc: number[]; dr: number[]; reps: Uint8Array } {
-  const dc = conn === 6 ? [1, 1, 0, -1, -1, 0] : [1, 1, 0, -1, -1, -1, 0, 1];
-  const dr = conn === 6 ? [0, 1, 1, 0, -1, -1] : [0, 1, 1, 1, 0, -1, -1, -1];
-  const k = dc.length;
-  const adjacent = (a: number, b: number): boolean => {
-    const x = dc[a] - dc[b], y = dr[a] - dr[b], ax = Math.abs(x), ay = Math.abs(y);
-    if (conn === 8) return Math.max(ax, ay) === 1;
-    if (conn === 4) return ax + ay === 1;
-    return ax + ay === 1 || (x === y && ax === 1);
-  };
-  const isNbr = (q: number): boolean => (conn === 4 ? dc[q] === 0 || dr[q] === 0 : true);
-  const reps = new Uint8Array(1 << k);
-  const lab = new Int8Array(k);
-  for (let mask = 0; mask < 1 << k; mask++) {
-    for (let q = 0; q < k; q++) lab[q] = mask & (1 << q) ? q : -1;
-    for (let changed = true; changed;) {
-      changed = false;
-      for (let a = 0; a < k; a++) {
-        if (lab[a] < 0) continue;
-        for (let b = 0; b < k; b++) {
-          if (lab[b] < 0 || lab[b] <= lab[a] || !adjacent(a, b)) continue;
-          lab[b] = lab[a];
-          changed = true;
-        }
-      }
-    }
-    let out = 0;
-    for (let root = 0; root < k; root++) {
-      if (lab[root] !== root) continue;
-      for (let q = 0; q < k; q++) if (lab[q] === root && isNbr(q)) { out |= 1 << q; break; }
-    }
-    reps[mask] = out;
-  }
-  return { dc, dr, reps };
-}
-
 /** Where the sweep leaves the values it read ahead (see sweepDepressions). */
 export let prefetchSink = 0;
 
@@ -114,7 +72,7 @@ const INFO_EDGE = 1 << 9; // on the grid edge: neighbours are listed by the comp
 
 /**
  * Info words of all cells, written into the odd entries of `cv`: bit q (ring position q of
- * groupRepresentatives) is set when that neighbour comes before the cell in the (value, index)
+ * the sweep stencil's representatives) is set when that neighbour comes before the cell in the (value, index)
  * order; INFO_OUTLET and INFO_EDGE as named. Each neighbouring pair is compared once: a cell
  * compares itself with its forward neighbours (later in storage order), and takes the backward
  * bits from its backward neighbours' forward bits, negated (the order is total). A nodata cell
@@ -189,10 +147,9 @@ export function sweepDepressions(cx: GridComplex, order: Uint32Array, areas?: { 
   if (omegaAdj === null) throw new Error('internal: the depression sweep needs the open boundary');
   const m = order.length;
 
-  const { dc, dr, reps } = groupRepresentatives(cx.connectivity);
-  const rs = dc.length;
-  const roff = new Int32Array(rs);
-  for (let q = 0; q < rs; q++) roff[q] = dr[q] * w + dc[q];
+  // one ring position per group of already-joined swept neighbours: the merge-tree sweep's stencil
+  const stencil = cx.sweepStencil(true);
+  const reps = stencil.representatives, roff = stencil.offsets, rs = roff.length;
 
   // cell i: cv[2i] union-find parent (a cell, or −1 − node at a root), cv[2i + 1] label. Entry 2n
   // is ω's root (node 0). Before the sweep, in storage order (cheap: sequential), the label slot

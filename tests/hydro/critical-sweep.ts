@@ -5,7 +5,7 @@
  * cells only (with a union-find over pits) and labels the other cells from their receivers.
  */
 import type { GridComplex } from '../../src/surface/complex.js';
-import { groupRepresentatives, type DepressionSweep } from '../../src/hydro/sweep.js';
+import { type DepressionSweep } from '../../src/hydro/sweep.js';
 
 /** Codes of the per-cell receiver byte (critical-cell sweep). Bits 0–3: the receiver. */
 const RECV_NONE = 15; // nodata, or a pit (no lower neighbour)
@@ -35,12 +35,8 @@ export function sweepByCriticalCells(cx: GridComplex, sort: (values: Float32Arra
   const n = cx.n, w = cx.w, h = cx.h;
   const omegaAdj = cx.omegaAdj;
   if (omegaAdj === null) throw new Error('internal: the depression sweep needs the open boundary');
-  const { dc, dr, reps } = groupRepresentatives(cx.connectivity);
-  const rs = dc.length;
-  const roff = new Int32Array(rs);
-  for (let q = 0; q < rs; q++) roff[q] = dr[q] * w + dc[q];
-  let nbrMask = 0;
-  for (let q = 0; q < rs; q++) if (cx.connectivity !== 4 || dc[q] === 0 || dr[q] === 0) nbrMask |= 1 << q;
+  const stencil = cx.sweepStencil(true);
+  const reps = stencil.representatives, roff = stencil.offsets, rs = roff.length, nbrMask = stencil.nbrMask;
   const nbr = new Int32Array(cx.maxDegree + 1);
   const w1 = w - 1, h1 = h - 1;
 
