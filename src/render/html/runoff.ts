@@ -30,7 +30,7 @@ export function runoffRanking(report: RunoffReport): RunoffDepressionRecord[] {
 }
 
 /** Outlines of the largest ponds at display resolution, linked to the depression that holds them. */
-function pondOutlines(result: RunoffResult, report: RunoffReport, displayBodies: Int32Array, dw: number, dh: number, factor: number, tol: number): MapShape[] {
+function pondOutlines(report: RunoffReport, displayBodies: Int32Array, dw: number, dh: number, factor: number, tol: number): MapShape[] {
   const box = labelBoxes(displayBodies, dw, report.ponds.length);
   const shapes: MapShape[] = [];
   let points = 0, traced = 0;
@@ -50,7 +50,6 @@ function pondOutlines(result: RunoffResult, report: RunoffReport, displayBodies:
       title: `pond ${p.id}: ${fmtNum(p.volume, 5)} ${vu} at level ${fmtNum(p.level, 7)} ${zu}${p.depression !== null ? `, in depression #${p.depression}` : ''}`,
     });
   }
-  void result;
   return shapes;
 }
 
@@ -68,7 +67,7 @@ export function buildRunoffHtml(result: RunoffResult, report: RunoffReport, ctx:
   const deps = report.depressions;
   const ranked = runoffRanking(report);
   const displayBodies = f === 1 ? R.bodies : blockCentreSample(R.bodies, g.width, g.height, f);
-  const shapes = pondOutlines(result, report, displayBodies, sd.frame.dw, sd.frame.dh, f, wd.tol);
+  const shapes = pondOutlines(report, displayBodies, sd.frame.dw, sd.frame.dh, f, wd.tol);
   const into = (d: RunoffDepressionRecord) => (d.into === 'outside' ? 'the outside' : `#${d.into}`);
   const marked = ranked.slice(0, RUNOFF_LIMITS.markedDepressions);
   const markers: MapMarker[] = [];
