@@ -1,0 +1,193 @@
+/**
+ * Streamed text output: a buffered sink that writes fixed-size chunks to a file descriptor, an
+ * exact number formatter, lazy row lists, and a JSON serialiser that writes a value tree holding
+ * such lists piece by piece — byte for byte what `JSON.stringify(value, null, indent)` would
+ * return, without ever holding the document (or one object per row) in memory.
+ */
+import { closeSync, openSync, writeSync } from 'node:fs';
+
+/** A buffered text sink: strings are gathered and written as UTF-8 in chunks of about `chunk` characters. */
+export class TextSink {
+  private parts: string[] = [];
+  private size = 0;
+  private closed = false;
+
+  /** `fd` is an open file descriptor (1 for stdout); `owned` closes it with the sink. */
+  constructor(readonly fd: number, private readonly owned = false, private readonly chunk = 1 << 18) {}
+
+  /** A sink writing a new file at `path` (truncated if it exists). */
+  static file(path: string): TextSink {
+    return new TextSink(openSync(path, 'w'), true);
+  }
+
+  write(s: string): void {
+    this.parts.push(s);
+    this.size += s.length;
+    if (this.size >= this.chunk) this.flush();
+  }
+
+  /** Write what is buffered. */
+  flush(): void {
+    if (this.size === 0 && this.parts.length === 0) return;
+    const buf = Buffer.from(this.parts.length === 1 ? this.parts[0] : this.parts.join(''), 'utf8');
+    this.parts = [];
+    this.size = 0;
+    writeAll(this.fd, buf);
+  }
+
+  /** Flush, and close the descriptor when the sink opened it. */
+  close(): void {
+    if (this.closed) return;
+    this.flush();
+    this.closed = true;
+    if (this.owned) closeSync(this.fd);
+  }
+}
+
+/** writeSync until every byte is out; a non-blocking pipe that is full (EAGAIN) is waited for. */
+function writeAll(fd: number, buf: Buffer): void {
+  let off = 0;
+  while (off < buf.length) {
+    try {
+      off += writeSync(fd, buf, off, buf.length - off);
+    } catch (e) {
+      if ((e as NodeJS.ErrnoException).code !== 'EAGAIN') throw e;
+      Atomics.wait(WAIT, 0, 0, 2);
+    }
+  }
+}
+const WAIT = new Int32Array(new SharedArrayBuffer(4));
+
+/**
+ * A finite double as the shortest decimal text that parses back to the same double (the
+ * ECMAScript Number-to-String algorithm guarantees shortest round-trip digits), with −0 kept as
+ * "-0"; non-finite values as `nonFinite` (JSON: null).
+ */
+export function formatNumber(x: number, nonFinite = 'null'): string {
+  if (x === 0) return 1 / x < 0 ? '-0' : '0';
+  if (x !== x || x === Infinity || x === -Infinity) return nonFinite;
+  return '' + x;
+}
+
+/**
+ * A list whose records are made on demand from columns: `at(i)` builds record i. Iterable, and
+ * `toJSON` materialises it (for callers who want plain arrays; the streamed writers never do).
+ */
+export class Rows<T> implements Iterable<T> {
+  constructor(readonly length: number, readonly at: (i: number) => T, readonly options: { compact?: boolean } = {}) {}
+
+  *[Symbol.iterator](): Iterator<T> {
+    for (let i = 0; i < this.length; i++) yield this.at(i);
+  }
+
+  toArray(): T[] {
+    const out = new Array<T>(this.length);
+    for (let i = 0; i < this.length; i++) out[i] = this.at(i);
+    return out;
+  }
+
+  map<U>(f: (r: T, i: number) => U): U[] {
+    const out = new Array<U>(this.length);
+    for (let i = 0; i < this.length; i++) out[i] = f(this.at(i), i);
+    return out;
+  }
+
+  toJSON(): T[] {
+    return this.toArray();
+  }
+}
+
+/** Rows that the JSON writer puts one compact record a line even inside indented output. */
+export function compactRows<T>(length: number, at: (i: number) => T): Rows<T> {
+  return new Rows(length, at, { compact: true });
+}
+
+/**
+ * Write `value` as JSON into `sink`: the same text as `JSON.stringify(value, null, indent)`
+ * (indent 0: compact), except that −0 is written "-0" and `Rows` are written one record at a time
+ * (compact rows one record a line).
+ */
+export function writeJson(sink: TextSink, value: unknown, indent = 0): void {
+  const gap = ' '.repeat(indent);
+  if (!writeValue(sink, value, gap, '')) sink.write('null');
+}
+
+/** Returns false when the value has no JSON form here (undefined, a function, a symbol). */
+function writeValue(sink: TextSink, value: unknown, gap: string, ind: string): boolean {
+  if (value !== null && typeof value === 'object' && typeof (value as { toJSON?: unknown }).toJSON === 'function' && !(value instanceof Rows)) {
+    value = (value as { toJSON(): unknown }).toJSON();
+  }
+  switch (typeof value) {
+    case 'number': sink.write(formatNumber(value)); return true;
+    case 'string': sink.write(JSON.stringify(value)); return true;
+    case 'boolean': sink.write(value ? 'true' : 'false'); return true;
+    case 'bigint': throw new TypeError('writeJson: a BigInt has no JSON form');
+    case 'undefined': case 'function': case 'symbol': return false;
+  }
+  if (value === null) { sink.write('null'); return true; }
+  if (value instanceof Rows) { writeRows(sink, value, gap, ind); return true; }
+  if (Array.isArray(value)) { writeArray(sink, value.length, (i) => value[i], gap, ind, false); return true; }
+  writeObject(sink, value as Record<string, unknown>, gap, ind);
+  return true;
+}
+
+function writeRows(sink: TextSink, rows: Rows<unknown>, gap: string, ind: string): void {
+  writeArray(sink, rows.length, rows.at, gap, ind, !!rows.options.compact);
+}
+
+function writeArray(sink: TextSink, n: number, at: (i: number) => unknown, gap: string, ind: string, compact: boolean): void {
+  if (n === 0) { sink.write('[]'); return; }
+  const inner = ind + gap;
+  const sep = gap ? ',\n' + inner : ',';
+  sink.write(gap ? '[\n' + inner : '[');
+  for (let i = 0; i < n; i++) {
+    if (i) sink.write(sep);
+    const ok = compact ? writeValue(sink, at(i), '', '') : writeValue(sink, at(i), gap, inner);
+    if (!ok) sink.write('null');
+  }
+  sink.write(gap ? '\n' + ind + ']' : ']');
+}
+
+function writeObject(sink: TextSink, obj: Record<string, unknown>, gap: string, ind: string): void {
+  const inner = ind + gap;
+  let first = true;
+  for (const key of Object.keys(obj)) {
+    const v = obj[key];
+    if (v === undefined || typeof v === 'function' || typeof v === 'symbol') continue;
+    sink.write(first ? (gap ? '{\n' + inner : '{') : (gap ? ',\n' + inner : ','));
+    first = false;
+    sink.write(JSON.stringify(key) + (gap ? ': ' : ':'));
+    if (!writeValue(sink, v, gap, inner)) sink.write('null');
+  }
+  sink.write(first ? '{}' : (gap ? '\n' + ind + '}' : '}'));
+}
+
+/** A CSV cell: numbers exactly (non-finite empty), strings quoted when they hold `",\n\r`. */
+export function csvCell(v: unknown): string {
+  if (v === null || v === undefined) return '';
+  if (typeof v === 'number') return formatNumber(v, '');
+  if (typeof v === 'boolean') return v ? 'true' : 'false';
+  const s = String(v);
+  return /[",\n\r]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
+}
+
+/** CSV straight from columns: a header row, then row i from each column's accessor `(i) => value`. */
+export function writeCsv(sink: TextSink, n: number, columns: readonly (readonly [string, (i: number) => unknown])[]): void {
+  sink.write(columns.map(([h]) => csvCell(h)).join(',') + '\n');
+  const m = columns.length;
+  for (let i = 0; i < n; i++) {
+    let line = csvCell(columns[0][1](i));
+    for (let c = 1; c < m; c++) line += ',' + csvCell(columns[c][1](i));
+    sink.write(line + '\n');
+  }
+}
+
+/** Write into a new file at `path` through a sink, closing it whatever happens. */
+export function withFileSink(path: string, f: (sink: TextSink) => void): void {
+  const sink = TextSink.file(path);
+  try {
+    f(sink);
+  } finally {
+    sink.close();
+  }
+}
