@@ -10,15 +10,14 @@ import { writeFileSync, readFileSync, existsSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { spawnSync } from 'node:child_process';
 import { sill, tempDir, itRejects } from './run.js';
+import { PYTHON as PY, runs } from '../prereq.js';
 import { larkmoorDem } from '../../src/demo/generate.js';
 import { writeGeoTiff, readGeoTiff } from '../../src/io/index.js';
 import { Grid } from '../../src/surface/grid.js';
 import { pondsReport } from '../../src/report/ponds.js';
 
-const PY = '/usr/bin/python3';
-const has = (mod: string) => existsSync(PY) && spawnSync(PY, ['-c', `import ${mod}`], { stdio: 'ignore' }).status === 0;
-const hasGdal = has('osgeo.gdal');
-const hasSkimage = has('skimage');
+const hasGdal = runs('gdal');
+const hasSkimage = runs('skimage');
 
 let dir: string;
 let dem: string;
@@ -135,7 +134,7 @@ print(json.dumps(out))
     expect(g.vector.features).toBe(2 * rep.depressions.length);
   });
 
-  it.skipIf(!hasSkimage)('filled.tif equals scikit-image reconstruction by erosion on the demo DEM (live)', () => {
+  it.skipIf(!hasSkimage || !hasGdal)('filled.tif equals scikit-image reconstruction by erosion on the demo DEM (live)', () => {
     const out = join(dir, 'out-sk');
     expect(sill(['ponds', dem, '-o', out, '--quiet']).code).toBe(0);
     // Source: skimage.morphology.reconstruction, 3×3 footprint, grid frame and nodata seeded

@@ -10,11 +10,11 @@ import { readFileSync, existsSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { spawnSync } from 'node:child_process';
 import { sill, tempDir, itRejects } from './run.js';
+import { PYTHON as PY, runs } from '../prereq.js';
 import { larkmoorDem } from '../../src/demo/generate.js';
 import { writeGeoTiff, readGeoTiff } from '../../src/io/index.js';
 
-const PY = '/usr/bin/python3';
-const hasGdal = existsSync(PY) && spawnSync(PY, ['-c', 'import osgeo.gdal'], { stdio: 'ignore' }).status === 0;
+const hasGdal = runs('gdal');
 
 let dir: string;
 let dem: string;

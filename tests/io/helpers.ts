@@ -1,4 +1,5 @@
 /** Shared helpers for the io tests: fixture paths, GDAL's recorded readings, temp folders. */
+import { runs } from '../prereq.js';
 import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -79,5 +80,5 @@ export function tempDir(): { dir: string; cleanup: () => void } {
 }
 
 /** Debian's Python with GDAL bindings, when installed. */
-export const PYTHON = '/usr/bin/python3';
-export const hasGdal = spawnSync(PYTHON, ['-c', 'from osgeo import gdal'], { stdio: 'ignore' }).status === 0;
+export { PYTHON } from '../prereq.js';
+export const hasGdal = runs('gdal');
