@@ -6,11 +6,11 @@ import { parseEnergyUnit, ENERGY_UNITS, type EnergyUnit } from '../chem/units.js
 import { disconnectivitySvg } from '../render/disconnectivity.js';
 import { landscapeSvg } from '../render/landscape.js';
 import { toCsv } from '../io/tables.js';
-import { OutputFolder } from '../io/outdir.js';
-import { reportRequest, addReport, reportSummary, flagsOf, BARRIERS_FLAGS, type ReportRequest } from './report-option.js';
+import type { OutputFolder } from '../io/outdir.js';
+import { reportRequest, addReport, reportSummary, reportNames, flagsOf, BARRIERS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildBarriersReport as buildBarriersHtml } from '../render/html/barriers.js';
 import { InputError } from '../errors.js';
-import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, type CommonOptions } from './common.js';
+import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, openOutput, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
 import type { Boundary } from '../surface/complex.js';
 
@@ -92,6 +92,7 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
 
   // the command line in the report names the boundary in effect and leaves out a defaulted --min-persistence
   const render = reportRequest('barriers', [input], { ...opts, boundary, periodic: undefined, minPersistence: minPersistence === undefined ? undefined : opts.minPersistence }, flagsOf({ ...opts }, BARRIERS_FLAGS));
+  const out = openOutput(opts, 'barriers', [...BARRIERS_FILES, ...reportNames(render)], [input]);
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
   progress.stage('critical points, basins, refinement and paths');
@@ -100,15 +101,20 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
   }, input);
   progress.done();
   if (!report.euler.holds) throw new Error(`Euler relation fails (χ = ${report.euler.characteristic}, pits − passes + peaks = ${report.euler.pits - report.euler.passes + report.euler.peaks}); this is a bug in sill, please report it with the input`);
-  if (opts.out) writeBarriersFiles(opts.out, result, report, render);
+  if (out) await writeBarriersFiles(out, result, report, render);
   if (opts.json) process.stdout.write(JSON.stringify(report) + '\n');
   say(opts, barriersSummary(report, opts.out));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
 }
 
-export function writeBarriersFiles(dir: string, result: BarriersResult, report: BarriersReport, render?: ReportRequest | null): string[] {
-  const out = new OutputFolder(dir);
+/** The files `barriers -o DIR` may write (besides the report's); paths/ holds one CSV per path. */
+export const BARRIERS_FILES = [
+  'report.json', 'minima.csv', 'transition-states.csv', 'barriers.csv', 'lowest-barriers.csv', 'paths/',
+  'disconnectivity.json', 'disconnectivity.svg', 'landscape.svg',
+];
+
+export async function writeBarriersFiles(out: OutputFolder, result: BarriersResult, report: BarriersReport, render?: ReportRequest | null): Promise<string[]> {
   try {
     out.write('report.json', JSON.stringify(report, null, 1) + '\n');
     const stationaryCols = <T extends BarriersReport['minima'][number] | BarriersReport['transitionStates'][number]>(): [string, (r: T) => unknown][] => [
@@ -153,10 +159,9 @@ export function writeBarriersFiles(dir: string, result: BarriersResult, report: 
     out.write('disconnectivity.svg', disconnectivitySvg(report));
     out.write('landscape.svg', landscapeSvg(result, report));
     addReport(out, render, ['report.json', 'minima.csv', 'transition-states.csv', 'barriers.csv', 'disconnectivity.svg', 'landscape.svg'], (ctx) => buildBarriersHtml(result, report, ctx));
-    return out.commit();
+    return await out.commit();
   } catch (e) {
-    out.abort();
-    throw e;
+    throw out.fail(e);
   }
 }
 

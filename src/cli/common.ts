@@ -2,6 +2,8 @@
 import { Command, Option } from 'commander';
 import { InputError } from '../errors.js';
 import { BOUNDARIES, type Boundary, type Connectivity } from '../surface/complex.js';
+import { OutputFolder } from '../io/outdir.js';
+import { SILL_VERSION } from '../report/common.js';
 
 export interface CommonOptions {
   out?: string;
@@ -17,6 +19,7 @@ export interface CommonOptions {
   columns?: string;
   report?: boolean;
   png?: boolean;
+  force?: boolean;
 }
 
 export function addCommonOptions(cmd: Command, defaults: { boundary: Boundary }): Command {
@@ -33,7 +36,17 @@ export function addCommonOptions(cmd: Command, defaults: { boundary: Boundary })
     .option('--columns <x,y,v>', 'column text input: 1-based columns of x, y and value', '1,2,3')
     .option('--report', 'also write report.html (one self-contained page) and map.svg, tree.svg, persistence.svg into -o DIR')
     .option('--png', 'also render the map as map.png into -o DIR')
+    .option('--force', 'write into an output folder that holds files sill did not write (they are kept; same-named ones are replaced)')
     .option('--quiet', 'no progress or summary on the terminal');
+}
+
+/**
+ * The output folder of a run, checked before any work (src/io/outdir.ts): `names` are the files the
+ * run may write, `inputs` the files it reads (refused when a result would take their place).
+ */
+export function openOutput(opts: { out?: string; force?: boolean }, command: string, names: readonly string[], inputs: readonly (string | undefined)[]): OutputFolder | null {
+  if (!opts.out) return null;
+  return new OutputFolder(opts.out, { command, version: SILL_VERSION, names, inputs, force: opts.force });
 }
 
 export function parseNumber(name: string, s: string | undefined, opts: { min?: number; integer?: boolean; positive?: boolean } = {}): number {

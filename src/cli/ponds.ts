@@ -9,14 +9,14 @@ import { toWgs84 } from '../hydro/reproject.js';
 import { stageVolume } from '../hydro/stage.js';
 import { writeGeoTiff } from '../io/index.js';
 import { pointFeature, type Feature } from '../io/tables.js';
-import { OutputFolder } from '../io/outdir.js';
-import { addCommonOptions, parseNumber, Progress, say, fmt, fmtCoord } from './common.js';
+import type { OutputFolder } from '../io/outdir.js';
+import { addCommonOptions, parseNumber, Progress, say, fmt, fmtCoord, openOutput } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printChunks, writeChunks, listJsonChunks, csvChunks,
   collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
-import { reportRequest, addReport, reportSummary, flagsOf, PONDS_FLAGS, type ReportRequest } from './report-option.js';
+import { reportRequest, addReport, reportSummary, reportNames, flagsOf, PONDS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildPondsReport as buildPondsHtml } from '../render/html/ponds.js';
 
 export interface PondsCliOptions extends HydroCliOptions {
@@ -71,6 +71,9 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   const { zFactor, stageId, stageStep } = parseZAndStage(opts);
   const render = reportRequest('ponds', [input], { ...opts }, flagsOf({ ...opts }, PONDS_FLAGS));
   if (opts.wgs84 && !opts.out) throw new InputError('--wgs84 writes depressions-wgs84.geojson: give an output folder with -o/--out');
+  const out = openOutput(opts, 'ponds', [
+    ...PONDS_FILES, ...(opts.wgs84 ? ['depressions-wgs84.geojson'] : []), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render),
+  ], [input]);
 
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
@@ -85,9 +88,9 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   // check --wgs84 before writing anything
   const project = opts.wgs84 ? toWgs84(result.grid.crs, input) : null;
   let written: string[] = [];
-  if (opts.out) {
+  if (out) {
     progress.stage('writing files');
-    written = await writePondsFiles(opts.out, result, report, { project, stageId, stageStep, progress, render });
+    written = await writePondsFiles(out, result, report, { project, stageId, stageStep, progress, render });
   }
   progress.done();
   if (opts.json) await printChunks(reportJsonChunks(report, false));
@@ -104,8 +107,10 @@ interface WriteOptions {
   render?: ReportRequest | null;
 }
 
-export async function writePondsFiles(dir: string, result: PondsResult, report: PondsReport, w: WriteOptions = { project: null }): Promise<string[]> {
-  const out = new OutputFolder(dir);
+/** The files `ponds -o DIR` always writes (--wgs84, --stage-volume and --report add theirs). */
+export const PONDS_FILES = ['filled.tif', 'depth.tif', 'labels.tif', 'depressions.geojson', 'depressions.csv', 'report.json'];
+
+export async function writePondsFiles(out: OutputFolder, result: PondsResult, report: PondsReport, w: WriteOptions = { project: null }): Promise<string[]> {
   try {
     const g = result.grid;
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
@@ -143,10 +148,9 @@ export async function writePondsFiles(dir: string, result: PondsResult, report: 
     writeChunks(out.path('report.json'), reportJsonChunks(report, true));
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'filled.tif', 'depth.tif', 'labels.tif'], (ctx) => buildPondsHtml(result, report, ctx));
-    return out.commit();
+    return await out.commit();
   } catch (e) {
-    out.abort();
-    throw e;
+    throw out.fail(e);
   }
 }
 

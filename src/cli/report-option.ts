@@ -89,6 +89,12 @@ export function reportRequest(command: string, positional: string[], opts: Repor
   return { report: !!opts.report, png: !!opts.png, commandLine: commandLineOf(command, positional, opts, extra) };
 }
 
+/** The files `--report`/`--png` may add to the output folder. */
+export function reportNames(req: ReportRequest | null | undefined): string[] {
+  if (!req) return [];
+  return [...(req.report ? ['report.html', 'map.svg', 'tree.svg', 'persistence.svg'] : []), ...(req.png ? ['map.png'] : [])];
+}
+
 /** Build the report (lazily: only when asked) and stage its files in `out`. Returns the names written. */
 export function addReport(out: OutputFolder, req: ReportRequest | null | undefined, files: string[], build: (ctx: ReportContext) => BuiltReport): string[] {
   if (!req) return [];

@@ -9,15 +9,15 @@ import { bodyOutlines } from '../hydro/runoff-vectors.js';
 import type { DepressionOutline } from '../hydro/vectors.js';
 import { writeGeoTiff, loadSurface } from '../io/index.js';
 import type { Feature } from '../io/tables.js';
-import { OutputFolder } from '../io/outdir.js';
+import type { OutputFolder } from '../io/outdir.js';
 import type { Grid } from '../surface/grid.js';
-import { addCommonOptions, parseNumber, Progress, say, fmt } from './common.js';
+import { addCommonOptions, parseNumber, Progress, say, fmt, openOutput } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printChunks, writeChunks, listJsonChunks, csvChunks,
   collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
-import { reportRequest, addReport, reportSummary, flagsOf, type FlagSpec, type ReportRequest } from './report-option.js';
+import { reportRequest, addReport, reportSummary, reportNames, flagsOf, type FlagSpec, type ReportRequest } from './report-option.js';
 import { buildRunoffHtml } from '../render/html/runoff.js';
 
 export interface RunoffCliOptions extends HydroCliOptions {
@@ -84,6 +84,8 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
   }
   const { zFactor, stageId, stageStep } = parseZAndStage(opts);
   const render = reportRequest('runoff', [input], { ...opts }, flagsOf({ ...opts }, RUNOFF_FLAGS));
+  const out = openOutput(opts, 'runoff', [...RUNOFF_FILES, ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render)],
+    [input, opts.depthRaster, opts.initialLevel]);
 
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
@@ -102,9 +104,9 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
   progress.done();
   for (const w of report.warnings) process.stderr.write(`sill: warning: ${w}\n`);
   let written: string[] = [];
-  if (opts.out) {
+  if (out) {
     progress.stage('writing files');
-    written = await writeRunoffFiles(opts.out, result, report, { stageId, stageStep, progress, render });
+    written = await writeRunoffFiles(out, result, report, { stageId, stageStep, progress, render });
     progress.done();
   }
   if (opts.json) await printChunks(runoffJsonChunks(report, false));
@@ -120,8 +122,10 @@ interface WriteOptions {
   render?: ReportRequest | null;
 }
 
-export async function writeRunoffFiles(dir: string, result: RunoffResult, report: RunoffReport, w: WriteOptions = {}): Promise<string[]> {
-  const out = new OutputFolder(dir);
+/** The files `runoff -o DIR` always writes (--stage-volume and --report add theirs). */
+export const RUNOFF_FILES = ['water-level.tif', 'water-depth.tif', 'ponds.geojson', 'runoff.csv', 'report.json'];
+
+export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, report: RunoffReport, w: WriteOptions = {}): Promise<string[]> {
   try {
     const g = result.grid;
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
@@ -154,10 +158,9 @@ export async function writeRunoffFiles(dir: string, result: RunoffResult, report
     writeChunks(out.path('report.json'), runoffJsonChunks(report, true));
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'runoff.csv', 'ponds.geojson', 'water-level.tif', 'water-depth.tif'], (ctx) => buildRunoffHtml(result, report, ctx));
-    return out.commit();
+    return await out.commit();
   } catch (e) {
-    out.abort();
-    throw e;
+    throw out.fail(e);
   }
 }
 

@@ -2,13 +2,13 @@
 import type { Command } from 'commander';
 import { surveyReport, mergeTreeRecords, type SurveyReport } from '../report/survey.js';
 import { toCsv, featureCollection, pointFeature } from '../io/tables.js';
-import { OutputFolder } from '../io/outdir.js';
-import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, fmtCoord, type CommonOptions } from './common.js';
+import type { OutputFolder } from '../io/outdir.js';
+import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, fmtCoord, openOutput, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
 import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
 import type { SurveyResult } from '../morse/survey.js';
-import { reportRequest, addReport, reportSummary, type ReportRequest } from './report-option.js';
+import { reportRequest, addReport, reportSummary, reportNames, type ReportRequest } from './report-option.js';
 import { buildSurveyReport } from '../render/html/survey.js';
 
 export function registerSurvey(program: Command): void {
@@ -27,21 +27,24 @@ export async function runSurveyCommand(input: string, opts: CommonOptions): Prom
   const boundary = parseBoundary(opts.boundary);
   const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', { min: 0 });
   const render = reportRequest('survey', [input], { ...opts });
+  const out = openOutput(opts, 'survey', [...SURVEY_FILES, ...reportNames(render)], [input]);
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
   progress.stage('ordering, critical points, merge trees');
   const { result, report } = surveyReport(surface, { connectivity, boundary, minPersistence }, input);
   progress.done();
   if (!report.euler.holds) throw new Error(`Euler relation fails (χ = ${report.euler.characteristic}, pits − passes + peaks = ${report.euler.pits - report.euler.passes + report.euler.peaks}); this is a bug in sill, please report it with the input`);
-  if (opts.out) writeSurveyFiles(opts.out, surface, result, report, render);
+  if (out) await writeSurveyFiles(out, surface, result, report, render);
   if (opts.json) process.stdout.write(JSON.stringify(report) + '\n');
   say(opts, surveySummary(report, opts.out));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
 }
 
-export function writeSurveyFiles(dir: string, surface: Grid | Mesh, result: SurveyResult, report: SurveyReport, render?: ReportRequest | null): string[] {
-  const out = new OutputFolder(dir);
+/** The files `survey -o DIR` writes (besides the report's). */
+export const SURVEY_FILES = ['report.json', 'critical-points.csv', 'critical-points.geojson', 'merge-tree.json'];
+
+export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, result: SurveyResult, report: SurveyReport, render?: ReportRequest | null): Promise<string[]> {
   try {
     out.write('report.json', JSON.stringify(report, null, 1) + '\n');
     out.write('critical-points.csv', toCsv(report.criticalPoints, [
@@ -59,10 +62,9 @@ export function writeSurveyFiles(dir: string, surface: Grid | Mesh, result: Surv
       split: { description: 'components of superlevel sets: leaves are peaks, inner nodes passes; node "top" is the wall/edge vertex at +∞', nodes: mergeTreeRecords(surface, values, result.split) },
     }) + '\n');
     addReport(out, render, ['report.json', 'critical-points.csv', 'critical-points.geojson', 'merge-tree.json'], (ctx) => buildSurveyReport(surface, result, report, ctx));
-    return out.commit();
+    return await out.commit();
   } catch (e) {
-    out.abort();
-    throw e;
+    throw out.fail(e);
   }
 }
 

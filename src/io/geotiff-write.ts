@@ -202,7 +202,7 @@ export async function writeGeoTiff(path: string, raster: RasterToWrite): Promise
   try {
     fh = await open(tmp, 'wx');
   } catch (err) {
-    throw new InputError(`cannot write ${path}: ${fsReason(err)}`);
+    throw writeError(path, err);
   }
   try {
     await fh.write(head, 0, head.length, 0);
@@ -237,8 +237,12 @@ export async function writeGeoTiff(path: string, raster: RasterToWrite): Promise
     if (fh) await fh.close().catch(() => undefined);
     await unlink(tmp).catch(() => undefined);
     if (err instanceof InputError) throw err;
-    const code = (err as NodeJS.ErrnoException)?.code;
-    if (code) throw new InputError(`cannot write ${path}: ${fsReason(err)}`);
+    if ((err as NodeJS.ErrnoException)?.code) throw writeError(path, err);
     throw err;
   }
+}
+
+/** A file-system failure while writing: a runtime failure (not bad input) that keeps its error code, so callers can say it in plain words. */
+function writeError(path: string, err: unknown): Error {
+  return Object.assign(new Error(`cannot write ${path}: ${fsReason(err)}`), { code: (err as NodeJS.ErrnoException).code, path });
 }
