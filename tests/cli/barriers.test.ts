@@ -93,7 +93,7 @@ describe('sill barriers (command line)', () => {
     expect(r.code).toBe(0);
     expect(r.stdout).toBe('');
     expect(readdirSync(out).sort()).toEqual([
-      'barriers.csv', 'disconnectivity.json', 'disconnectivity.svg', 'landscape.svg', 'lowest-barriers.csv',
+      '.sill-manifest.json', 'barriers.csv', 'disconnectivity.json', 'disconnectivity.svg', 'landscape.svg', 'lowest-barriers.csv',
       'minima.csv', 'paths', 'report.json', 'transition-states.csv',
     ]);
     expect(readdirSync(join(out, 'paths')).sort()).toEqual(['T1.csv', 'T2.csv']);
