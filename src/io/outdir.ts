@@ -266,6 +266,7 @@ function applyJournal(dir: string, journal: Journal): void {
       if (lstatOrNull(from) === null) continue; // moved before the interruption
       makeFolders(dirname(join(dir, f.name)));
       renameSync(from, join(dir, f.name));
+      step('journal-moves');
     }
     renameSync(join(staging, MANIFEST), join(dir, MANIFEST));
   }
@@ -275,6 +276,11 @@ function applyJournal(dir: string, journal: Journal): void {
 }
 
 type Mode = 'create' | 'exchange' | 'journal';
+
+/** Fault injection for the crash tests (tests/cli/crash.test.ts): SILL_CRASH_AT=<step> kills this process with SIGKILL at that step of a commit. */
+function step(name: string): void {
+  if (process.env.SILL_CRASH_AT === name) process.kill(process.pid, 'SIGKILL');
+}
 
 /** Folders with a staging folder open, for the SIGINT/SIGTERM handler. */
 const active = new Set<OutputFolder>();
@@ -485,11 +491,13 @@ export class OutputFolder {
     try {
       const files = names.map((name) => ({ name, size: lstatSync(join(staging, name)).size }));
       const folders = [...new Set(names.filter((n) => n.includes('/')).map((n) => n.split('/')[0]))];
+      step('staged');
       const manifest: Manifest = {
         schema: 'sill/manifest@1', run: randomBytes(8).toString('hex'), command: this.plan.command, sillVersion: this.plan.version,
         time: new Date().toISOString(), files, folders,
       };
       writeWhole(join(staging, MANIFEST), manifestText(manifest));
+      step('manifest');
       if (this.mode === 'create') {
         renameSync(staging, this.dir);
       } else if (this.mode === 'exchange') {
@@ -535,9 +543,11 @@ export class OutputFolder {
       ok = false; // hard links not possible here (another file system inside DIR, a file system without them)
     }
     if (ok) {
+      step('carried');
       const err = exchangeFolders(staging, this.dir);
       const swapped = err === null || readJson<Manifest>(join(this.dir, MANIFEST))?.run === manifest.run;
       if (swapped) {
+        step('exchanged');
         this.removeOldTree(staging, new Set(carried));
         return;
       }
@@ -561,6 +571,7 @@ export class OutputFolder {
     for (const f of files) {
       if (f === MANIFEST || f === JOURNAL || listed.has(f) || carried.has(f) || this.replaced.has(f)) {
         unlinkSync(join(old, f));
+        step('old-tree');
       } else if (lstatOrNull(join(this.dir, f)) === null) {
         // appeared in DIR while the run was committing: it is not sill's, so it goes back
         makeFolders(dirname(join(this.dir, f)));
@@ -583,6 +594,7 @@ export class OutputFolder {
     const remove = (this.previous?.files ?? []).map((f) => f.name).filter((n) => !now.has(n));
     const journal: Journal = { schema: 'sill/journal@1', staging: relative(this.dir, staging), remove, folders: this.previous?.folders ?? [] };
     writeWhole(join(this.dir, JOURNAL), JSON.stringify(journal) + '\n');
+    step('journal');
     applyJournal(this.dir, journal);
   }
 
