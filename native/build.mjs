@@ -33,7 +33,7 @@ function main() {
   const r = spawnSync(cc, ['-shared', '-fPIC', '-O2', '-Wall', '-I', include, '-o', tmp, src], { encoding: 'utf8' });
   if (r.error || r.status !== 0) {
     rmSync(tmp, { force: true });
-    return note(`could not compile ${src} with ${cc} (${r.error ? r.error.message : (r.stderr || '').trim().split('\n')[0]}); skipping the folder-exchange addon`);
+    return note(`could not compile ${src} with ${cc} (${r.error ? r.error.message : (r.stderr || '').trim().split('\n')[0] || `exit status ${r.status}`}); skipping the folder-exchange addon`);
   }
   renameSync(tmp, out);
 }
