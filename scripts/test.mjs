@@ -70,6 +70,8 @@ if (build.status !== 0) {
   say('the build (tsc -p tsconfig.build.json) failed; no tests ran');
   process.exit(1);
 }
+// the folder-exchange addon (native/build.mjs: offline, says one line and goes on when it cannot build)
+spawnSync(process.execPath, [join(root, 'native', 'build.mjs'), '--quiet'], { cwd: root, stdio: 'inherit' });
 const env = { ...process.env, SILL_TEST_SKIP: ci ? '' : missing.map((g) => g.id).join(',') };
 const test = spawnSync(bin('vitest'), ['run', ...args], { cwd: root, stdio: 'inherit', env });
 
