@@ -510,7 +510,9 @@ export class OutputFolder {
     } catch (e) {
       throw this.fail(e);
     }
-    // a SIGINT/SIGTERM that came in while the commit ran is handled now, with the result in place
+    // a SIGINT/SIGTERM that came in while the commit ran is handled now, with the result in place: two
+    // turns of the event loop, so that its poll phase (where signals are read) runs before the handler goes
+    await new Promise((r) => setImmediate(r));
     await new Promise((r) => setImmediate(r));
     this.close();
     return names.map((n) => join(this.dir, n));
