@@ -75,7 +75,7 @@ const PLAIN: Record<string, string> = {
   EPERM: 'permission denied (operation not permitted)',
   ENOTDIR: 'a part of the path is a file, not a folder',
   EISDIR: 'a folder stands where a file should go',
-  ENOENT: 'the file system does not allow creating it here',
+  ENOENT: 'no such folder, or the file system does not allow creating one there',
   EIO: 'input/output error (the disk or network share failed)',
   EMFILE: 'too many open files',
   ENFILE: 'too many open files',
