@@ -118,12 +118,15 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     const valueNodata = g.nodata !== null && Number.isFinite(g.nodata) ? g.nodata : NaN;
     w.progress?.stage('writing filled.tif');
     await writeGeoTiff(out.path('filled.tif'), { ...base, values: R.filled, nodata: valueNodata });
+    await out.checkpoint();
     w.progress?.stage('writing depth.tif');
     await writeGeoTiff(out.path('depth.tif'), { ...base, values: R.depth, nodata: -9999 });
+    await out.checkpoint();
     w.progress?.stage('writing labels.tif');
     const labels = report.labelLevel === 'top' ? topLabels(R.labels, result.hierarchy) : R.labels;
     await writeGeoTiff(out.path('labels.tif'), { ...base, values: labels, nodata: -1 });
 
+    await out.checkpoint();
     w.progress?.stage('tracing outlines');
     const outlines = depressionOutlines(g, R.labels, result.hierarchy);
     report.outlines = outlinesEntry(outlines,
@@ -136,16 +139,20 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
       units: report.units,
       caution: report.caution,
     };
+    await out.checkpoint();
     w.progress?.stage('writing depressions.geojson');
     writeChunks(out.path('depressions.geojson'), featureChunks(report, outlines, null, g.crs, meta));
     if (w.project) writeChunks(out.path('depressions-wgs84.geojson'), featureChunks(report, outlines, w.project, null, { ...meta, name: 'depressions-wgs84' }));
+    await out.checkpoint();
     w.progress?.stage('writing depressions.csv');
     writeChunks(out.path('depressions.csv'), csvChunks(report.depressions, pondsCsvColumns(tokens)));
     if (w.stageId !== undefined) {
       out.write(`stage-volume-${w.stageId}.csv`, stageCsv(stageVolume(result, w.stageId, w.stageStep), tokens));
     }
+    await out.checkpoint();
     w.progress?.stage('writing report.json');
     writeChunks(out.path('report.json'), reportJsonChunks(report, true));
+    await out.checkpoint();
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'filled.tif', 'depth.tif', 'labels.tif'], (ctx) => buildPondsHtml(result, report, ctx));
     return await out.commit();

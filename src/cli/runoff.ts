@@ -132,15 +132,18 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     const R = result.rasters;
     w.progress?.stage('writing water-level.tif');
     await writeGeoTiff(out.path('water-level.tif'), { ...base, values: R.level, nodata: -9999 });
+    await out.checkpoint();
     w.progress?.stage('writing water-depth.tif');
     await writeGeoTiff(out.path('water-depth.tif'), { ...base, values: R.depth, nodata: -9999 });
 
+    await out.checkpoint();
     w.progress?.stage('tracing pond outlines');
     const outlines = bodyOutlines(g, R.bodies, result.bodies.count, result.bodies.volume);
     report.outlines = outlinesEntry(outlines,
       (omitted) => `${omitted} of the smallest ponds have no polygon in ponds.geojson (null geometry): their bounding boxes would take the tracing past its budget of 8 × the grid's cells; water-depth.tif has every one`,
       'every pond has its polygon');
     const tokens = result.areas.units.tokens;
+    await out.checkpoint();
     w.progress?.stage('writing ponds.geojson');
     writeChunks(out.path('ponds.geojson'), pondChunks(report, outlines, g.crs, {
       name: 'ponds',
@@ -149,13 +152,16 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
       water: report.water,
       caution: report.caution,
     }));
+    await out.checkpoint();
     w.progress?.stage('writing runoff.csv');
     writeChunks(out.path('runoff.csv'), csvChunks(report.depressions, runoffCsvColumns(tokens)));
     if (w.stageId !== undefined) {
       out.write(`stage-volume-${w.stageId}.csv`, stageCsv(runoffStageVolume(result, w.stageId, w.stageStep), tokens));
     }
+    await out.checkpoint();
     w.progress?.stage('writing report.json');
     writeChunks(out.path('report.json'), runoffJsonChunks(report, true));
+    await out.checkpoint();
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'runoff.csv', 'ponds.geojson', 'water-level.tif', 'water-depth.tif'], (ctx) => buildRunoffHtml(result, report, ctx));
     return await out.commit();

@@ -480,6 +480,12 @@ export class OutputFolder {
     return p;
   }
 
+  /** Let a SIGINT/SIGTERM that came in act now (writers call this between files; their steps are synchronous). */
+  async checkpoint(): Promise<void> {
+    await new Promise((r) => setImmediate(r));
+    await new Promise((r) => setImmediate(r));
+  }
+
   write(name: string, data: string | Uint8Array): void {
     writeFileSync(this.path(name), data);
   }
@@ -520,20 +526,31 @@ export class OutputFolder {
 
   private commitByExchange(staging: string, manifest: Manifest): void {
     const carried: string[] = [];
+    // hard-link one file into the new folder; one deleted since, or clashing with a result written
+    // since, is left out (a clashing one then stays in the old tree, which is kept: removeOldTree)
+    const carry = (g: string): void => {
+      try {
+        makeFolders(dirname(join(staging, g)));
+        linkSync(join(this.dir, g), join(staging, g));
+        carried.push(g);
+      } catch (e) {
+        const code = (e as NodeJS.ErrnoException).code;
+        if (code !== 'ENOENT' && code !== 'EEXIST') throw e;
+      }
+    };
     let ok = true;
     try {
-      for (const f of this.foreign) {
+      // listed again now: the user may have added or removed files while the run worked
+      for (const f of this.findForeign()) {
         if (this.replaced.has(f)) continue;
-        const st = lstatSync(join(this.dir, f));
-        if (st.isDirectory()) {
+        const st = lstatOrNull(join(this.dir, f));
+        if (st?.isDirectory()) {
           const inner: string[] = [];
           walkFiles(this.dir, f, inner);
           makeFolders(join(staging, f));
-          for (const g of inner) { makeFolders(dirname(join(staging, g))); linkSync(join(this.dir, g), join(staging, g)); carried.push(g); }
-        } else {
-          makeFolders(dirname(join(staging, f)));
-          linkSync(join(this.dir, f), join(staging, f));
-          carried.push(f);
+          for (const g of inner) carry(g);
+        } else if (st) {
+          carry(f);
         }
       }
       // the new folder takes the old one's permissions and owner
@@ -556,7 +573,6 @@ export class OutputFolder {
     }
     // fall back to the journal: the staging folder moves inside DIR without the carried links
     for (const g of carried) unlinkSync(join(staging, g));
-    for (const f of this.foreign) if (!this.replaced.has(f)) pruneEmpty(staging, f);
     const inside = join(this.dir, stagingName());
     renameSync(staging, inside);
     this.staging = inside;
