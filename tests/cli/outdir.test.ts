@@ -299,6 +299,28 @@ describe('output folders (-o DIR) as transactions', () => {
     if (!ok) ctx.skip(true, 'running as root without permission to mount a tmpfs');
   });
 
+  it('the folder that holds DIR is not writable (a read-only mount around a writable DIR): the journal commits in DIR itself', (ctx) => {
+    if (!isRoot) return ctx.skip(true, 'needs root to mount (chmod does not stop root)');
+    const ref = join(dir, 'way-addon');
+    if (!existsSync(ref)) expect(sill(['ponds', dem, '-o', ref, '--quiet']).code).toBe(0);
+    const p = join(dir, 'ro-parent');
+    mkdirSync(p);
+    const out = join(p, 'out');
+    const ok = withMount(['-t', 'tmpfs', '-o', 'size=16m', 'tmpfs'], p, () => {
+      mkdirSync(out);
+      withMount(['--bind', out], out, () => {
+        execFileSync('mount', ['-o', 'remount,bind,ro', p], { stdio: 'ignore' });
+        expect(() => writeFileSync(join(p, 'probe'), 'x')).toThrow(/EROFS/);
+        expect(sill(['ponds', dem, '-o', out, '--report', '--quiet']).code).toBe(0);
+        writeFileSync(join(out, 'notes.txt'), 'mine\n');
+        const r = sill(['ponds', dem, '-o', out, '--quiet']);
+        expect(r.code).toBe(0);
+        expect(listFiles(out)).toEqual([...listFiles(ref), 'notes.txt'].sort());
+      });
+    });
+    if (!ok) ctx.skip(true, 'running as root without permission to mount a tmpfs');
+  });
+
   it('an interrupted journal commit (some files moved, some not) is completed by the next run before anything else', () => {
     const out = join(dir, 'journal');
     mkdirSync(out);
