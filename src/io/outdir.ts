@@ -428,7 +428,8 @@ export class OutputFolder {
       return;
     }
     for (const n of entries) {
-      if (!n.startsWith(STAGING_PREFIX) || !isStale(n)) continue;
+      const tmp = /^\.sill-journal\.json\.(\d+)\.tmp$/.exec(n); // an intent record cut short before its rename
+      if (!(n.startsWith(STAGING_PREFIX) && isStale(n)) && !(tmp && isStale(`${STAGING_PREFIX}${HOST}-${tmp[1]}-0`))) continue;
       try { rmSync(join(where, n), { recursive: true, force: true }); } catch { /* not ours to remove (permissions): leave it */ }
     }
   }

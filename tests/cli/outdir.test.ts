@@ -252,8 +252,10 @@ describe('output folders (-o DIR) as transactions', () => {
       mkdirSync(d);
       writeFileSync(join(d, 'filled.tif'), 'half-written');
     }
+    const journalTmp = join(out, `${JOURNAL}.${dead}.tmp`);
+    writeFileSync(journalTmp, '{"schema": "sill/jou');
     expect(sill(['survey', dem, '-o', out, '--quiet']).code).toBe(0);
-    for (const d of [staleBeside, staleInside, oldStyle]) expect(existsSync(d)).toBe(false);
+    for (const d of [staleBeside, staleInside, oldStyle, journalTmp]) expect(existsSync(d)).toBe(false);
     for (const d of [live, otherHost]) expect(existsSync(d)).toBe(true);
   });
 
