@@ -1,7 +1,9 @@
 /** `sill survey IN`: critical points, Euler check, merge trees, persistence pairs. */
 import type { Command } from 'commander';
-import { surveyReport, mergeTreeRecords, type SurveyReport } from '../report/survey.js';
-import { toCsv, featureCollection, pointFeature } from '../io/tables.js';
+import { surveyReport, mergeTreeRecords, criticalPointRecord, type SurveyReport } from '../report/survey.js';
+import { collectionHead } from '../io/tables.js';
+import { TextSink, withFileSink, writeJson, writeCsv, writePointCollection } from '../io/stream.js';
+import { KIND_NAMES } from '../morse/critical.js';
 import type { OutputFolder } from '../io/outdir.js';
 import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, fmtCoord, openOutput, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
@@ -35,7 +37,7 @@ export async function runSurveyCommand(input: string, opts: CommonOptions): Prom
   progress.done();
   if (!report.euler.holds) throw new Error(`Euler relation fails (χ = ${report.euler.characteristic}, pits − passes + peaks = ${report.euler.pits - report.euler.passes + report.euler.peaks}); this is a bug in sill, please report it with the input`);
   if (out) await writeSurveyFiles(out, surface, result, report, render);
-  if (opts.json) process.stdout.write(JSON.stringify(report) + '\n');
+  if (opts.json) writeJsonStdout(report);
   say(opts, surveySummary(report, opts.out));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
@@ -46,26 +48,52 @@ export const SURVEY_FILES = ['report.json', 'critical-points.csv', 'critical-poi
 
 export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, result: SurveyResult, report: SurveyReport, render?: ReportRequest | null): Promise<string[]> {
   try {
-    out.write('report.json', JSON.stringify(report, null, 1) + '\n');
-    out.write('critical-points.csv', toCsv(report.criticalPoints, [
-      ['kind', (c) => c.kind], ['col', (c) => c.col], ['row', (c) => c.row], ['x', (c) => c.x], ['y', (c) => c.y],
-      ['value', (c) => c.value], ['multiplicity', (c) => c.multiplicity], ['on_edge', (c) => (c.onEdge ? 1 : 0)],
+    withFileSink(out.path('report.json'), (sink) => { writeJson(sink, report, 1); sink.write('\n'); });
+    await out.checkpoint();
+    const K = result.kept, cx = result.complex;
+    // the record of the row being written, made once for its columns
+    let atK = -1, atRec: ReturnType<typeof criticalPointRecord> | null = null;
+    const at = (k: number) => (k === atK ? atRec! : (atK = k, atRec = criticalPointRecord(surface, result, k)));
+    const grid = surface.kind === 'grid' ? surface : null;
+    withFileSink(out.path('critical-points.csv'), (sink) => writeCsv(sink, K.vertex.length, [
+      ['kind', (k) => KIND_NAMES[K.kind[k]]],
+      ['col', (k) => (grid ? K.vertex[k] % grid.width : null)], ['row', (k) => (grid ? Math.floor(K.vertex[k] / grid.width) : null)],
+      ['x', (k) => at(k).x], ['y', (k) => at(k).y],
+      ['value', (k) => cx.values[K.vertex[k]]], ['multiplicity', (k) => K.multiplicity[k]], ['on_edge', (k) => (cx.onEdge(K.vertex[k]) ? 1 : 0)],
     ]));
-    out.write('critical-points.geojson', featureCollection(
-      report.criticalPoints.map((c, k) => pointFeature(c.x, c.y, { kind: c.kind, value: c.value, multiplicity: c.multiplicity, col: c.col, row: c.row, onEdge: c.onEdge }, k)),
-      surface.crs, { name: 'critical-points' }));
+    await out.checkpoint();
+    withFileSink(out.path('critical-points.geojson'), (sink) => {
+      writePointCollection(sink, collectionHead(surface.crs, { name: 'critical-points' }), K.vertex.length, (k) => at(k).x, (k) => at(k).y, (k) => {
+        const c = at(k);
+        return { kind: c.kind, value: c.value, multiplicity: c.multiplicity, col: c.col, row: c.row, onEdge: c.onEdge };
+      });
+      sink.write('\n');
+    });
+    await out.checkpoint();
     const values = result.complex.values;
-    out.write('merge-tree.json', JSON.stringify({
-      schema: 'sill/merge-tree@1',
-      minPersistence: report.minPersistence,
-      join: { description: 'components of sublevel sets: leaves are pits, inner nodes passes; node "outside" is the outside vertex at −∞', nodes: mergeTreeRecords(surface, values, result.join) },
-      split: { description: 'components of superlevel sets: leaves are peaks, inner nodes passes; node "top" is the wall/edge vertex at +∞', nodes: mergeTreeRecords(surface, values, result.split) },
-    }) + '\n');
+    withFileSink(out.path('merge-tree.json'), (sink) => {
+      writeJson(sink, {
+        schema: 'sill/merge-tree@1',
+        minPersistence: report.minPersistence,
+        join: { description: 'components of sublevel sets: leaves are pits, inner nodes passes; node "outside" is the outside vertex at −∞', nodes: mergeTreeRecords(surface, values, result.join) },
+        split: { description: 'components of superlevel sets: leaves are peaks, inner nodes passes; node "top" is the wall/edge vertex at +∞', nodes: mergeTreeRecords(surface, values, result.split) },
+      });
+      sink.write('\n');
+    });
+    await out.checkpoint();
     addReport(out, render, ['report.json', 'critical-points.csv', 'critical-points.geojson', 'merge-tree.json'], (ctx) => buildSurveyReport(surface, result, report, ctx));
     return await out.commit();
   } catch (e) {
     throw out.fail(e);
   }
+}
+
+/** The report on stdout as one line of JSON, written in chunks. */
+function writeJsonStdout(report: SurveyReport): void {
+  const sink = new TextSink(1);
+  writeJson(sink, report);
+  sink.write('\n');
+  sink.close();
 }
 
 export function surveySummary(r: SurveyReport, outDir?: string): string {
@@ -84,7 +112,7 @@ export function surveySummary(r: SurveyReport, outDir?: string): string {
   }
   if (r.counts.zeroPersistencePairs > 0) lines.push(`          ${r.counts.zeroPersistencePairs} pairs of zero persistence (ties, flats) not listed`);
   const geo = !!s.crs?.geographic;
-  const top = r.pairs.slice(0, 5);
+  const top = r.pairs.top(5);
   if (top.length) {
     lines.push('most persistent features:');
     for (const p of top) {

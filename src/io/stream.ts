@@ -191,3 +191,20 @@ export function withFileSink(path: string, f: (sink: TextSink) => void): void {
     sink.close();
   }
 }
+
+/**
+ * A GeoJSON FeatureCollection of points straight from columns: the text of
+ * `JSON.stringify({ ...head, features })` where feature i is `{ type: 'Feature', id: i, geometry:
+ * { type: 'Point', coordinates: [x(i), y(i)] }, properties: properties(i) }` (−0 written "-0").
+ * `head` holds the members before `features` (type, name, crs …).
+ */
+export function writePointCollection(sink: TextSink, head: Record<string, unknown>, n: number, x: (i: number) => number, y: (i: number) => number, properties: (i: number) => Record<string, unknown>): void {
+  const start = JSON.stringify({ ...head, features: [] });
+  sink.write(start.slice(0, start.length - 2));
+  for (let i = 0; i < n; i++) {
+    sink.write(`${i ? ',' : ''}{"type":"Feature","id":${i},"geometry":{"type":"Point","coordinates":[${formatNumber(x(i))},${formatNumber(y(i))}]},"properties":`);
+    writeJson(sink, properties(i));
+    sink.write('}');
+  }
+  sink.write(']}');
+}

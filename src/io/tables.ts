@@ -27,10 +27,14 @@ export interface Feature {
  * it is named with the 2008 GeoJSON `crs` member (read by GDAL/OGR); without a CRS no member is written.
  */
 export function featureCollection(features: Feature[], crs: Crs | null, extra: Record<string, unknown> = {}): string {
+  return JSON.stringify({ ...collectionHead(crs, extra), features }) + '\n';
+}
+
+/** The members of featureCollection's collection before `features` (for the streamed writers). */
+export function collectionHead(crs: Crs | null, extra: Record<string, unknown> = {}): Record<string, unknown> {
   const fc: Record<string, unknown> = { type: 'FeatureCollection', ...extra };
   if (crs?.epsg) fc.crs = { type: 'name', properties: { name: `urn:ogc:def:crs:EPSG::${crs.epsg}` } };
-  fc.features = features;
-  return JSON.stringify(fc) + '\n';
+  return fc;
 }
 
 export function pointFeature(x: number, y: number, properties: Record<string, unknown>, id?: number): Feature {

@@ -74,6 +74,51 @@ export function survey(surface: Grid | Mesh, opts: SurveyOptions = {}): SurveyRe
   };
 }
 
+/** True for the pairs a report lists: positive persistence, and at least `minPersistence`. */
+export function listedPair(persistence: number, minPersistence: number): boolean {
+  return persistence > 0 && !(persistence < minPersistence);
+}
+
+/** How many pairs a report lists (see listedPair). */
+export function countListedPairs(pairs: PersistencePairs, minPersistence: number): number {
+  const p = pairs.persistence;
+  let n = 0;
+  for (let k = 0; k < p.length; k++) if (listedPair(p[k], minPersistence)) n++;
+  return n;
+}
+
+/**
+ * The listed pairs, most persistent first; equal persistence keeps the pairs' own order (all of
+ * dimension 0 before dimension 1). An index sort of the persistence column: the stable radix
+ * sort of the (value, index) order run on −persistence, with the unlisted pairs as NaN (left out).
+ */
+export function pairsByPersistence(pairs: PersistencePairs, minPersistence: number): Uint32Array {
+  const p = pairs.persistence;
+  const key = new Float64Array(p.length);
+  for (let k = 0; k < p.length; k++) key[k] = listedPair(p[k], minPersistence) ? -p[k] : NaN;
+  return sortOrder(key);
+}
+
+/**
+ * The first `count` pairs of pairsByPersistence, found by one pass with a small sorted buffer
+ * (a partial selection: no sort of all pairs).
+ */
+export function mostPersistentPairs(pairs: PersistencePairs, minPersistence: number, count: number): Uint32Array {
+  const p = pairs.persistence;
+  const idx = new Uint32Array(count), key = new Float64Array(count);
+  let m = 0;
+  for (let k = 0; k < p.length; k++) {
+    const x = p[k];
+    if (!listedPair(x, minPersistence)) continue;
+    // a later pair of equal persistence ranks after the ones already held
+    if (m === count && !(x > key[m - 1])) continue;
+    let j = m < count ? m++ : m - 1;
+    while (j > 0 && key[j - 1] < x) { key[j] = key[j - 1]; idx[j] = idx[j - 1]; j--; }
+    key[j] = x; idx[j] = k;
+  }
+  return idx.slice(0, m);
+}
+
 function collectPairs(values: ArrayLike<number>, join: MergeTree, split: MergeTree): PersistencePairs {
   const n0 = join.pairBirth.length, n1 = split.pairBirth.length;
   const dim = new Uint8Array(n0 + n1);

@@ -2,6 +2,8 @@ import { describe, it, expect, beforeAll } from 'vitest';
 import { writeFileSync, readFileSync, existsSync, readdirSync, mkdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { sill, tempDir } from './run.js';
+import { loadSurface } from '../../src/io/load.js';
+import { surveyReport } from '../../src/report/survey.js';
 
 let dir: string;
 const bowl = (n: number) => {
@@ -38,6 +40,25 @@ describe('sill survey (command line)', () => {
     expect(pits).toHaveLength(1);
     expect(pits[0]).toMatchObject({ col: 4, x: 40, y: 30, multiplicity: 1 });
     expect(Array.isArray(rep.pairs)).toBe(true);
+  });
+
+  it('--json and report.json are the library report as JSON.stringify writes it, pairs most persistent first', async () => {
+    // Source: JSON.stringify of the library's report (its lazy lists materialised), the text the
+    // command wrote before its output was streamed; a rough grid with ties, so many pairs tie.
+    const lines = ['x y z'];
+    for (let r = 0; r < 23; r++) for (let c = 0; c < 31; c++) lines.push(`${c} ${r} ${Math.round(Math.sin(c * 1.7) * Math.cos(r * 2.3) * 4 + ((c * 7 + r * 13) % 5))}`);
+    writeFileSync(join(dir, 'rough.txt'), lines.join('\n') + '\n');
+    const surface = await loadSurface(join(dir, 'rough.txt'));
+    const { report } = surveyReport(surface, { connectivity: 8, boundary: 'open', minPersistence: 1 }, join(dir, 'rough.txt'));
+    const r = sill(['survey', join(dir, 'rough.txt'), '--json', '--min-persistence', '1']);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toBe(JSON.stringify(report) + '\n');
+    const out = join(dir, 'out-rough');
+    expect(sill(['survey', join(dir, 'rough.txt'), '--min-persistence', '1', '-o', out, '--quiet']).code).toBe(0);
+    expect(readFileSync(join(out, 'report.json'), 'utf8')).toBe(JSON.stringify(report, null, 1) + '\n');
+    const p = JSON.parse(r.stdout).pairs as { persistence: number }[];
+    expect(p.length).toBeGreaterThan(10);
+    for (let k = 1; k < p.length; k++) expect(p[k - 1].persistence).toBeGreaterThanOrEqual(p[k].persistence);
   });
 
   it('-o writes every file, in the surface coordinates', () => {

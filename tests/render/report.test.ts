@@ -161,7 +161,7 @@ describe('scattered samples', () => {
     const built = buildSurveyReport(mesh, result, report, { commandLine: 'sill survey well', files: [] });
     const d = dataOf(renderHtml(built.doc));
     expect(d.interpolated).toBe(true);
-    const pit = report.criticalPoints.find((c) => c.kind === 'pit')!;
+    const pit = report.criticalPoints.toArray().find((c) => c.kind === 'pit')!;
     expect(Math.hypot(pit.x - 50, pit.y - 30)).toBeLessThan(4);
     // the pit marker sits at the inverse transform of its (x, y): u = (x − x0)/dx, v = (y − y0)/dy
     const t = d.frame.transform as number[];

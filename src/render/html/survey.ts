@@ -99,10 +99,10 @@ export function buildSurveyReport(surface: Grid | Mesh, result: SurveyResult, re
   const fv = (x: number) => fmtDec(x, dec);
 
   // features, most persistent first
-  const cps = report.criticalPoints;
+  const cps = report.criticalPoints, K = result.kept;
   const cpKey = new Float64Array(cps.length);
-  for (let i = 0; i < cps.length; i++) cpKey[i] = persOf(cps[i].index);
-  const ranked = Array.from(topIndices(cpKey, Math.max(LIMITS.markers, LIMITS.tableRows)), (i) => ({ c: cps[i], i, p: cpKey[i] }));
+  for (let i = 0; i < cps.length; i++) cpKey[i] = persOf(K.vertex[i]);
+  const ranked = Array.from(topIndices(cpKey, Math.max(LIMITS.markers, LIMITS.tableRows)), (i) => ({ c: cps.at(i), i, p: cpKey[i] }));
   const onMap = ranked.slice(0, LIMITS.markers);
   const tips: ReportDoc['tips'] = {};
   const tipOf = (c: CriticalPointRecord, p: number): [string, string][] => [
@@ -140,7 +140,7 @@ export function buildSurveyReport(surface: Grid | Mesh, result: SurveyResult, re
   const lim = { nodes: jt.nodes, leaves: jt.leaves, shown: Math.min(jt.leaves, LIMITS.treeLeaves) };
   const cpOf = new Map<number, CriticalPointRecord>();
   const want = new Set(lim.nodes.map((nd) => nd.key!).filter((k) => k !== 'outside' && !tips[k]).map((k) => Number(k.slice(1))));
-  if (want.size) for (const c of cps) if (want.has(c.index)) cpOf.set(c.index, c);
+  if (want.size) for (let i = 0; i < K.vertex.length; i++) if (want.has(K.vertex[i])) cpOf.set(K.vertex[i], cps.at(i));
   for (const [v, c] of cpOf) tips[vkey(v)] = tipOf(c, persOf(v));
   const treeNotes = [
     report.minPersistence > 0 ? `simplified: branches with persistence < ${fmtNum(report.minPersistence)} removed` : 'every branch of positive persistence shown',
@@ -229,7 +229,7 @@ function criticalTable(report: SurveyReport, ranked: { c: CriticalPointRecord; p
 }
 
 function pairsTable(report: SurveyReport, unit: string, dec: number): TableSpec {
-  const rows = report.pairs.slice(0, LIMITS.tableRows);
+  const rows = report.pairs.top(LIMITS.tableRows);
   return {
     id: 'pairs', title: 'Persistence pairs',
     caption: 'Kept pairs (persistence ≥ the threshold), most persistent first. Dimension 0: a pit and the pass where it merges; dimension 1: a pass and the peak that fills its loop.',
