@@ -142,10 +142,35 @@ function writeArray(sink: TextSink, n: number, at: (i: number) => unknown, gap: 
   sink.write(gap ? '[\n' + inner : '[');
   for (let i = 0; i < n; i++) {
     if (i) sink.write(sep);
-    const ok = compact ? writeValue(sink, at(i), '', '') : writeValue(sink, at(i), gap, inner);
+    const v = at(i);
+    // a record without −0 or nested lazy lists: the runtime's own serialiser, re-indented
+    if (v !== null && typeof v === 'object' && nativeSafe(v)) {
+      const t = JSON.stringify(v, null, compact ? '' : gap);
+      sink.write(compact || !gap ? t : t.replaceAll('\n', '\n' + inner));
+      continue;
+    }
+    const ok = compact ? writeValue(sink, v, '', '') : writeValue(sink, v, gap, inner);
     if (!ok) sink.write('null');
   }
   sink.write(gap ? '\n' + ind + ']' : ']');
+}
+
+/**
+ * True when JSON.stringify writes `v` exactly as writeValue would: no −0 anywhere in it (the
+ * runtime writes "0"), no `toJSON` and no Rows below it. Nested JSON text is the standalone text
+ * with every line break followed by the enclosing indentation (JSON strings never hold a raw line break).
+ */
+function nativeSafe(v: unknown): boolean {
+  if (typeof v === 'number') return v !== 0 || 1 / v > 0;
+  if (v === null || typeof v !== 'object') return true;
+  if (typeof (v as { toJSON?: unknown }).toJSON === 'function') return false;
+  if (Array.isArray(v)) {
+    for (let i = 0; i < v.length; i++) if (!nativeSafe(v[i])) return false;
+    return true;
+  }
+  const o = v as Record<string, unknown>;
+  for (const k of Object.keys(o)) if (!nativeSafe(o[k])) return false;
+  return true;
 }
 
 function writeObject(sink: TextSink, obj: Record<string, unknown>, gap: string, ind: string): void {
