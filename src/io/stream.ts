@@ -140,18 +140,34 @@ function writeArray(sink: TextSink, n: number, at: (i: number) => unknown, gap: 
   const inner = ind + gap;
   const sep = gap ? ',\n' + inner : ',';
   sink.write(gap ? '[\n' + inner : '[');
+  // runs of records that the runtime's own serialiser writes as this writer would (nativeSafe)
+  // go to JSON.stringify a batch at a time, and the batch's text is shifted to this depth
+  const batch: unknown[] = [];
+  const writeBatch = (): void => {
+    let t: string;
+    if (compact && gap) t = batch.map((r) => JSON.stringify(r)).join(sep);
+    else if (!gap || compact) t = JSON.stringify(batch).slice(1, -1);
+    else {
+      t = JSON.stringify(batch, null, gap).slice(2 + gap.length, -2);
+      if (ind) t = t.replaceAll('\n', '\n' + ind);
+    }
+    sink.write(t);
+    batch.length = 0;
+  };
   for (let i = 0; i < n; i++) {
-    if (i) sink.write(sep);
     const v = at(i);
-    // a record without −0 or nested lazy lists: the runtime's own serialiser, re-indented
     if (v !== null && typeof v === 'object' && nativeSafe(v)) {
-      const t = JSON.stringify(v, null, compact ? '' : gap);
-      sink.write(compact || !gap ? t : t.replaceAll('\n', '\n' + inner));
+      if (batch.length === 0 && i) sink.write(sep);
+      batch.push(v);
+      if (batch.length === 256) writeBatch();
       continue;
     }
+    if (batch.length) writeBatch();
+    if (i) sink.write(sep);
     const ok = compact ? writeValue(sink, v, '', '') : writeValue(sink, v, gap, inner);
     if (!ok) sink.write('null');
   }
+  if (batch.length) writeBatch();
   sink.write(gap ? '\n' + ind + ']' : ']');
 }
 
@@ -224,12 +240,5 @@ export function withFileSink(path: string, f: (sink: TextSink) => void): void {
  * `head` holds the members before `features` (type, name, crs …).
  */
 export function writePointCollection(sink: TextSink, head: Record<string, unknown>, n: number, x: (i: number) => number, y: (i: number) => number, properties: (i: number) => Record<string, unknown>): void {
-  const start = JSON.stringify({ ...head, features: [] });
-  sink.write(start.slice(0, start.length - 2));
-  for (let i = 0; i < n; i++) {
-    sink.write(`${i ? ',' : ''}{"type":"Feature","id":${i},"geometry":{"type":"Point","coordinates":[${formatNumber(x(i))},${formatNumber(y(i))}]},"properties":`);
-    writeJson(sink, properties(i));
-    sink.write('}');
-  }
-  sink.write(']}');
+  writeJson(sink, { ...head, features: new Rows(n, (i) => ({ type: 'Feature', id: i, geometry: { type: 'Point', coordinates: [x(i), y(i)] }, properties: properties(i) })) });
 }
