@@ -5,7 +5,7 @@ import type { BarriersResult } from '../chem/barriers.js';
 import { parseEnergyUnit, ENERGY_UNITS, type EnergyUnit } from '../chem/units.js';
 import { disconnectivitySvg } from '../render/disconnectivity.js';
 import { landscapeSvg } from '../render/landscape.js';
-import { toCsv } from '../io/tables.js';
+import { withFileSink, writeJson, writeCsvRecords, TextSink } from '../io/stream.js';
 import type { OutputFolder } from '../io/outdir.js';
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, BARRIERS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildBarriersReport as buildBarriersHtml } from '../render/html/barriers.js';
@@ -102,7 +102,12 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
   progress.done();
   if (!report.euler.holds) throw new Error(`Euler relation fails (χ = ${report.euler.characteristic}, pits − passes + peaks = ${report.euler.pits - report.euler.passes + report.euler.peaks}); this is a bug in sill, please report it with the input`);
   if (out) await writeBarriersFiles(out, result, report, render);
-  if (opts.json) process.stdout.write(JSON.stringify(report) + '\n');
+  if (opts.json) {
+    const sink = new TextSink(1);
+    writeJson(sink, report);
+    sink.write('\n');
+    sink.close();
+  }
   say(opts, barriersSummary(report, opts.out));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
@@ -116,7 +121,9 @@ export const BARRIERS_FILES = [
 
 export async function writeBarriersFiles(out: OutputFolder, result: BarriersResult, report: BarriersReport, render?: ReportRequest | null): Promise<string[]> {
   try {
-    out.write('report.json', JSON.stringify(report, null, 1) + '\n');
+    const json = (name: string, value: unknown) => withFileSink(out.path(name), (sink) => { writeJson(sink, value, 1); sink.write('\n'); });
+    const csv = <T>(name: string, rows: readonly T[], columns: [string, (r: T) => unknown][]) => withFileSink(out.path(name), (sink) => writeCsvRecords(sink, rows, columns));
+    json('report.json', report);
     const stationaryCols = <T extends BarriersReport['minima'][number] | BarriersReport['transitionStates'][number]>(): [string, (r: T) => unknown][] => [
       ['id', (r) => r.id],
       ['x', (r) => r.refined?.x ?? r.x], ['y', (r) => r.refined?.y ?? r.y], ['energy', (r) => r.refined?.energy ?? r.energy],
@@ -127,35 +134,35 @@ export async function writeBarriersFiles(out: OutputFolder, result: BarriersResu
       ['eigenvalue_1', (r) => r.hessianEigenvalues?.[0]], ['eigenvalue_2', (r) => r.hessianEigenvalues?.[1]],
       ['refinement', (r) => r.refinement.status],
     ];
-    out.write('minima.csv', toCsv(report.minima, [
+    csv('minima.csv', report.minima, [
       ...stationaryCols<BarriersReport['minima'][number]>(),
       ['basin_samples', (m) => m.basin.samples], ['basin_area', (m) => m.basin.area],
       ['free_energy', (m) => m.basin.freeEnergy], ['relative_free_energy', (m) => m.basin.relativeFreeEnergy],
       ['population', (m) => m.basin.population],
-    ]));
-    out.write('transition-states.csv', toCsv(report.transitionStates, [
+    ]);
+    csv('transition-states.csv', report.transitionStates, [
       ...stationaryCols<BarriersReport['transitionStates'][number]>(),
       ['connects_1', (t) => t.connects[0]], ['connects_2', (t) => t.connects[1]],
       ['multiplicity', (t) => t.multiplicity], ['in_hierarchy', (t) => (t.inTree ? 1 : 0)],
       ['path_file', (t) => t.path?.file], ['path_maximum', (t) => t.path?.maximum.energy], ['path_agrees', (t) => (t.path ? (t.path.agrees ? 1 : 0) : null)],
-    ]));
-    out.write('barriers.csv', toCsv(report.barriers, [
+    ]);
+    csv('barriers.csv', report.barriers, [
       ['from', (b) => b.from], ['to', (b) => b.to], ['via', (b) => b.via],
       ['forward', (b) => b.forward], ['backward', (b) => b.backward], ['energy_basis', (b) => b.energyBasis],
       ['rate_forward_per_s', (b) => b.rateForward], ['rate_backward_per_s', (b) => b.rateBackward],
-    ]));
+    ]);
     if (report.lowestBarriers) {
-      out.write('lowest-barriers.csv', toCsv(report.lowestBarriers, [
+      csv('lowest-barriers.csv', report.lowestBarriers, [
         ['a', (r) => r.a], ['b', (r) => r.b], ['via', (r) => r.via], ['energy', (r) => r.energy], ['from_a', (r) => r.fromA], ['from_b', (r) => r.fromB],
-      ]));
+      ]);
     }
     for (const t of result.transitionStates) {
       if (!t.path || t.path.images.length === 0) continue;
-      out.write(`paths/${t.id}.csv`, toCsv(pathRows(result, t.path, report.units.factor), [
+      csv(`paths/${t.id}.csv`, pathRows(result, t.path, report.units.factor), [
         ['arc_length', (p) => p.s], ['x', (p) => p.x], ['y', (p) => p.y], ['energy', (p) => p.energy],
-      ]));
+      ]);
     }
-    out.write('disconnectivity.json', JSON.stringify({ schema: 'sill/disconnectivity@1', unit: report.units.output, ...report.disconnectivity }, null, 1) + '\n');
+    json('disconnectivity.json', { schema: 'sill/disconnectivity@1', unit: report.units.output, ...report.disconnectivity });
     out.write('disconnectivity.svg', disconnectivitySvg(report));
     out.write('landscape.svg', landscapeSvg(result, report));
     addReport(out, render, ['report.json', 'minima.csv', 'transition-states.csv', 'barriers.csv', 'disconnectivity.svg', 'landscape.svg'], (ctx) => buildBarriersHtml(result, report, ctx));

@@ -223,6 +223,11 @@ export function writeCsv(sink: TextSink, n: number, columns: readonly (readonly 
   }
 }
 
+/** CSV from a list of records: `columns` maps each header to an accessor of a record (writeCsv over the list). */
+export function writeCsvRecords<T>(sink: TextSink, rows: readonly T[], columns: readonly (readonly [string, (r: T) => unknown])[]): void {
+  writeCsv(sink, rows.length, columns.map(([h, f]) => [h, (i: number) => f(rows[i])] as const));
+}
+
 /** Write into a new file at `path` through a sink, closing it whatever happens. */
 export function withFileSink(path: string, f: (sink: TextSink) => void): void {
   const sink = TextSink.file(path);
