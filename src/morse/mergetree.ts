@@ -8,6 +8,7 @@
  */
 import { GridComplex, type SurfaceComplex } from '../surface/complex.js';
 import { IntList } from './growable.js';
+import { sortOrder } from './order.js';
 
 export interface MergeTree {
   kind: 'join' | 'split';
@@ -243,36 +244,38 @@ function generalCells(grid: GridComplex, also: Uint8Array | null): Int32Array {
 export function simplifyMergeTree(tree: MergeTree, values: ArrayLike<number>, minPersistence: number): MergeTree {
   if (!(minPersistence > 0)) return tree;
   const nn = tree.vertex.length;
-  // death of each leaf's component: from the pairs
-  const deathOfBirth = new Map<number, number>();
-  for (let p = 0; p < tree.pairBirth.length; p++) deathOfBirth.set(tree.pairBirth[p], tree.pairDeath[p]);
+  // persistence of each leaf's component, from the pair born at its birth vertex (none: forever)
+  const leafPers = leafPersistence(tree, values);
+  // children of each node in increasing node order, in one array (CSR)
+  const start = new Int32Array(nn + 1);
+  for (let i = 0; i < nn; i++) if (tree.parent[i] >= 0) start[tree.parent[i] + 1]++;
+  for (let i = 0; i < nn; i++) start[i + 1] += start[i];
+  const kids = new Int32Array(start[nn]), fill = start.slice(0, nn);
+  for (let i = 0; i < nn; i++) if (tree.parent[i] >= 0) kids[fill[tree.parent[i]]++] = i;
   const rep = new Int32Array(nn).fill(-1);
-  const kids: number[][] = Array.from({ length: nn }, () => []);
-  for (let i = 0; i < nn; i++) if (tree.parent[i] >= 0) kids[tree.parent[i]].push(i);
   const V = new IntList(), P = new IntList(), B = new IntList(), C = new IntList();
   const pb = new IntList(), pd = new IntList();
-  const add = (vtx: number, birth: number) => { V.push(vtx); P.push(-1); C.push(0); return B.push(birth); };
-  const persistence = (birth: number): number => {
-    if (birth < 0) return Infinity;
-    const d = deathOfBirth.get(birth);
-    return d === undefined ? Infinity : Math.abs(values[d] - values[birth]);
-  };
   for (let i = 0; i < nn; i++) {
-    if (kids[i].length === 0) {
-      if (persistence(tree.vertex[i] < 0 ? -1 : tree.birth[i]) >= minPersistence) rep[i] = add(tree.vertex[i], tree.birth[i]);
+    const k0 = start[i], k1 = start[i + 1];
+    if (k0 === k1) {
+      if (leafPers[i] >= minPersistence) { V.push(tree.vertex[i]); P.push(-1); C.push(0); rep[i] = B.push(tree.birth[i]); }
       continue;
     }
-    const live = kids[i].map((c) => rep[c]).filter((r) => r >= 0);
-    if (live.length >= 2) {
-      const node = add(tree.vertex[i], tree.birth[i]);
-      for (const r of live) {
+    let live = 0, first = -1;
+    for (let k = k0; k < k1; k++) if (rep[kids[k]] >= 0) { if (live++ === 0) first = rep[kids[k]]; }
+    if (live >= 2) {
+      V.push(tree.vertex[i]); P.push(-1); C.push(0);
+      const node = B.push(tree.birth[i]);
+      for (let k = k0; k < k1; k++) {
+        const r = rep[kids[k]];
+        if (r < 0) continue;
         P.data[r] = node;
         C.data[node]++;
         if (B.data[r] !== tree.birth[i]) { pb.push(B.data[r]); pd.push(tree.vertex[i]); }
       }
       rep[i] = node;
-    } else if (live.length === 1) {
-      rep[i] = live[0];
+    } else if (live === 1) {
+      rep[i] = first;
     }
   }
   return {
@@ -281,4 +284,29 @@ export function simplifyMergeTree(tree: MergeTree, values: ArrayLike<number>, mi
     hasVirtual: tree.hasVirtual,
     pairBirth: pb.toArray(), pairDeath: pd.toArray(),
   };
+}
+
+/**
+ * For each node, |value(death) − value(birth)| of the pair born at the node's birth vertex, or
+ * Infinity (the virtual vertex, or a component that never dies). Births and pair births are matched
+ * by two index sorts (no map).
+ */
+function leafPersistence(tree: MergeTree, values: ArrayLike<number>): Float64Array {
+  const nn = tree.vertex.length, np = tree.pairBirth.length;
+  const out = new Float64Array(nn).fill(Infinity);
+  const nodeKey = new Float64Array(nn), pairKey = new Float64Array(np);
+  for (let i = 0; i < nn; i++) nodeKey[i] = tree.vertex[i] < 0 ? NaN : tree.birth[i];
+  for (let p = 0; p < np; p++) pairKey[p] = tree.pairBirth[p];
+  const nodes = sortOrder(nodeKey), pairs = sortOrder(pairKey);
+  for (let a = 0, b = 0; a < nodes.length && b < pairs.length;) {
+    const x = nodeKey[nodes[a]], y = pairKey[pairs[b]];
+    if (x < y) a++;
+    else if (y < x) b++;
+    else {
+      const p = pairs[b];
+      out[nodes[a]] = Math.abs(values[tree.pairDeath[p]] - values[tree.pairBirth[p]]);
+      a++;
+    }
+  }
+  return out;
 }
