@@ -60,8 +60,11 @@ if (opt.child === 'floor') {
     const p = spawnSync('/usr/bin/time', ['-f', '@@ %e %U %S %M', cmd, ...args], { stdio: ['ignore', fd, 'pipe'], encoding: 'utf8', maxBuffer: 1 << 26 });
     if (typeof fd === 'number') closeSync(fd);
     const m = /@@ ([\d.]+) ([\d.]+) ([\d.]+) (\d+)\s*$/.exec(p.stderr ?? '');
-    if (p.status !== 0 || !m) throw new Error(`${cmd} ${args.join(' ')} failed (${p.status}): ${p.stderr}`);
-    return { ms: Number(m[1]) * 1000, cpuMs: (Number(m[2]) + Number(m[3])) * 1000, maxRss: Number(m[4]) * 1024 };
+    if (!m) throw new Error(`${cmd} ${args.join(' ')} failed (${p.status}): ${p.stderr}`);
+    const r = { ms: Number(m[1]) * 1000, cpuMs: (Number(m[2]) + Number(m[3])) * 1000, maxRss: Number(m[4]) * 1024 };
+    // a run that fails is reported with its message (the build before streaming dies on large grids)
+    if (p.status !== 0) r.failed = (p.stderr.split('\n').find((l) => /\S/.test(l) && !l.startsWith('@@') && !/^Command exited/.test(l)) ?? `exit ${p.status}`).slice(0, 160);
+    return r;
   };
   const du = (p) => (statSync(p).isDirectory() ? readdirSync(p).reduce((s, f) => s + du(join(p, f)), 0) : statSync(p).size);
   const all = [];
@@ -76,8 +79,8 @@ if (opt.child === 'floor') {
       const jobs = [['floor', () => timed(process.execPath, [fileURLToPath(import.meta.url), '--child', 'floor', '--file', tif])]];
       const json = join(dir, 'out.json'), out = join(dir, 'out');
       const cli = (bin, key) => {
-        jobs.push([`${key} --json`, () => { const r = timed(process.execPath, ['--max-old-space-size=8192', bin, 'survey', tif, '--json'], json); r.bytes = statSync(json).size; rmSync(json); return r; }]);
-        if (!opt['no-out']) jobs.push([`${key} -o`, () => { rmSync(out, { recursive: true, force: true }); const r = timed(process.execPath, ['--max-old-space-size=8192', bin, 'survey', tif, '-o', out, '--quiet']); r.bytes = du(out); rmSync(out, { recursive: true, force: true }); return r; }]);
+        jobs.push([`${key} --json`, () => { const r = timed(process.execPath, ['--max-old-space-size=8192', bin, 'survey', tif, '--json'], json); r.bytes = r.failed ? 0 : statSync(json).size; rmSync(json, { force: true }); return r; }]);
+        if (!opt['no-out']) jobs.push([`${key} -o`, () => { rmSync(out, { recursive: true, force: true }); const r = timed(process.execPath, ['--max-old-space-size=8192', bin, 'survey', tif, '-o', out, '--quiet']); r.bytes = existsSync(out) ? du(out) : 0; rmSync(out, { recursive: true, force: true }); return r; }]);
       };
       cli(sill, 'survey');
       if (opt.before) cli(opt.before, 'before');
@@ -86,8 +89,10 @@ if (opt.child === 'floor') {
       for (let k = 0; k < repeat; k++) for (const [key, f] of jobs) runs[key].push(f());
       const best = (key, f = 'ms') => Math.min(...runs[key].map((r) => r[f]));
       const ratio = (a, b, f = 'ms') => median(runs[a].map((r, k) => runs[b][k][f] / r[f]));
+      const failed = (key) => runs[key].find((r) => r.failed)?.failed;
       const row = (key) => {
         const r = runs[key];
+        if (failed(key)) { console.log(`  ${key.padEnd(16)} FAILED after ${fmt(r[0].ms)}, peak ${(Math.max(...r.map((x) => x.maxRss)) / 2 ** 20).toFixed(0)} MiB: ${failed(key)}`); return; }
         const extra = r[0].bytes ? `, ${(r[0].bytes / 2 ** 20).toFixed(0)} MiB written` : '';
         console.log(`  ${key.padEnd(16)} ${fmt(best(key)).padStart(9)} wall ${fmt(best(key, 'cpuMs')).padStart(9)} CPU   peak ${(Math.max(...r.map((x) => x.maxRss)) / cells).toFixed(1).padStart(5)} B/cell (${(Math.max(...r.map((x) => x.maxRss)) / 2 ** 20).toFixed(0)} MiB)${extra}`);
       };
@@ -95,16 +100,16 @@ if (opt.child === 'floor') {
       for (const [key] of jobs) row(key);
       const res = { size, cells, repeat, runs, load: loadavg()[0] };
       for (const [key] of jobs) {
-        if (key === 'floor') continue;
+        if (key === 'floor' || failed(key)) continue;
         const vsFloor = ratio('floor', key), vsFloorCpu = ratio('floor', key, 'cpuMs');
         res[`${key} / floor`] = vsFloor;
         let line = `  ${key.padEnd(16)} ${vsFloor.toFixed(2)} × the floor (CPU ${vsFloorCpu.toFixed(2)} ×)`;
-        if (gudhi && key !== 'gudhi') {
+        if (gudhi && key !== 'gudhi' && !failed('gudhi')) {
           const g = ratio(key, 'gudhi'), gc = ratio(key, 'gudhi', 'cpuMs');
           res[`gudhi / ${key}`] = g;
           line += `; GUDHI takes ${g.toFixed(2)} × as long (CPU ${gc.toFixed(2)} ×)${key === 'survey --json' ? ` — target ≥ 5: ${g >= 5 ? 'met' : 'NOT met'}` : ''}`;
         }
-        if (key.startsWith('before') && runs[key.replace('before', 'survey')]) line += `; after / before ${ratio(key, key.replace('before', 'survey')).toFixed(2)} ×`;
+        if (key.startsWith('before') && runs[key.replace('before', 'survey')] && !failed(key.replace('before', 'survey'))) line += `; after / before ${ratio(key, key.replace('before', 'survey')).toFixed(2)} ×`;
         console.log(line);
       }
       const peak = Math.max(...runs['survey --json'].map((r) => r.maxRss)) / cells;

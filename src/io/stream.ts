@@ -6,14 +6,21 @@
  */
 import { closeSync, openSync, writeSync } from 'node:fs';
 
-/** A buffered text sink: strings are gathered and written as UTF-8 in chunks of about `chunk` characters. */
+/**
+ * A buffered text sink: strings are encoded as UTF-8 into one reused buffer of about `chunk`
+ * bytes, written out whenever it is full (small strings are first joined in a short pending run,
+ * long ones go out on their own): no copy of the text beyond its encoding.
+ */
 export class TextSink {
-  private parts: string[] = [];
-  private size = 0;
+  private pending = '';
+  private readonly buf: Buffer;
+  private pos = 0;
   private closed = false;
 
   /** `fd` is an open file descriptor (1 for stdout); `owned` closes it with the sink. */
-  constructor(readonly fd: number, private readonly owned = false, private readonly chunk = 1 << 18) {}
+  constructor(readonly fd: number, private readonly owned = false, chunk = 1 << 18) {
+    this.buf = Buffer.allocUnsafe(Math.max(4, chunk));
+  }
 
   /** A sink writing a new file at `path` (truncated if it exists). */
   static file(path: string): TextSink {
@@ -21,18 +28,31 @@ export class TextSink {
   }
 
   write(s: string): void {
-    this.parts.push(s);
-    this.size += s.length;
-    if (this.size >= this.chunk) this.flush();
+    this.pending += s;
+    if (this.pending.length >= PENDING) this.encode();
+  }
+
+  /** Move the pending run into the buffer (UTF-8 is at most 3 bytes per UTF-16 unit). */
+  private encode(): void {
+    const s = this.pending;
+    if (s.length === 0) return;
+    this.pending = '';
+    if (3 * s.length > this.buf.length - this.pos) {
+      this.drain();
+      if (3 * s.length > this.buf.length) { writeAll(this.fd, Buffer.from(s, 'utf8')); return; }
+    }
+    this.pos += this.buf.write(s, this.pos, 'utf8');
+  }
+
+  private drain(): void {
+    if (this.pos > 0) writeAll(this.fd, this.buf.subarray(0, this.pos));
+    this.pos = 0;
   }
 
   /** Write what is buffered. */
   flush(): void {
-    if (this.size === 0 && this.parts.length === 0) return;
-    const buf = Buffer.from(this.parts.length === 1 ? this.parts[0] : this.parts.join(''), 'utf8');
-    this.parts = [];
-    this.size = 0;
-    writeAll(this.fd, buf);
+    this.encode();
+    this.drain();
   }
 
   /** Flush, and close the descriptor when the sink opened it. */
@@ -43,6 +63,8 @@ export class TextSink {
     if (this.owned) closeSync(this.fd);
   }
 }
+/** Characters gathered before they are encoded into the buffer. */
+const PENDING = 1 << 13;
 
 /** writeSync until every byte is out; a non-blocking pipe that is full (EAGAIN) is waited for. */
 function writeAll(fd: number, buf: Buffer): void {
@@ -140,6 +162,10 @@ function writeArray(sink: TextSink, n: number, at: (i: number) => unknown, gap: 
   const inner = ind + gap;
   const sep = gap ? ',\n' + inner : ',';
   sink.write(gap ? '[\n' + inner : '[');
+  // the list's depth in gaps (the writer indents by whole gaps), and the length of the wrappers' text
+  const depth = gap ? ind.length / gap.length : 0;
+  let head = 0, tail = 0;
+  for (let k = 0; k <= depth; k++) { head += 2 + gap.length * (k + 1); tail += 2 + gap.length * k; }
   // runs of records that the runtime's own serialiser writes as this writer would (nativeSafe)
   // go to JSON.stringify a batch at a time, and the batch's text is shifted to this depth
   const batch: unknown[] = [];
@@ -148,8 +174,9 @@ function writeArray(sink: TextSink, n: number, at: (i: number) => unknown, gap: 
     if (compact && gap) t = batch.map((r) => JSON.stringify(r)).join(sep);
     else if (!gap || compact) t = JSON.stringify(batch).slice(1, -1);
     else {
-      t = JSON.stringify(batch, null, gap).slice(2 + gap.length, -2);
-      if (ind) t = t.replaceAll('\n', '\n' + ind);
+      // wrapped in as many arrays as the list is deep, the runtime indents the records as they
+      // stand here; the wrappers' brackets are cut off again
+      t = JSON.stringify(depth === 0 ? batch : wrap(batch, depth), null, gap).slice(head, -tail);
     }
     sink.write(t);
     batch.length = 0;
@@ -176,6 +203,12 @@ function writeArray(sink: TextSink, n: number, at: (i: number) => unknown, gap: 
  * runtime writes "0"), no `toJSON` and no Rows below it. Nested JSON text is the standalone text
  * with every line break followed by the enclosing indentation (JSON strings never hold a raw line break).
  */
+/** `x` inside `depth` one-element arrays. */
+function wrap(x: unknown, depth: number): unknown {
+  for (let k = 0; k < depth; k++) x = [x];
+  return x;
+}
+
 function nativeSafe(v: unknown): boolean {
   if (typeof v === 'number') return v !== 0 || 1 / v > 0;
   if (v === null || typeof v !== 'object') return true;
@@ -184,8 +217,9 @@ function nativeSafe(v: unknown): boolean {
     for (let i = 0; i < v.length; i++) if (!nativeSafe(v[i])) return false;
     return true;
   }
+  // for…in also visits inherited enumerable keys: at worst a record takes the slow path
   const o = v as Record<string, unknown>;
-  for (const k of Object.keys(o)) if (!nativeSafe(o[k])) return false;
+  for (const k in o) if (!nativeSafe(o[k])) return false;
   return true;
 }
 

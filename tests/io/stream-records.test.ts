@@ -5,10 +5,10 @@
  */
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
-import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { mkdtempSync, openSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { withFileSink, writeJson, Rows, compactRows } from '../../src/io/stream.js';
+import { withFileSink, writeJson, Rows, compactRows, TextSink } from '../../src/io/stream.js';
 
 function capture(f: Parameters<typeof withFileSink>[1]): string {
   const dir = mkdtempSync(join(tmpdir(), 'sill-records-'));
@@ -39,10 +39,36 @@ describe('writeJson records', () => {
     }), { numRuns: 300 });
   });
 
+  it('lists nested at any depth, among other members and in arrays', () => {
+    fc.assert(fc.property(fc.array(record, { maxLength: 6 }), fc.integer({ min: 0, max: 4 }), fc.constantFrom(1, 2, 3), (recs, depth, indent) => {
+      let v: unknown = new Rows(recs.length, (i) => recs[i]), plain: unknown = recs;
+      for (let k = 0; k < depth; k++) { v = k % 2 ? [1, v] : { x: -0, v }; plain = k % 2 ? [1, plain] : { x: -0, v: plain }; }
+      expect(capture((s) => writeJson(s, v, indent))).toBe(reference(plain, indent));
+    }), { numRuns: 200 });
+  });
+
   it('compact rows: one record a line, the records as JSON.stringify writes them', () => {
     fc.assert(fc.property(fc.array(record, { minLength: 1, maxLength: 8 }), (recs) => {
       const got = capture((s) => writeJson(s, { list: compactRows(recs.length, (i) => recs[i]) }, 1));
       expect(got).toBe(`{\n "list": [\n${recs.map((r) => '  ' + reference(r, 0)).join(',\n')}\n ]\n}`);
     }), { numRuns: 200 });
+  });
+});
+
+describe('TextSink', () => {
+  it('keeps the order and the bytes of small and large pieces of multi-byte text, at any buffer size', () => {
+    // Source: Node's own UTF-8 encoder (Buffer.from(text, 'utf8')) of the concatenated text.
+    fc.assert(fc.property(fc.array(fc.oneof(fc.string({ unit: 'grapheme', maxLength: 5 }), fc.string({ unit: 'grapheme', minLength: 2000, maxLength: 12000 })), { maxLength: 30 }), fc.constantFrom(4, 64, 5000, 1 << 18), (pieces, chunk) => {
+      const dir = mkdtempSync(join(tmpdir(), 'sill-sink-'));
+      try {
+        const path = join(dir, 's.txt');
+        const sink = new TextSink(openSync(path, 'w'), true, chunk);
+        for (const p of pieces) sink.write(p);
+        sink.close();
+        expect(readFileSync(path).equals(Buffer.from(pieces.join(''), 'utf8'))).toBe(true);
+      } finally {
+        rmSync(dir, { recursive: true, force: true });
+      }
+    }), { numRuns: 60 });
   });
 });
