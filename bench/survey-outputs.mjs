@@ -11,7 +11,8 @@
  * The cases: every GeoTIFF and .npy fixture (survey --json and -o), boundary, connectivity and
  * persistence variants on a small fractal terrain with ties, a scattered-sample mesh, the
  * Müller–Brown grid and the demo scan for barriers, and (--big) the bench's 1000² rough terrain.
- * report.html is left out (it carries the time it was made).
+ * report.html is left out (it carries the time it was made), and so are the output folder's own
+ * bookkeeping files (.sill-*).
  */
 import { spawnSync } from 'node:child_process';
 import { mkdirSync, readdirSync, readFileSync, writeFileSync, statSync, existsSync, rmSync } from 'node:fs';
@@ -113,7 +114,7 @@ function files(dir) {
     for (const f of readdirSync(d).sort()) {
       const p = join(d, f);
       if (statSync(p).isDirectory()) walk(p);
-      else if (f !== 'report.html') out.push(relative(dir, p));
+      else if (f !== 'report.html' && !f.startsWith('.sill-')) out.push(relative(dir, p));
     }
   };
   walk(dir);
