@@ -28,7 +28,8 @@ export function renderHtml(doc: ReportDoc): string {
   const caution = doc.cautions.length
     ? `<aside class="caution" role="note" aria-label="caution">${doc.cautions.map((c, i) => `<p>${i === 0 ? '<strong>Caution. </strong>' : ''}${esc(c)}</p>`).join('')}</aside>`
     : '';
-  const toggles = m.toggles.map((t) => `<label class="tog"><input type="checkbox" data-toggle="${esc(t.id)}"${t.on ? ' checked' : ''}> ${esc(t.label)}</label>`).join('');
+  // a switch only for the layers the map holds (no contours on a surface too rough for them, no outlines when none were traced)
+  const toggles = m.toggles.filter((t) => m.svg.includes(`data-layer="${t.id}"`)).map((t) => `<label class="tog"><input type="checkbox" data-toggle="${esc(t.id)}"${t.on ? ' checked' : ''}> ${esc(t.label)}</label>`).join('');
   const fig = (id: string, title: string, b: { svg: string; caption: string } | null, extra = '') => b
     ? `<section class="card" id="sec-${id}" aria-labelledby="h-${id}"><h2 id="h-${id}">${esc(title)}</h2>${extra}<figure>${b.svg}<figcaption>${esc(b.caption)}</figcaption></figure></section>`
     : '';

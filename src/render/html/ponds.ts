@@ -8,7 +8,7 @@ import type { PondsReport } from '../../report/ponds.js';
 import type { DepressionOutline } from '../../hydro/vectors.js';
 import { labelBoxes } from '../../hydro/vectors.js';
 import { mapSvg, type MapMarker, type MapShape } from '../figures/map.js';
-import { traceRegion } from '../figures/outline.js';
+import { traceRegion, RegionScratch } from '../figures/outline.js';
 import { treeSvg, type TreeNodeIn } from '../figures/tree.js';
 import { persistenceSvg, type DiagramPoint } from '../figures/persistence.js';
 import { blockCentreSample, mapToPlot } from '../figures/raster.js';
@@ -66,7 +66,7 @@ export function displayOutlines(result: PondsResult, report: PondsReport, displa
   }
   const shapes: MapShape[] = [];
   let points = 0, traced = 0;
-  const scratch = new Uint8Array((dw + 2) * (dh + 2));
+  const scratch = new RegionScratch(dw, dh);
   for (const i of topIndices(Float64Array.from(deps, (d) => d.volume), 4 * PONDS_LIMITS.outlines)) {
     const d = deps[i];
     if (shapes.length >= PONDS_LIMITS.outlines || points >= PONDS_LIMITS.outlinePoints || traced >= PONDS_LIMITS.tracedCells) break;

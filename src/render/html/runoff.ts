@@ -8,7 +8,7 @@ import type { RunoffResult } from '../../hydro/runoff.js';
 import type { RunoffReport, RunoffDepressionRecord } from '../../report/runoff.js';
 import { labelBoxes } from '../../hydro/vectors.js';
 import { mapSvg, type MapMarker, type MapShape } from '../figures/map.js';
-import { traceRegion } from '../figures/outline.js';
+import { traceRegion, RegionScratch } from '../figures/outline.js';
 import { treeSvg, type TreeNodeIn } from '../figures/tree.js';
 import { blockCentreSample } from '../figures/raster.js';
 import { fmtNum } from '../figures/scale.js';
@@ -34,7 +34,7 @@ function pondOutlines(report: RunoffReport, displayBodies: Int32Array, dw: numbe
   const box = labelBoxes(displayBodies, dw, report.ponds.length);
   const shapes: MapShape[] = [];
   let points = 0, traced = 0;
-  const scratch = new Uint8Array((dw + 2) * (dh + 2));
+  const scratch = new RegionScratch(dw, dh);
   const zu = report.units.elevation, vu = report.units.volume;
   // ponds are numbered largest first
   for (const p of report.ponds) {
