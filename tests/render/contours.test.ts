@@ -57,3 +57,37 @@ describe('contour lines in plot coordinates', () => {
     expect(capped.levels.step).toBeGreaterThan(all.levels.step);
   });
 });
+
+describe('contour cap on rough surfaces', async () => {
+  const { IsolineTracer } = await import('../../src/render/figures/isolines.js');
+  const { surfaceDisplay, displayNotes } = await import('../../src/render/html/surface.js');
+  const { Grid } = await import('../../src/surface/grid.js');
+  // white noise (invented): every level crosses about half the raster edges
+  const w = 120, h = 90, z = new Float32Array(w * h);
+  let s = 99;
+  for (let i = 0; i < z.length; i++) { s = (s * 1103515245 + 12345) >>> 0; z[i] = (s >>> 8) / 2 ** 24; }
+
+  it('draws no line when even the coarsest levels exceed the cap, and says how many vertices they would need', () => {
+    const set = contourLines(z, w, h, 1, 12, 1000);
+    expect(set.lines).toEqual([]);
+    expect(set.points).toBe(0);
+    // the count is the exact number of crossed raster edges of the coarsest level set (no nodata: every edge is traced)
+    let traced = 0;
+    for (const L of set.levels.levels) traced += new IsolineTracer(w, h).trace(z, L).points;
+    expect(set.omitted).toEqual({ points: traced, cap: 1000 });
+    expect(traced).toBeGreaterThan(1000);
+    const notes = displayNotes(surfaceDisplay(new Grid({ width: w, height: h, values: z })), new Grid({ width: w, height: h, values: z }), set, 'm');
+    expect(notes.join(' ')).toMatch(new RegExp(`contours left out: .* ${traced} vertices .*cap 1000`));
+  });
+
+  it('never draws more vertices than the cap', () => {
+    for (const cap of [5_000, 20_000, 1e6]) {
+      const set = contourLines(z, w, h, 1, 12, cap);
+      expect(set.points).toBeLessThanOrEqual(cap);
+      let drawn = 0;
+      for (const l of set.lines) drawn += coords(l.d).length;
+      expect(drawn).toBe(set.points);
+      if (cap === 1e6) expect(set.lines.length).toBeGreaterThan(0);
+    }
+  });
+});
