@@ -1,0 +1,116 @@
+#!/usr/bin/env node
+/**
+ * `--report` on rough surfaces: white noise (float32, uniform on [0, 10), seeded) written as .npy
+ * at each size, and for each command the same command line with and without `--report`, each run
+ * in a child process of its own (so its peak memory is its alone), the two alternating so both see
+ * the same load from other work on the machine. Prints wall and CPU time, peak RSS and the size of
+ * report.html; the ratios (with / without) should stay flat as the grid grows: the report's cost
+ * grows like the analysis (linear in cells and features), not faster.
+ *
+ *   npm run build && node bench/report-noise.mjs [--sizes 1000,2000,4000] [--commands survey,ponds] [--repeat 1] [--png] [--seed 7]
+ *
+ * A run that fails (e.g. out of memory) is recorded with its exit code and first error line. A
+ * report, not a test: it exits 0 unless the script itself breaks. Results: bench/out/report-noise.json.
+ */
+import { parseArgs } from 'node:util';
+import { spawnSync } from 'node:child_process';
+import { writeFileSync, readFileSync, mkdtempSync, rmSync, mkdirSync, statSync, existsSync, openSync, writeSync, closeSync } from 'node:fs';
+import { tmpdir, cpus, totalmem, loadavg } from 'node:os';
+import { join, dirname } from 'node:path';
+import { fileURLToPath, pathToFileURL } from 'node:url';
+
+const HERE = dirname(fileURLToPath(import.meta.url));
+const DIST = join(HERE, '..', 'dist');
+
+const { values: opt } = parseArgs({
+  options: {
+    sizes: { type: 'string', default: '1000,2000,4000' },
+    commands: { type: 'string', default: 'survey,ponds' },
+    repeat: { type: 'string', default: '1' },
+    seed: { type: 'string', default: '7' },
+    png: { type: 'boolean', default: false },
+    'max-old-space': { type: 'string', default: '16384' },
+    child: { type: 'boolean', default: false },
+    result: { type: 'string' },
+  },
+  allowPositionals: true,
+});
+
+if (opt.child) {
+  // run the command line in this process and record its CPU time and peak memory when it exits
+  const args = process.argv.slice(process.argv.indexOf('--') + 1);
+  const cpu0 = process.cpuUsage();
+  const t0 = performance.now();
+  process.on('exit', (code) => {
+    const cpu = process.cpuUsage(cpu0);
+    writeFileSync(opt.result, JSON.stringify({ code, ms: performance.now() - t0, cpuMs: (cpu.user + cpu.system) / 1000, maxRss: process.resourceUsage().maxRSS * 1024 }));
+  });
+  process.argv = [process.argv[0], join(DIST, 'cli/main.js'), ...args];
+  await import(pathToFileURL(join(DIST, 'cli/main.js')).href);
+} else {
+  if (!existsSync(join(DIST, 'cli/main.js'))) { console.error('bench/report-noise: run npm run build first'); process.exit(2); }
+  const sizes = opt.sizes.split(',').map(Number), commands = opt.commands.split(','), repeat = Math.max(1, Number(opt.repeat));
+  const fmt = (ms) => (ms >= 1000 ? `${(ms / 1000).toFixed(1)} s` : `${ms.toFixed(0)} ms`);
+  const gib = (b) => `${(b / 2 ** 30).toFixed(2)} GiB`;
+  const self = fileURLToPath(import.meta.url);
+  const dir = mkdtempSync(join(tmpdir(), 'sill-bench-report-noise-'));
+  const out = { date: new Date().toISOString(), seed: Number(opt.seed), png: opt.png, cores: cpus().length, memory: totalmem(), loadStart: loadavg()[0], runs: [] };
+  console.log(`sill --report on white noise — ${out.date.slice(0, 10)}; ${cpus().length} cores, ${(totalmem() / 2 ** 30).toFixed(0)} GiB, load average ${loadavg()[0].toFixed(1)}`);
+  console.log(`each line: the command without and with --report${opt.png ? ' --png' : ''}, best of ${repeat}; node --max-old-space-size=${opt['max-old-space']}\n`);
+  const rows = [['size', 'command', 'without --report', 'with --report', 'ratio (wall)', 'ratio (CPU)', 'peak RSS without', 'peak RSS with', 'report.html']];
+  try {
+    for (const size of sizes) {
+      // white noise, uniform on [0, 10): xorshift32, written row by row as a float32 .npy
+      const npy = join(dir, `noise-${size}.npy`);
+      let header = `{'descr': '<f4', 'fortran_order': False, 'shape': (${size}, ${size}), }`;
+      header += ' '.repeat((64 - ((10 + header.length + 1) % 64)) % 64) + '\n';
+      const pre = Buffer.alloc(10); pre.write('\x93NUMPY', 0, 'latin1'); pre[6] = 1; pre.writeUInt16LE(header.length, 8);
+      const fd = openSync(npy, 'w');
+      writeSync(fd, Buffer.concat([pre, Buffer.from(header, 'latin1')]));
+      let s = Number(opt.seed) >>> 0 || 1;
+      const row = new Float32Array(size);
+      for (let r = 0; r < size; r++) {
+        for (let c = 0; c < size; c++) { s ^= s << 13; s >>>= 0; s ^= s >>> 17; s ^= s << 5; s >>>= 0; row[c] = (s / 2 ** 32) * 10; }
+        writeSync(fd, new Uint8Array(row.buffer));
+      }
+      closeSync(fd);
+      for (const cmd of commands) {
+        const run = (report) => {
+          const res = join(dir, 'run.json'), target = join(dir, 'out');
+          rmSync(target, { recursive: true, force: true });
+          rmSync(res, { force: true });
+          const extra = cmd === 'runoff' ? ['--depth', '50mm'] : [];
+          const flags = report ? ['--report', ...(opt.png ? ['--png'] : [])] : [];
+          const p = spawnSync(process.execPath, [`--max-old-space-size=${opt['max-old-space']}`, self, '--child', '--result', res, '--', cmd, npy, ...extra, '-o', target, '--quiet', ...flags], { encoding: 'utf8', maxBuffer: 1 << 26 });
+          const r = existsSync(res) ? JSON.parse(readFileSync(res, 'utf8')) : { code: p.status ?? p.signal, ms: NaN, cpuMs: NaN, maxRss: NaN };
+          r.code = p.status ?? p.signal;
+          if (p.status !== 0) r.error = (p.stderr || '').split('\n').find((l) => l.trim()) ?? `exit ${p.status ?? p.signal}`;
+          r.html = report && existsSync(join(target, 'report.html')) ? statSync(join(target, 'report.html')).size : null;
+          r.png = report && opt.png && existsSync(join(target, 'map.png')) ? statSync(join(target, 'map.png')).size : null;
+          rmSync(target, { recursive: true, force: true });
+          console.error(`bench/report-noise: ${size}² ${cmd}${report ? ' --report' : ''}: ${r.code === 0 ? `${fmt(r.ms)}, peak ${gib(r.maxRss)}` : `FAILED (${r.error})`}`);
+          return r;
+        };
+        const plain = [], withReport = [];
+        for (let k = 0; k < repeat; k++) { plain.push(run(false)); withReport.push(run(true)); }
+        const best = (rs) => rs.filter((r) => r.code === 0).reduce((b, r) => (b === null || r.ms < b.ms ? r : b), null);
+        const a = best(plain), b = best(withReport);
+        out.runs.push({ size, command: cmd, plain, report: withReport });
+        const cell = (r, all) => (r ? `${fmt(r.ms)} (CPU ${fmt(r.cpuMs)})` : `failed: ${all[0].error}`);
+        rows.push([`${size}²`, cmd, cell(a, plain), cell(b, withReport),
+          a && b ? `${(b.ms / a.ms).toFixed(2)} ×` : '—', a && b ? `${(b.cpuMs / a.cpuMs).toFixed(2)} ×` : '—',
+          a ? gib(a.maxRss) : '—', b ? gib(b.maxRss) : '—', b?.html ? `${(b.html / 2 ** 20).toFixed(1)} MiB` : '—']);
+      }
+      rmSync(npy, { force: true });
+    }
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+  const widths = rows[0].map((_, j) => Math.max(...rows.map((r) => String(r[j]).length)));
+  for (const r of rows) console.log(r.map((c, j) => String(c).padEnd(widths[j])).join('  '));
+  out.loadEnd = loadavg()[0];
+  console.log(`\nload average now ${loadavg()[0].toFixed(1)}`);
+  mkdirSync(join(HERE, 'out'), { recursive: true });
+  writeFileSync(join(HERE, 'out', 'report-noise.json'), JSON.stringify(out, null, 1) + '\n');
+  console.log(`full results: ${join(HERE, 'out', 'report-noise.json')}`);
+}
