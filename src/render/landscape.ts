@@ -1,12 +1,12 @@
 /**
- * The energy landscape as an SVG figure (our own design): filled contour bands (d3-contour) on a
+ * The energy landscape as an SVG figure (our own design): filled contour bands (marching squares) on a
  * ramp from deep blue (low) to brick red (high), minima as open discs, transition states as red
  * diamonds, minimum-energy paths as dark lines with a white halo, a colour bar with the energy
  * levels, axes in the input's coordinates. Large grids are block-averaged to at most ~400 cells a
  * side for drawing; scattered samples are drawn from their triangulation (linear on each triangle)
  * resampled on a raster.
  */
-import { contours } from 'd3-contour';
+import { fillRings, paddedRaster } from './figures/isolines.js';
 import type { BarriersResult } from '../chem/barriers.js';
 import type { BarriersReport } from '../report/barriers.js';
 import type { Grid } from '../surface/grid.js';
@@ -122,21 +122,20 @@ export function landscapeSvg(result: BarriersResult, report: BarriersReport): st
   out.push(`<rect x="${px(L)}" y="${px(T)}" width="${px(PW)}" height="${px(PH)}" fill="#f3f4f6"/>`);
 
   // filled bands: each level's region {E ≥ level} painted over the previous one
-  const gen = contours().size([ras.w, ras.h]).thresholds(levels);
-  const layers = gen(Array.from(ras.values));
-  out.push('<g clip-path="url(#plot)" stroke="none">');
-  layers.forEach((mp, k) => {
-    let d = '';
-    for (const poly of mp.coordinates) {
-      for (const ring of poly) {
-        ring.forEach(([u, v], i) => {
-          const [x, y] = toMap(u, v);
-          d += `${i === 0 ? 'M' : 'L'}${px(sx(x))} ${px(sy(y))}`;
-        });
-        d += 'Z';
+  // (rings traced on typed arrays, isolines.ts: with the even-odd rule holes need no sorting into their polygons)
+  const padded = paddedRaster(ras.values, ras.w, ras.h);
+  levels.forEach((level, k) => {
+    const iso = fillRings(padded, level);
+    const parts: string[] = [];
+    for (let q = 0; q < iso.lines; q++) {
+      let d = '';
+      for (let i = iso.start[q]; i < iso.start[q + 1]; i++) {
+        const [x, y] = toMap(iso.xy[2 * i], iso.xy[2 * i + 1]);
+        d += `${d ? 'L' : 'M'}${px(sx(x))} ${px(sy(y))}`;
       }
+      parts.push(d + 'Z');
     }
-    if (d) out.push(`<path d="${d}" fill="${colourOf(k)}" fill-rule="evenodd"/>`);
+    if (parts.length) out.push(`<path d="${parts.join('')}" fill="${colourOf(k)}" fill-rule="evenodd"/>`);
   });
   out.push('</g>');
 

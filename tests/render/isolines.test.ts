@@ -1,7 +1,7 @@
 import { describe, it, expect } from 'vitest';
 import fc from 'fast-check';
 import { contours } from 'd3-contour';
-import { IsolineTracer } from '../../src/render/figures/isolines.js';
+import { IsolineTracer, fillRings, paddedRaster } from '../../src/render/figures/isolines.js';
 
 type Seg = string;
 const key = (x: number, y: number) => `${x.toFixed(9)},${y.toFixed(9)}`;
@@ -107,5 +107,40 @@ describe('marching squares on typed arrays (isolines.ts)', () => {
     expect(part.lines).toBe(1);
     expect(part.closed[0]).toBe(0);
     expect(part.points).toBe(4);
+  });
+});
+
+/** Even-odd containment of a point in a set of rings (crossing number). */
+function evenOdd(xs: number[][][], x: number, y: number): boolean {
+  let inside = false;
+  for (const ring of xs) for (let i = 0, j = ring.length - 1; i < ring.length; j = i++) {
+    const [xi, yi] = ring[i], [xj, yj] = ring[j];
+    if ((yi > y) !== (yj > y) && x < ((xj - xi) * (y - yi)) / (yj - yi) + xi) inside = !inside;
+  }
+  return inside;
+}
+
+describe('filled regions for an even-odd fill (fillRings)', () => {
+  it('cover the same points as d3-contour\'s polygons with their holes, nodata and the raster edge included (reference: d3-contour 4.0.3)', () => {
+    fc.assert(fc.property(gridArb, fc.integer({ min: 0, max: 5 }), fc.integer(), ({ w, h, v }, k, ps) => {
+      const level = k + 0.37;
+      const iso = fillRings(paddedRaster(v, w, h), level);
+      const ours: number[][][] = [];
+      for (let q = 0; q < iso.lines; q++) {
+        expect(iso.closed[q]).toBe(1);
+        const ring: number[][] = [];
+        for (let i = iso.start[q]; i < iso.start[q + 1]; i++) ring.push([iso.xy[2 * i], iso.xy[2 * i + 1]]);
+        ours.push(ring);
+      }
+      const mp = contours().size([w, h]).contour(Array.from(v), level);
+      // probe points at irrational-ish offsets (never on a ring)
+      let s = ps >>> 0 || 1;
+      for (let t = 0; t < 60; t++) {
+        s = (s * 1103515245 + 12345) >>> 0; const x = (s / 2 ** 32) * w * 1.001 + 0.0007;
+        s = (s * 1103515245 + 12345) >>> 0; const y = (s / 2 ** 32) * h * 1.001 + 0.0011;
+        const ref = mp.coordinates.some((poly) => evenOdd([poly[0]], x, y) && !poly.slice(1).some((hole) => evenOdd([hole], x, y)));
+        expect(evenOdd(ours, x, y)).toBe(ref);
+      }
+    }), { numRuns: 200, seed: 16 });
   });
 });

@@ -112,14 +112,15 @@ export class IsolineTracer {
     let np = 0;
     const put = (e: number) => {
       let x: number, y: number, v0: number, v1: number;
+      // a value of −∞ (the margin of paddedRaster) puts the crossing halfway: on the raster's edge
       if (e < nH) {
         const r = Math.floor(e / (w - 1)), c = e - r * (w - 1);
         v0 = values[r * w + c]; v1 = values[r * w + c + 1];
-        x = c + 0.5 + (level - v0) / (v1 - v0); y = r + 0.5;
+        x = c + 0.5 + (v0 === -Infinity || v1 === -Infinity ? 0.5 : (level - v0) / (v1 - v0)); y = r + 0.5;
       } else {
         const i = e - nH, r = Math.floor(i / w), c = i - r * w;
         v0 = values[r * w + c]; v1 = values[(r + 1) * w + c];
-        x = c + 0.5; y = r + 0.5 + (level - v0) / (v1 - v0);
+        x = c + 0.5; y = r + 0.5 + (v0 === -Infinity || v1 === -Infinity ? 0.5 : (level - v0) / (v1 - v0));
       }
       xy[2 * np] = x; xy[2 * np + 1] = y; np++;
       done[e] = pass;
@@ -147,4 +148,28 @@ export class IsolineTracer {
     starts.push(np);
     return { xy, start: Int32Array.from(starts), closed: Uint8Array.from(closed), lines: closed.length, points: np };
   }
+}
+
+/**
+ * Closed rings around the region {value ≥ level} of a w × h raster, for an even-odd fill, drawn as
+ * d3-contour draws them: the raster is framed by a margin below every level, so every ring closes,
+ * running along the raster's edge (x = 0 or w, y = 0 or h) where the region reaches it; nodata
+ * counts as below every level, a ring passing it runs through the centres of the values beside it.
+ * Coordinates as in `trace` (value k at k + ½). One `padded` raster (paddedRaster) serves all levels.
+ */
+export function fillRings(padded: { values: Float64Array; tracer: IsolineTracer }, level: number): Isolines {
+  const iso = padded.tracer.trace(padded.values, level);
+  for (let i = 0; i < 2 * iso.points; i++) iso.xy[i] -= 1;
+  return iso;
+}
+
+/**
+ * The raster framed by one cell of −∞ and a tracer for it, for fillRings. Nodata becomes
+ * −Number.MAX_VALUE: below every level, and the linear interpolation toward it puts the crossing on
+ * the value beside it.
+ */
+export function paddedRaster(values: ArrayLike<number>, w: number, h: number): { values: Float64Array; tracer: IsolineTracer } {
+  const W = w + 2, out = new Float64Array(W * (h + 2)).fill(-Infinity);
+  for (let r = 0; r < h; r++) for (let c = 0; c < w; c++) { const v = values[r * w + c]; out[(r + 1) * W + c + 1] = v === v ? v : -Number.MAX_VALUE; }
+  return { values: out, tracer: new IsolineTracer(W, h + 2) };
 }
