@@ -7,10 +7,15 @@
  * report.html; the ratios (with / without) should stay flat as the grid grows: the report's cost
  * grows like the analysis (linear in cells and features), not faster.
  *
- *   npm run build && node bench/report-noise.mjs [--sizes 1000,2000,4000] [--commands survey,ponds] [--repeat 1] [--png] [--seed 7]
+ *   npm run build && node bench/report-noise.mjs [--sizes 1000,2000,4000] [--commands survey,ponds] [--repeat 1] [--png] [--seed 7] [--mode command|library]
+ *
+ * --mode library runs the library instead of the command line: loadSurface + surveyReport /
+ * pondsReport (the analysis and its report object), against the same plus building the page and
+ * writing report.html and the SVG figures through an output folder — no JSON, CSV or GeoJSON
+ * files, so it measures the report where the command's own writers do not (yet) cope with a grid.
  *
  * A run that fails (e.g. out of memory) is recorded with its exit code and first error line. A
- * report, not a test: it exits 0 unless the script itself breaks. Results: bench/out/report-noise.json.
+ * report, not a test: it exits 0 unless the script itself breaks. Results: bench/out/report-noise-<mode>.json.
  */
 import { parseArgs } from 'node:util';
 import { spawnSync } from 'node:child_process';
@@ -30,13 +35,38 @@ const { values: opt } = parseArgs({
     seed: { type: 'string', default: '7' },
     png: { type: 'boolean', default: false },
     'max-old-space': { type: 'string', default: '16384' },
+    mode: { type: 'string', default: 'command' },
     child: { type: 'boolean', default: false },
+    lib: { type: 'string' },
     result: { type: 'string' },
   },
   allowPositionals: true,
 });
 
-if (opt.child) {
+if (opt.lib) {
+  // library mode, one process per run: the analysis, then (with --result ending in .report) the page
+  const [load, surveyRep, pondsRep, htmlSurvey, htmlPonds, write, outdir] = await Promise.all(
+    ['io/load.js', 'report/survey.js', 'report/ponds.js', 'render/html/survey.js', 'render/html/ponds.js', 'render/html/write.js', 'io/outdir.js']
+      .map((m) => import(pathToFileURL(join(DIST, m)).href)));
+  const [cmd, file, target, withReport] = opt.lib.split('|');
+  const cpu0 = process.cpuUsage();
+  const t0 = performance.now();
+  const g = await load.loadSurface(file);
+  const run = cmd === 'survey' ? surveyRep.surveyReport(g, { boundary: 'open' }, file) : pondsRep.pondsReport(g, {}, file);
+  const tA = performance.now() - t0;
+  let html = null;
+  if (withReport === '1') {
+    const out = new outdir.OutputFolder(target);
+    const ctx = { commandLine: `bench ${cmd}`, files: [] };
+    const built = cmd === 'survey' ? htmlSurvey.buildSurveyReport(g, run.result, run.report, ctx) : htmlPonds.buildPondsReport(run.result, run.report, ctx);
+    write.writeReportFiles(out, built, { report: true, png: opt.png });
+    out.commit();
+    html = statSync(join(target, 'report.html')).size;
+  }
+  const cpu = process.cpuUsage(cpu0);
+  writeFileSync(opt.result, JSON.stringify({ code: 0, ms: performance.now() - t0, analysisMs: tA, cpuMs: (cpu.user + cpu.system) / 1000, maxRss: process.resourceUsage().maxRSS * 1024, html }));
+  process.exit(0);
+} else if (opt.child) {
   // run the command line in this process and record its CPU time and peak memory when it exits
   const args = process.argv.slice(process.argv.indexOf('--') + 1);
   const cpu0 = process.cpuUsage();
@@ -54,9 +84,11 @@ if (opt.child) {
   const gib = (b) => `${(b / 2 ** 30).toFixed(2)} GiB`;
   const self = fileURLToPath(import.meta.url);
   const dir = mkdtempSync(join(tmpdir(), 'sill-bench-report-noise-'));
-  const out = { date: new Date().toISOString(), seed: Number(opt.seed), png: opt.png, cores: cpus().length, memory: totalmem(), loadStart: loadavg()[0], runs: [] };
+  const out = { date: new Date().toISOString(), mode: opt.mode, seed: Number(opt.seed), png: opt.png, cores: cpus().length, memory: totalmem(), loadStart: loadavg()[0], runs: [] };
   console.log(`sill --report on white noise — ${out.date.slice(0, 10)}; ${cpus().length} cores, ${(totalmem() / 2 ** 30).toFixed(0)} GiB, load average ${loadavg()[0].toFixed(1)}`);
-  console.log(`each line: the command without and with --report${opt.png ? ' --png' : ''}, best of ${repeat}; node --max-old-space-size=${opt['max-old-space']}\n`);
+  console.log(opt.mode === 'library'
+    ? `each line (library): loadSurface + ${'<command>'}Report, without and with building and writing the page${opt.png ? ' and map.png' : ''}, best of ${repeat}; node --max-old-space-size=${opt['max-old-space']}\n`
+    : `each line: the command without and with --report${opt.png ? ' --png' : ''}, best of ${repeat}; node --max-old-space-size=${opt['max-old-space']}\n`);
   const rows = [['size', 'command', 'without --report', 'with --report', 'ratio (wall)', 'ratio (CPU)', 'peak RSS without', 'peak RSS with', 'report.html']];
   try {
     for (const size of sizes) {
@@ -81,11 +113,14 @@ if (opt.child) {
           rmSync(res, { force: true });
           const extra = cmd === 'runoff' ? ['--depth', '50mm'] : [];
           const flags = report ? ['--report', ...(opt.png ? ['--png'] : [])] : [];
-          const p = spawnSync(process.execPath, [`--max-old-space-size=${opt['max-old-space']}`, self, '--child', '--result', res, '--', cmd, npy, ...extra, '-o', target, '--quiet', ...flags], { encoding: 'utf8', maxBuffer: 1 << 26 });
+          const args = opt.mode === 'library'
+            ? ['--lib', `${cmd}|${npy}|${target}|${report ? 1 : 0}`, '--result', res, ...(opt.png ? ['--png'] : [])]
+            : ['--child', '--result', res, '--', cmd, npy, ...extra, '-o', target, '--quiet', ...flags];
+          const p = spawnSync(process.execPath, [`--max-old-space-size=${opt['max-old-space']}`, self, ...args], { encoding: 'utf8', maxBuffer: 1 << 26 });
           const r = existsSync(res) ? JSON.parse(readFileSync(res, 'utf8')) : { code: p.status ?? p.signal, ms: NaN, cpuMs: NaN, maxRss: NaN };
           r.code = p.status ?? p.signal;
           if (p.status !== 0) r.error = (p.stderr || '').split('\n').find((l) => l.trim()) ?? `exit ${p.status ?? p.signal}`;
-          r.html = report && existsSync(join(target, 'report.html')) ? statSync(join(target, 'report.html')).size : null;
+          if (opt.mode !== 'library') r.html = report && existsSync(join(target, 'report.html')) ? statSync(join(target, 'report.html')).size : null;
           r.png = report && opt.png && existsSync(join(target, 'map.png')) ? statSync(join(target, 'map.png')).size : null;
           rmSync(target, { recursive: true, force: true });
           console.error(`bench/report-noise: ${size}² ${cmd}${report ? ' --report' : ''}: ${r.code === 0 ? `${fmt(r.ms)}, peak ${gib(r.maxRss)}` : `FAILED (${r.error})`}`);
@@ -111,6 +146,7 @@ if (opt.child) {
   out.loadEnd = loadavg()[0];
   console.log(`\nload average now ${loadavg()[0].toFixed(1)}`);
   mkdirSync(join(HERE, 'out'), { recursive: true });
-  writeFileSync(join(HERE, 'out', 'report-noise.json'), JSON.stringify(out, null, 1) + '\n');
-  console.log(`full results: ${join(HERE, 'out', 'report-noise.json')}`);
+  const outFile = join(HERE, 'out', `report-noise-${opt.mode}.json`);
+  writeFileSync(outFile, JSON.stringify(out, null, 1) + '\n');
+  console.log(`full results: ${outFile}`);
 }

@@ -154,7 +154,7 @@ export function displayNotes(sd: SurfaceDisplay, surface: Grid | Mesh, contours:
   else if (sd.frame.factor > 1) notes.push(`display: blocks of ${sd.frame.factor} × ${sd.frame.factor} cells (${sd.frame.dw} × ${sd.frame.dh}), coloured by their mean; features at full resolution`);
   else notes.push(`display: one pixel per cell (${surface.kind === 'grid' ? `${surface.width} × ${surface.height}` : ''})`);
   if (contours && contours.lines.length) notes.push(`contours every ${fmtNum(contours.levels.step)}${valueUnit ? ' ' + valueUnit : ''} (thicker every ${fmtNum(contours.levels.step * contours.levels.indexEvery)})`);
-  else if (contours?.omitted) notes.push(`contours left out: even ${contours.levels.levels.length} levels would need ${contours.omitted.points} vertices at display resolution (cap ${contours.omitted.cap}); the surface is rougher than the display`);
+  else if (contours?.omitted) notes.push(`contours left out: even ${contours.levels.levels.length} level${contours.levels.levels.length === 1 ? '' : 's'} would need ${contours.omitted.points} vertices at display resolution (cap ${contours.omitted.cap}); the surface is rougher than the display`);
   return notes;
 }
 
