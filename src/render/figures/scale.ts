@@ -86,22 +86,44 @@ export function fmtNum(x: number | null | undefined, digits = 5): string {
 }
 
 /**
- * Indices of the k largest keys, largest first (ties: lower index first), without sorting
- * everything: the k-th largest key is found by a native numeric sort of a copy, then only the
- * keys at or above it are ordered. NaN keys are never picked.
+ * Indices of the k largest keys, largest first (ties: lower index first), NaN keys never picked.
+ * One pass with a binary heap of the k best seen so far (its root the worst of them): O(n log k)
+ * time and nothing of the keys' length allocated, so ranking millions of features for a page of a
+ * few thousand neither sorts nor copies them (a copy of that size is garbage that forces a full
+ * collection of a heap full of report objects).
  */
-export function topIndices(keys: Float64Array, k: number): Uint32Array {
+export function topIndices(keys: ArrayLike<number>, k: number): Uint32Array {
   const n = keys.length;
-  if (k <= 0 || n === 0) return new Uint32Array(0);
-  let cut = -Infinity;
-  if (k < n) {
-    const sorted = Float64Array.from(keys).sort(); // NaN sorts last
-    let valid = n;
-    while (valid > 0 && Number.isNaN(sorted[valid - 1])) valid--;
-    cut = valid >= k ? sorted[valid - k] : -Infinity;
+  const cap = Math.min(Math.max(0, Math.floor(k)), n);
+  if (cap === 0) return new Uint32Array(0);
+  const heap = new Uint32Array(cap);
+  let size = 0;
+  // a ranks below b: a smaller key, or the same key and a higher index
+  const below = (a: number, b: number) => keys[a] < keys[b] || (keys[a] === keys[b] && a > b);
+  for (let i = 0; i < n; i++) {
+    const v = keys[i];
+    if (v !== v) continue;
+    if (size < cap) {
+      // sift up
+      let j = size++;
+      while (j > 0) {
+        const p = (j - 1) >> 1;
+        if (!below(i, heap[p])) break;
+        heap[j] = heap[p]; j = p;
+      }
+      heap[j] = i;
+    } else if (below(heap[0], i)) {
+      // replace the root and sift down
+      let j = 0;
+      for (;;) {
+        const l = 2 * j + 1;
+        if (l >= size) break;
+        const c = l + 1 < size && below(heap[l + 1], heap[l]) ? l + 1 : l;
+        if (!below(heap[c], i)) break;
+        heap[j] = heap[c]; j = c;
+      }
+      heap[j] = i;
+    }
   }
-  const pick: number[] = [];
-  for (let i = 0; i < n; i++) if (keys[i] >= cut) pick.push(i);
-  pick.sort((a, b) => keys[b] - keys[a] || a - b);
-  return Uint32Array.from(pick.slice(0, k));
+  return Uint32Array.from(Array.from(heap.subarray(0, size)).sort((a, b) => (below(a, b) ? 1 : below(b, a) ? -1 : 0)));
 }

@@ -217,8 +217,9 @@ export function treeSvg(spec: TreeSpec): { svg: string; markers: number; geometr
  */
 export function reduceSweepTree(parent: Int32Array, childCount: Int32Array, keepLeaf: (node: number) => boolean, order?: Int32Array): { nodes: Int32Array; parent: Int32Array } {
   const n = parent.length;
-  const pos = new Int32Array(n);
-  if (order) for (let q = 0; q < n; q++) pos[order[q]] = q; else for (let q = 0; q < n; q++) pos[q] = q;
+  // position of each node in the visiting order (the identity without one: no array needed)
+  let pos: Int32Array | null = null;
+  if (order) { pos = new Int32Array(n); for (let q = 0; q < n; q++) pos[order[q]] = q; }
   const rep = new Int32Array(n).fill(-1);
   const liveCount = new Int32Array(n), liveHead = new Int32Array(n).fill(-1), nextLive = new Int32Array(n).fill(-1);
   const newParent = new Int32Array(n).fill(-1);
@@ -233,7 +234,7 @@ export function reduceSweepTree(parent: Int32Array, childCount: Int32Array, keep
     } else if (liveCount[k] === 1) rep[k] = liveHead[k];
     const p = parent[k];
     if (p >= 0 && rep[k] >= 0) {
-      if (pos[p] <= q) throw new Error('reduceSweepTree: parents must come after their children');
+      if ((pos ? pos[p] : p) <= q) throw new Error('reduceSweepTree: parents must come after their children');
       nextLive[rep[k]] = liveHead[p]; liveHead[p] = rep[k]; liveCount[p]++;
     }
   }
