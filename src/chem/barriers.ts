@@ -34,6 +34,8 @@ import { checkTemperature, kTIn, type EnergyUnit } from './units.js';
 
 export interface BarriersOptions {
   connectivity?: Connectivity;
+  /** Threads for the survey of the surface (see SurveyOptions); default the number of cores. */
+  threads?: number;
   /** Default 'closed': the edge of the sampled window is a wall. */
   boundary?: Boundary;
   /** Energy unit of the input values; default 'none'. */
@@ -200,7 +202,7 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
   surface = prep.surface;
   notes.push(...prep.notes);
 
-  const res = survey(surface, { connectivity: opts.connectivity, boundary, minPersistence: 0 });
+  const res = survey(surface, { connectivity: opts.connectivity, boundary, minPersistence: 0, threads: opts.threads });
   const cx = res.complex;
   const values = cx.values;
   // persistence below the threshold is cancelled; zero persistence (ties) always is

@@ -10,7 +10,7 @@ import type { OutputFolder } from '../io/outdir.js';
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, BARRIERS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildBarriersReport as buildBarriersHtml } from '../render/html/barriers.js';
 import { InputError } from '../errors.js';
-import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, openOutput, type CommonOptions } from './common.js';
+import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, openOutput, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
 import type { Boundary } from '../surface/complex.js';
 
@@ -98,6 +98,7 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
   progress.stage('critical points, basins, refinement and paths');
   const { result, report } = barriersReport(surface, {
     connectivity, boundary, units, to, temperature, minPersistence, cap, period, images, maxPaths,
+    threads: parseThreads(opts.threads),
   }, input);
   progress.done();
   if (!report.euler.holds) throw new Error(`Euler relation fails (χ = ${report.euler.characteristic}, pits − passes + peaks = ${report.euler.pits - report.euler.passes + report.euler.peaks}); this is a bug in sill, please report it with the input`);

@@ -20,6 +20,7 @@ export interface CommonOptions {
   report?: boolean;
   png?: boolean;
   force?: boolean;
+  threads?: string;
 }
 
 export function addCommonOptions(cmd: Command, defaults: { boundary: Boundary }): Command {
@@ -37,6 +38,7 @@ export function addCommonOptions(cmd: Command, defaults: { boundary: Boundary })
     .option('--report', 'also write report.html (one self-contained page) and map.svg, tree.svg, persistence.svg into -o DIR')
     .option('--png', 'also render the map as map.png into -o DIR')
     .option('--force', 'write into an output folder that holds files sill did not write (they are kept; same-named ones are replaced)')
+    .option('--threads <n>', 'threads to use (default: the number of cores; 1 keeps all work on one thread, with identical results)')
     .option('--quiet', 'no progress or summary on the terminal');
 }
 
@@ -56,6 +58,11 @@ export function parseNumber(name: string, s: string | undefined, opts: { min?: n
   if (opts.min !== undefined && v < opts.min) throw new InputError(`${name} must be at least ${opts.min}, got '${s}'`);
   if (opts.positive && !(v > 0)) throw new InputError(`${name} must be greater than 0, got '${s}'`);
   return v;
+}
+
+/** --threads: a whole number ≥ 1, or undefined for the library's default (the number of cores). */
+export function parseThreads(s: string | undefined): number | undefined {
+  return s === undefined ? undefined : parseNumber('--threads', s, { integer: true, min: 1 });
 }
 
 export function parsePair(name: string, s: string | undefined): [number, number] | undefined {

@@ -10,7 +10,7 @@ import { stageVolume } from '../hydro/stage.js';
 import { writeGeoTiff } from '../io/index.js';
 import { pointFeature, type Feature } from '../io/tables.js';
 import type { OutputFolder } from '../io/outdir.js';
-import { addCommonOptions, parseNumber, Progress, say, fmt, fmtCoord, openOutput } from './common.js';
+import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printChunks, writeChunks, listJsonChunks, csvChunks,
   collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
@@ -64,6 +64,7 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   const labelLevel = opts.labelLevel ?? 'leaf';
   if (labelLevel !== 'leaf' && labelLevel !== 'top') throw new InputError(`--label-level must be leaf or top, got '${labelLevel}'`);
   const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', { min: 0 });
+  const threads = parseThreads(opts.threads);
   const minDepth = optionalNumber('--min-depth', opts.minDepth);
   const minArea = optionalNumber('--min-area', opts.minArea);
   const minVolume = optionalNumber('--min-volume', opts.minVolume);
@@ -81,7 +82,7 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
     connectivity, boundary, nodataOutlet: nodataAs === 'outlet',
     minDepth, minArea, minVolume, minPersistence, fillOnlyBelow,
     zUnits: opts.zUnits, zFactor, xyUnits: opts.xyUnits,
-    labelLevel, source: input,
+    labelLevel, source: input, threads,
     onStage: (s) => progress.stage(s),
   }, input);
   checkHydroReport(report, stageId, 'depressions.csv');

@@ -11,7 +11,7 @@ import { writeGeoTiff, loadSurface } from '../io/index.js';
 import type { Feature } from '../io/tables.js';
 import type { OutputFolder } from '../io/outdir.js';
 import type { Grid } from '../surface/grid.js';
-import { addCommonOptions, parseNumber, Progress, say, fmt, openOutput } from './common.js';
+import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, openOutput } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printChunks, writeChunks, listJsonChunks, csvChunks,
   collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
@@ -72,6 +72,7 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
     throw new InputError('runoff routes the water through every depression, shallow ones included (they store water too); --min-persistence does not apply — filter runoff.csv instead');
   }
   const nodataAs = parseNodataAs(opts);
+  const threads = parseThreads(opts.threads);
   if (opts.depth !== undefined && opts.depthRaster !== undefined) throw new InputError('give either --depth or --depth-raster, not both');
   if (opts.depth === undefined && opts.depthRaster === undefined) throw new InputError('say how much runoff to route: --depth D with its unit (e.g. --depth 40mm) or --depth-raster R.tif');
   if (opts.depthUnits !== undefined && opts.depthRaster === undefined) throw new InputError('--depth-units names the unit of --depth-raster values; with --depth write the unit in the value (e.g. 40mm)');
@@ -97,7 +98,7 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
     depthRaster, depthRasterFactor: DEPTH_UNITS[rasterUnit], depthRasterSource: opts.depthRaster, depthRasterUnit: rasterUnit,
     initialLevel, initialLevelSource: opts.initialLevel,
     zUnits: opts.zUnits, zFactor, xyUnits: opts.xyUnits,
-    source: input,
+    source: input, threads,
     onStage: (s) => progress.stage(s),
   }, input);
   checkHydroReport(report, stageId, 'runoff.csv');

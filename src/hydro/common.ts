@@ -2,8 +2,9 @@
 import { InputError } from '../errors.js';
 import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
-import { buildComplex, GridComplex, type Connectivity, type Boundary, type SimplexCounts } from '../surface/complex.js';
+import { buildComplex, GridComplex, type Connectivity, type Boundary } from '../surface/complex.js';
 import { countCriticalPoints } from '../morse/critical.js';
+import { useWorker, gridTask, startEulerJob, type EulerCounts, type ThreadOptions } from '../morse/parallel.js';
 import type { EulerInfo } from '../report/common.js';
 import type { DepressionSweep } from './sweep.js';
 
@@ -41,25 +42,39 @@ export function hydroSetup(command: string, surface: Grid | Mesh, opts: HydroSet
   return { source, grid, connectivity: opts.connectivity ?? 8, nodataOutlet: opts.nodataOutlet ?? true };
 }
 
+/** The Euler self-check, taken when the caller needs it (it may be running in a worker thread). */
+export interface PendingEuler {
+  /** The counting runs in the worker thread. */
+  readonly inWorker: boolean;
+  /** The check's figures (null when it was not asked for); waits for the worker if it is still counting. */
+  result(): PondsEuler | null;
+}
+
 /**
- * The open-boundary complex, then the Euler self-check (unless `euler` is false) while little
- * memory is in use (counts only, no lists).
+ * The open-boundary complex, and the Euler self-check (unless `euler` is false). On two threads,
+ * and when the values are on shared memory (the loaders put them there), the check's counting
+ * runs in a worker while the caller sorts and sweeps; otherwise it runs here at once, while
+ * little memory is in use. Either way it counts without lists and allocates nothing grid-sized.
  */
-export function openComplex(grid: Grid, connectivity: Connectivity, nodataOutlet: boolean, euler: boolean, stage: (s: string) => void): { complex: GridComplex; euler: PondsEuler | null } {
+export function openComplex(grid: Grid, connectivity: Connectivity, nodataOutlet: boolean, euler: boolean, stage: (s: string) => void, threads: ThreadOptions = {}): { complex: GridComplex; euler: PendingEuler } {
   stage('outlets and neighbour graph');
   const complex = buildComplex(grid, { connectivity, boundary: 'open', nodataOutlet }) as GridComplex;
-  if (!euler) return { complex, euler: null };
+  if (!euler) return { complex, euler: { inWorker: false, result: () => null } };
+  if (useWorker(threads, complex.n) && grid.values.buffer instanceof SharedArrayBuffer) {
+    const job = startEulerJob(gridTask(complex));
+    return { complex, euler: { inWorker: true, result: () => eulerBlock(job.result()) } };
+  }
   stage('Euler check');
-  const critical = countCriticalPoints(complex);
-  const simplices: SimplexCounts = complex.countSimplices();
+  const block = eulerBlock({ critical: countCriticalPoints(complex), simplices: complex.countSimplices() });
+  return { complex, euler: { inWorker: false, result: () => block } };
+}
+
+function eulerBlock({ critical, simplices }: EulerCounts): PondsEuler {
   const chi = simplices.characteristic;
   return {
-    complex,
-    euler: {
-      characteristic: chi, pits: critical.pits, passes: critical.passes, peaks: critical.peaks,
-      holds: critical.pits - critical.passes + critical.peaks === chi,
-      outsidePit: critical.outsidePit, simplices: simplices.byDimension,
-    },
+    characteristic: chi, pits: critical.pits, passes: critical.passes, peaks: critical.peaks,
+    holds: critical.pits - critical.passes + critical.peaks === chi,
+    outsidePit: critical.outsidePit, simplices: simplices.byDimension,
   };
 }
 

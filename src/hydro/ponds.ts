@@ -7,13 +7,14 @@ import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
 import type { GridComplex, Connectivity, Boundary } from '../surface/complex.js';
 import { sortOrder } from '../morse/order.js';
+import type { ThreadOptions } from '../morse/parallel.js';
 import { cellAreas, type CellAreas, type UnitOptions } from './areas.js';
 import { sweepDepressions, nodeSums } from './sweep.js';
 import { buildHierarchy, type Hierarchy, type HierarchyFilters } from './hierarchy.js';
 import { pondRasters, type PondRasters, type SpareMemory } from './rasters.js';
 import { hydroSetup, openComplex, checkedSweepPits, type PondsEuler } from './common.js';
 
-export interface PondsOptions extends UnitOptions, HierarchyFilters {
+export interface PondsOptions extends UnitOptions, HierarchyFilters, ThreadOptions {
   connectivity?: Connectivity;
   /** Only 'open' is meaningful for ponding (water must be able to leave the map). */
   boundary?: Boundary;
@@ -69,7 +70,7 @@ export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResul
   const areas = cellAreas(grid, opts, source);
   const stage = opts.onStage ?? (() => undefined);
 
-  const { complex, euler } = openComplex(grid, connectivity, nodataOutlet, opts.euler !== false, stage);
+  const { complex, euler: pendingEuler } = openComplex(grid, connectivity, nodataOutlet, opts.euler !== false, stage, opts);
   stage('ordering the cells');
   const order = sortOrder(grid.values);
   stage('depression sweep');
@@ -81,6 +82,7 @@ export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResul
     areaScale, zFactor: areas.zFactor, fillOnlyBelow: opts.fillOnlyBelow,
   });
   sw.sums = undefined; // the per-node sums are in the hierarchy now; let their memory go
+  const euler = pendingEuler.result();
   const sweepPits = checkedSweepPits(sw, euler);
   stage('filled, depth and label rasters');
   const spare: SpareMemory[] = [sw.spare];

@@ -8,6 +8,7 @@ import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
 import type { GridComplex, Connectivity, Boundary } from '../surface/complex.js';
 import { sortOrder } from '../morse/order.js';
+import type { ThreadOptions } from '../morse/parallel.js';
 import { cellAreas, type CellAreas, type UnitOptions } from './areas.js';
 import { sweepDepressions, nodeSums, SUM_STRIDE as S, SPILLZ, PITZ, type NodeSums } from './sweep.js';
 import { buildHierarchy, type Hierarchy } from './hierarchy.js';
@@ -16,7 +17,7 @@ import { stepWeights, flowDestinations, routingTree, fillSpillMerge, layerLevels
 import { alignRaster, checkDepthRaster } from './runoff-input.js';
 import type { StageRow } from './stage.js';
 
-export interface RunoffOptions extends UnitOptions {
+export interface RunoffOptions extends UnitOptions, ThreadOptions {
   connectivity?: Connectivity;
   /** Only 'open': water must be able to leave the map. */
   boundary?: Boundary;
@@ -161,7 +162,7 @@ export function runoff(surface: Grid | Mesh, opts: RunoffOptions): RunoffResult 
     initialInfo = { source: src, resampled: al.resampled, wetCells: 0 };
   }
 
-  const { complex, euler } = openComplex(grid, connectivity, nodataOutlet, opts.euler !== false, stage);
+  const { complex, euler: pendingEuler } = openComplex(grid, connectivity, nodataOutlet, opts.euler !== false, stage, opts);
   stage('ordering the cells');
   const values = grid.values, W = grid.width, H = grid.height, n = grid.size;
   const order = sortOrder(values);
@@ -171,6 +172,7 @@ export function runoff(surface: Grid | Mesh, opts: RunoffOptions): RunoffResult 
   const sums = nodeSums(sw, values, W, areas.rowArea, areas.uniform);
   stage('depression hierarchy');
   const hierarchy = buildHierarchy(sw, sums, { areaScale, zFactor: areas.zFactor });
+  const euler = pendingEuler.result();
   const sweepPits = checkedSweepPits(sw, euler);
 
   stage('flow paths');

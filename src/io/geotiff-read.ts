@@ -7,7 +7,7 @@
 import GeoTIFF, { type GeoTIFFImage, type ImageFileDirectory } from 'geotiff';
 import type { FileHandle } from 'node:fs/promises';
 import { InputError } from '../errors.js';
-import { Grid, type Crs, type GeoTransform, type GridValues } from '../surface/grid.js';
+import { Grid, gridValues, type Crs, type GeoTransform, type GridValues } from '../surface/grid.js';
 import { checkGridSize, nodataFor, openForReading, readAt, transferSamples } from './common.js';
 
 export interface GeoTiffReadOptions {
@@ -408,7 +408,7 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
     const nodata = opts.nodata !== undefined ? opts.nodata : fileNodata;
     const match = nodataFor(nodata, kind.float32Samples);
 
-    const values: GridValues = kind.float64Out ? new Float64Array(width * height) : new Float32Array(width * height);
+    const values: GridValues = gridValues(width * height, kind.float64Out);
     for (let y0 = 0; y0 < height; y0 += rowsPerRead) {
       const y1 = Math.min(height, y0 + rowsPerRead);
       let samples: ArrayLike<number>;

@@ -4,7 +4,7 @@
  * order. Georeferencing comes from `origin` (centre of element [0, 0]) and `spacing`.
  */
 import { InputError } from '../errors.js';
-import { Grid, type GeoTransform, type GridValues } from '../surface/grid.js';
+import { Grid, gridValues, type GeoTransform, type GridValues } from '../surface/grid.js';
 import { checkGridSize, infinityError, nodataFor, openForReading, readAt } from './common.js';
 
 export interface NpyReadOptions {
@@ -125,7 +125,7 @@ export async function readNpy(path: string, opts: NpyReadOptions = {}): Promise<
       );
     }
 
-    const values: GridValues = float64Out ? new Float64Array(cells) : new Float32Array(cells);
+    const values: GridValues = gridValues(cells, float64Out);
     const match = nodataFor(opts.nodata, dtype.kind === 'f' && dtype.size === 4);
     const integer = dtype.kind !== 'f';
     const hostLittle = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;

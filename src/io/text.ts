@@ -7,7 +7,7 @@
  * `nan` marks a missing value; `inf` / `-inf` are refused unless they are the nodata value.
  */
 import { InputError } from '../errors.js';
-import { Grid, MAX_CELLS, type GeoTransform } from '../surface/grid.js';
+import { Grid, MAX_CELLS, gridValues, type GeoTransform } from '../surface/grid.js';
 import { Mesh } from '../surface/mesh.js';
 import { openForReading } from './common.js';
 
@@ -247,7 +247,7 @@ function columnsSurface(t: Table, src: string, opts: TextSurfaceOptions): Grid |
     const dy = Number.isNaN(ay.step) ? dx : ay.step;
     const width = ax.count;
     const height = ay.count;
-    const values = new Float64Array(width * height).fill(NaN);
+    const values = gridValues(width * height, true).fill(NaN);
     const owner = new Uint32Array(width * height);
     for (let i = 0; i < n; i++) {
       const c = width === 1 ? 0 : Math.round((x[i] - ax.lo) / dx);

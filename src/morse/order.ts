@@ -13,13 +13,25 @@ function f32key(bits: number): number {
   return (bits & 0x80000000 ? ~bits : bits | 0x80000000) >>> 0;
 }
 
-/** Ascending order of the non-NaN entries of `values`, ties broken by index. */
-export function sortOrder(values: Float32Array | Float64Array): Uint32Array {
-  return values instanceof Float32Array ? sortF32(values) : sortF64(values);
+/**
+ * Ascending order of the non-NaN entries of `values`, ties broken by index.
+ * @param out where to write the order (e.g. on shared memory for a worker thread): exactly as
+ *   many entries as `values` has non-NaN ones; it takes the place of a buffer the sort would
+ *   allocate, so it costs no memory. Returned.
+ */
+export function sortOrder(values: Float32Array | Float64Array, out?: Uint32Array): Uint32Array {
+  return values instanceof Float32Array ? sortF32(values, out) : sortF64(values, out);
+}
+
+/** The caller's output buffer, checked against the count of valid values, or a new one. */
+function output(out: Uint32Array | undefined, m: number): Uint32Array {
+  if (out === undefined) return new Uint32Array(m);
+  if (out.length !== m) throw new RangeError(`sortOrder: the output buffer holds ${out.length} entries but there are ${m} valid values`);
+  return out;
 }
 
 /** Three passes of 11, 11 and 10 bits. */
-function sortF32(values: Float32Array): Uint32Array {
+function sortF32(values: Float32Array, dest?: Uint32Array): Uint32Array {
   const n = values.length;
   const bits = new Uint32Array(values.buffer, values.byteOffset, n);
   const h0 = new Uint32Array(2048), h1 = new Uint32Array(2048), h2 = new Uint32Array(1024);
@@ -33,7 +45,8 @@ function sortF32(values: Float32Array): Uint32Array {
   }
   // pass 1: values → (index, full key), by bits 0–10
   const idxA = new Uint32Array(m);
-  const keyA = new Uint32Array(m);
+  // the full keys, overwritten by the order in pass 3
+  const keyA = output(dest, m);
   if (skipPass(h0, m)) {
     for (let i = 0, k = 0; i < n; i++) {
       const x = values[i];
@@ -64,7 +77,11 @@ function sortF32(values: Float32Array): Uint32Array {
     }
   }
   // pass 3: → index, by bits 22–31, written over the full keys (no longer needed)
-  if (skipPass(h2, m)) return idxB;
+  if (skipPass(h2, m)) {
+    if (dest === undefined) return idxB;
+    keyA.set(idxB);
+    return keyA;
+  }
   prefix(h2);
   const out = keyA;
   for (let k = 0; k < m; k++) out[h2[topB[k]]++] = idxB[k];
@@ -72,7 +89,7 @@ function sortF32(values: Float32Array): Uint32Array {
 }
 
 /** Four passes of 16 bits. */
-function sortF64(values: Float64Array): Uint32Array {
+function sortF64(values: Float64Array, dest?: Uint32Array): Uint32Array {
   const n = values.length;
   const words = new Uint32Array(values.buffer, values.byteOffset, 2 * n);
   const h0 = new Uint32Array(65536), h1 = new Uint32Array(65536), h2 = new Uint32Array(65536), h3 = new Uint32Array(65536);
@@ -88,7 +105,8 @@ function sortF64(values: Float64Array): Uint32Array {
   }
   // pass 1: values → (index, high word, bits 16–31 of the low word), by bits 0–15
   const idxA = new Uint32Array(m);
-  const hiA = new Uint32Array(m);
+  // the high words, overwritten by the order in pass 4
+  const hiA = output(dest, m);
   const midA = new Uint16Array(m);
   const skip0 = skipPass(h0, m);
   if (!skip0) prefix(h0);
@@ -126,7 +144,11 @@ function sortF64(values: Float64Array): Uint32Array {
     }
   }
   // pass 4: → index, by bits 48–63, written over the pass-1 high words
-  if (skipPass(h3, m)) return idxC;
+  if (skipPass(h3, m)) {
+    if (dest === undefined) return idxC;
+    hiA.set(idxC);
+    return hiA;
+  }
   prefix(h3);
   const out = hiA;
   for (let k = 0; k < m; k++) out[h3[topC[k]]++] = idxC[k];

@@ -4,12 +4,13 @@
  */
 import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
-import { buildComplex, type ComplexOptions, type SurfaceComplex, type SimplexCounts } from '../surface/complex.js';
+import { buildComplex, GridComplex, type ComplexOptions, type SurfaceComplex, type SimplexCounts } from '../surface/complex.js';
 import { sortOrder } from './order.js';
 import { findCriticalPoints, indexOfVertex, PIT, PASS, PEAK, type CriticalPoints } from './critical.js';
 import { buildMergeTree, simplifyMergeTree, type MergeTree } from './mergetree.js';
+import { useWorker, onSharedMemory, gridTask, startSplitJob, type ThreadOptions } from './parallel.js';
 
-export interface SurveyOptions extends ComplexOptions {
+export interface SurveyOptions extends ComplexOptions, ThreadOptions {
   /** Drop features whose persistence is below this value (0 = keep all). */
   minPersistence?: number;
 }
@@ -40,19 +41,16 @@ export interface SurveyResult {
   pairs: PersistencePairs;
   minPersistence: number;
   removedPairs: { dim0: number; dim1: number };
+  /** Threads that did the work (2: the split sweep and the simplex count ran in a worker). */
+  threads: number;
 }
 
 export function survey(surface: Grid | Mesh, opts: SurveyOptions = {}): SurveyResult {
   const complex = buildComplex(surface, opts);
   const minPersistence = opts.minPersistence ?? 0;
-  const order = sortOrder(complex.values);
-  const critical = findCriticalPoints(complex);
-  const simplices = complex.countSimplices();
+  const parallel = complex instanceof GridComplex && useWorker(opts, complex.n);
+  const { order, critical, simplices, join, split } = parallel ? sweepsOnTwoThreads(complex) : sweeps(complex);
   const chi = simplices.characteristic;
-  // one union-find buffer serves both sweeps
-  const scratch = new Int32Array(complex.n + 1);
-  const join = buildMergeTree(complex, order, 'join', scratch);
-  const split = buildMergeTree(complex, order, 'split', scratch);
   const pairs = collectPairs(complex.values, join, split);
   const { kept, removed } = simplifyCritical(critical, pairs, minPersistence);
   return {
@@ -71,6 +69,7 @@ export function survey(surface: Grid | Mesh, opts: SurveyOptions = {}): SurveyRe
     pairs,
     minPersistence,
     removedPairs: removed,
+    threads: parallel ? 2 : 1,
   };
 }
 
@@ -117,6 +116,51 @@ export function mostPersistentPairs(pairs: PersistencePairs, minPersistence: num
     key[j] = x; idx[j] = k;
   }
   return idx.slice(0, m);
+}
+
+interface Sweeps {
+  order: Uint32Array;
+  critical: CriticalPoints;
+  simplices: SimplexCounts;
+  join: MergeTree;
+  split: MergeTree;
+}
+
+/** Order, critical points, simplex counts and both merge trees, one after the other. */
+function sweeps(complex: SurfaceComplex): Sweeps {
+  const order = sortOrder(complex.values);
+  const critical = findCriticalPoints(complex);
+  const simplices = complex.countSimplices();
+  // one union-find buffer serves both sweeps
+  const scratch = new Int32Array(complex.n + 1);
+  const join = buildMergeTree(complex, order, 'join', scratch);
+  const split = buildMergeTree(complex, order, 'split', scratch);
+  return { order, critical, simplices, join, split };
+}
+
+/**
+ * The same on two threads: the worker counts the simplices while this thread sorts, then runs
+ * the split sweep while this one finds the critical points and runs the join sweep. The order is
+ * written straight into shared memory; the values are shared too (copied there only when the
+ * caller's array is not). Each sweep is the one-thread code on the same input, so the results
+ * are identical.
+ */
+function sweepsOnTwoThreads(complex: GridComplex): Sweeps {
+  const values = complex.values;
+  let m = 0;
+  for (let i = 0; i < values.length; i++) if (values[i] === values[i]) m++;
+  const order = new Uint32Array(new SharedArrayBuffer(4 * m));
+  const job = startSplitJob(gridTask(complex, onSharedMemory(values)), order);
+  try {
+    sortOrder(values, order);
+    job.orderReady();
+    const critical = findCriticalPoints(complex);
+    const join = buildMergeTree(complex, order, 'join');
+    const { split, simplices } = job.result();
+    return { order, critical, simplices, join, split };
+  } finally {
+    job.abandon();
+  }
 }
 
 function collectPairs(values: ArrayLike<number>, join: MergeTree, split: MergeTree): PersistencePairs {

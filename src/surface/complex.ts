@@ -187,6 +187,13 @@ function sweepStencil(graph: Connectivity, dc: number[], dr: number[], positions
   return { offsets, nbrMask, components, representatives, windowToRing };
 }
 
+/** The per-cell boundary flags of a grid complex and whether any cell is nodata. */
+export interface GridFlags {
+  omegaAdj: Uint8Array | null;
+  topAdj: Uint8Array | null;
+  hasNodata: boolean;
+}
+
 export class GridComplex implements SurfaceComplex {
   readonly surface: Grid;
   readonly n: number;
@@ -212,7 +219,7 @@ export class GridComplex implements SurfaceComplex {
   private readonly chi: Int8Array;
   private readonly ring = new Int32Array(8);
   /** Open boundary with draining nodata: nodata cells are outlets. */
-  private readonly ghostNodata: boolean;
+  readonly ghostNodata: boolean;
   /** ring positions used by the sublevel / superlevel graphs */
   private readonly subPos: Uint8Array;
   private readonly supPos: Uint8Array;
@@ -220,7 +227,12 @@ export class GridComplex implements SurfaceComplex {
   private readonly supMask: number;
   private stencils: [SweepStencil | null, SweepStencil | null] = [null, null];
 
-  constructor(grid: Grid, connectivity: Connectivity, boundary: Boundary, nodataOutlet: boolean) {
+  /**
+   * @param flags the outlet and wall flags of this grid, connectivity and boundary, as another
+   *   GridComplex found them (a worker thread rebuilds the complex over shared memory this way,
+   *   without scanning or copying anything grid-sized)
+   */
+  constructor(grid: Grid, connectivity: Connectivity, boundary: Boundary, nodataOutlet: boolean, flags?: GridFlags) {
     if (connectivity !== 4 && connectivity !== 6 && connectivity !== 8) {
       throw new InputError(`connectivity must be 4, 6 or 8, got ${connectivity}`);
     }
@@ -255,9 +267,18 @@ export class GridComplex implements SurfaceComplex {
     // not drain) among the superlevel-graph neighbours.
     const open = boundary === 'open';
     this.ghostNodata = open && nodataOutlet;
+    this.hasOmega = open;
+    if (flags !== undefined) {
+      this.hasNodata = flags.hasNodata;
+      this.omegaAdj = open ? flags.omegaAdj : null;
+      this.topAdj = flags.topAdj;
+      this.hasTop = flags.topAdj !== null;
+      return;
+    }
     const w = this.w, h = this.h, v = this.values, off = this.off, rs = this.ringSize;
-    const omega = open ? new Uint8Array(this.n) : null;
-    const top = !open || !nodataOutlet ? new Uint8Array(this.n) : null;
+    // on shared memory, so that a worker thread can read them (see flags)
+    const omega = open ? new Uint8Array(new SharedArrayBuffer(this.n)) : null;
+    const top = !open || !nodataOutlet ? new Uint8Array(new SharedArrayBuffer(this.n)) : null;
     let anyNodata = false;
     for (let i = 0; i < v.length; i++) if (v[i] !== v[i]) { anyNodata = true; break; }
     let anyTop = false;
@@ -277,10 +298,14 @@ export class GridComplex implements SurfaceComplex {
       }
     }
     this.hasNodata = anyNodata;
-    this.hasOmega = open;
     this.omegaAdj = open ? omega : null;
     this.hasTop = anyTop;
     this.topAdj = anyTop ? top : null;
+  }
+
+  /** What a complex over the same grid and options can take instead of scanning the grid again. */
+  get flags(): GridFlags {
+    return { omegaAdj: this.omegaAdj, topAdj: this.topAdj, hasNodata: this.hasNodata };
   }
 
   /** Set the ω / τ flags of valid cell (c, r) from its ring; true when a τ flag was set. */

@@ -27,6 +27,16 @@ export interface GridInit {
   crs?: Crs | null;
   /** The nodata value of the source file, kept so writers can reuse it. NaN cells are nodata in `values`. */
   nodata?: number | null;
+  /** The values hold no −0 already (another Grid normalised them): skip that pass, write nothing. */
+  normalised?: boolean;
+}
+
+/**
+ * Zeroed grid values on shared memory (a SharedArrayBuffer costs what an ArrayBuffer does), so a
+ * worker thread can read them without a copy. Loaders allocate their grids here.
+ */
+export function gridValues(cells: number, float64: boolean): GridValues {
+  return float64 ? new Float64Array(new SharedArrayBuffer(8 * cells)) : new Float32Array(new SharedArrayBuffer(4 * cells));
 }
 
 /** Largest cell count sill accepts on one grid (arrays of this many float64 would take 8 GiB). */
@@ -53,7 +63,7 @@ export class Grid {
     this.height = height;
     this.values = values;
     // Simulation of simplicity orders by (value, index); -0 and +0 are equal values, so make them one bit pattern.
-    for (let i = 0; i < values.length; i++) if (values[i] === 0) values[i] = 0;
+    if (init.normalised !== true) for (let i = 0; i < values.length; i++) if (values[i] === 0) values[i] = 0;
     this.transform = init.transform ?? [0, 1, 0, 0, 0, 1];
     this.crs = init.crs ?? null;
     this.nodata = init.nodata ?? null;

@@ -1,0 +1,57 @@
+/**
+ * The worker thread of src/morse/parallel.ts: rebuilds a grid complex over the shared values
+ * and flags, does its share, posts the result on the task's port (arrays transferred), then
+ * raises the task's done flag. Every error is caught and posted, so the waiting thread always
+ * wakes up.
+ *
+ * Tasks: 'split' — simplex counts, then (once the main thread has written the order) the split
+ * tree; 'euler' — the Euler self-check's counts (critical points by lower links, simplices).
+ */
+import { parentPort, type MessagePort } from 'node:worker_threads';
+import { Grid } from '../surface/grid.js';
+import { GridComplex } from '../surface/complex.js';
+import { countCriticalPoints } from './critical.js';
+import { buildMergeTree } from './mergetree.js';
+import { ORDER_ABANDONED, ORDER_PENDING, type GridTask } from './parallel.js';
+
+interface Task {
+  kind: 'split' | 'euler';
+  grid: GridTask;
+  order?: Uint32Array;
+  ctrl: Int32Array;
+  port: MessagePort;
+}
+
+function complexOf(t: GridTask): GridComplex {
+  const grid = new Grid({ width: t.width, height: t.height, values: t.values, normalised: true });
+  return new GridComplex(grid, t.connectivity, t.boundary, t.nodataOutlet, t.flags);
+}
+
+function run(task: Task): { result: unknown; transfer: ArrayBuffer[] } | null {
+  const cx = complexOf(task.grid);
+  if (task.kind === 'euler') {
+    return { result: { critical: countCriticalPoints(cx), simplices: cx.countSimplices() }, transfer: [] };
+  }
+  if (task.kind !== 'split' || task.order === undefined) throw new Error(`internal: unknown worker task '${task.kind}'`);
+  const simplices = cx.countSimplices();
+  // the order is written by the main thread meanwhile
+  while (Atomics.load(task.ctrl, 0) === ORDER_PENDING) Atomics.wait(task.ctrl, 0, ORDER_PENDING);
+  if (Atomics.load(task.ctrl, 0) === ORDER_ABANDONED) return null;
+  const split = buildMergeTree(cx, task.order, 'split');
+  const transfer = [split.vertex, split.parent, split.birth, split.childCount, split.pairBirth, split.pairDeath].map((a) => a.buffer as ArrayBuffer);
+  return { result: { split, simplices }, transfer };
+}
+
+parentPort!.on('message', (task: Task) => {
+  try {
+    const out = run(task);
+    if (out !== null) task.port.postMessage({ result: out.result }, out.transfer);
+  } catch (err) {
+    const e = err instanceof Error ? err : new Error(String(err));
+    try { task.port.postMessage({ error: { name: e.name, message: e.message } }); } catch { /* port closed: nobody waits */ }
+  } finally {
+    // the main thread closes the port once it has the message
+    Atomics.store(task.ctrl, 1, 1);
+    Atomics.notify(task.ctrl, 1);
+  }
+});
