@@ -19,13 +19,14 @@ import { fractalTerrain } from './lib/terrain.mjs';
 import { BENCH_DIR, fmtMs, fmtNum, median as medianOf, table } from './lib/util.mjs';
 import { sortCase } from './cases/sort.mjs';
 import { surveyCase, stagesCase, loadCase, memoryCase } from './cases/survey.mjs';
+import { threadsCase, threadsCliCase } from './cases/threads.mjs';
 
 /**
  * The registry, run in this order. To add a case (ponds, runoff, barriers, …): write
  * bench/cases/<name>.mjs exporting the case object (and `memoryJobs` if it measures
  * memory through bench/lib/memory.mjs), import it above and list it here.
  */
-const CASES = [sortCase, surveyCase, stagesCase, loadCase, memoryCase];
+const CASES = [sortCase, surveyCase, stagesCase, loadCase, memoryCase, threadsCase, threadsCliCase];
 
 const { values: opt } = parseArgs({
   options: {

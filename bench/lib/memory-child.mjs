@@ -24,12 +24,14 @@ const size = Number(a.size);
 const mod = await import(pathToFileURL(resolve(a.module)).href);
 const job = mod.memoryJobs?.[a.job];
 if (!job) throw new Error(`${a.module} has no memory job '${a.job}'`);
-const { Grid } = await importDist('surface/grid.js');
+const { Grid, gridValues } = await importDist('surface/grid.js');
 
 const probe = new MemoryProbe();
 await probe.start();
 const f32 = fractalTerrain(size, { seed: Number(a.seed), quantum: Number(a.quantum) });
-const values = a.float64 ? Float64Array.from(f32) : f32;
+let values = a.float64 ? Float64Array.from(f32) : f32;
+// on shared memory, as the loaders give them (a worker thread can then read them without a copy)
+if (gridValues) { const v = gridValues(values.length, a.float64); v.set(values); values = v; }
 const grid = new Grid({ width: size, height: size, values });
 // warm the code paths on a small grid so compilation is not charged to the job
 await job({ grid: new Grid({ width: 64, height: 64, values: fractalTerrain(64, { seed: 3 }) }), probe: { mark() {} } });

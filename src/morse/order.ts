@@ -18,9 +18,19 @@ function f32key(bits: number): number {
  * @param out where to write the order (e.g. on shared memory for a worker thread): exactly as
  *   many entries as `values` has non-NaN ones; it takes the place of a buffer the sort would
  *   allocate, so it costs no memory. Returned.
+ * @param work room for the sort's index buffers, at least twice as many entries as `out`: the
+ *   caller can use it for something else afterwards (survey's union-find forests) instead of
+ *   the sort's garbage and a new allocation.
  */
-export function sortOrder(values: Float32Array | Float64Array, out?: Uint32Array): Uint32Array {
-  return values instanceof Float32Array ? sortF32(values, out) : sortF64(values, out);
+export function sortOrder(values: Float32Array | Float64Array, out?: Uint32Array, work?: Uint32Array): Uint32Array {
+  return values instanceof Float32Array ? sortF32(values, out, work) : sortF64(values, out, work);
+}
+
+/** Index buffer k (0 or 1) of m entries: in the caller's work buffer, or new. */
+function indexBuffer(work: Uint32Array | undefined, k: number, m: number): Uint32Array {
+  if (work === undefined) return new Uint32Array(m);
+  if (work.length < 2 * m) throw new RangeError(`sortOrder: the work buffer holds ${work.length} entries but the sort needs ${2 * m}`);
+  return work.subarray(k * m, (k + 1) * m);
 }
 
 /** The caller's output buffer, checked against the count of valid values, or a new one. */
@@ -31,7 +41,7 @@ function output(out: Uint32Array | undefined, m: number): Uint32Array {
 }
 
 /** Three passes of 11, 11 and 10 bits. */
-function sortF32(values: Float32Array, dest?: Uint32Array): Uint32Array {
+function sortF32(values: Float32Array, dest?: Uint32Array, work?: Uint32Array): Uint32Array {
   const n = values.length;
   const bits = new Uint32Array(values.buffer, values.byteOffset, n);
   const h0 = new Uint32Array(2048), h1 = new Uint32Array(2048), h2 = new Uint32Array(1024);
@@ -44,7 +54,7 @@ function sortF32(values: Float32Array, dest?: Uint32Array): Uint32Array {
     m++;
   }
   // pass 1: values → (index, full key), by bits 0–10
-  const idxA = new Uint32Array(m);
+  const idxA = indexBuffer(work, 0, m);
   // the full keys, overwritten by the order in pass 3
   const keyA = output(dest, m);
   if (skipPass(h0, m)) {
@@ -64,7 +74,7 @@ function sortF32(values: Float32Array, dest?: Uint32Array): Uint32Array {
     }
   }
   // pass 2: → (index, top 10 bits), by bits 11–21
-  const idxB = new Uint32Array(m);
+  const idxB = indexBuffer(work, 1, m);
   const topB = new Uint16Array(m);
   if (skipPass(h1, m)) {
     for (let k = 0; k < m; k++) { idxB[k] = idxA[k]; topB[k] = keyA[k] >>> 22; }
@@ -78,7 +88,7 @@ function sortF32(values: Float32Array, dest?: Uint32Array): Uint32Array {
   }
   // pass 3: → index, by bits 22–31, written over the full keys (no longer needed)
   if (skipPass(h2, m)) {
-    if (dest === undefined) return idxB;
+    if (dest === undefined && work === undefined) return idxB;
     keyA.set(idxB);
     return keyA;
   }
@@ -89,7 +99,7 @@ function sortF32(values: Float32Array, dest?: Uint32Array): Uint32Array {
 }
 
 /** Four passes of 16 bits. */
-function sortF64(values: Float64Array, dest?: Uint32Array): Uint32Array {
+function sortF64(values: Float64Array, dest?: Uint32Array, work?: Uint32Array): Uint32Array {
   const n = values.length;
   const words = new Uint32Array(values.buffer, values.byteOffset, 2 * n);
   const h0 = new Uint32Array(65536), h1 = new Uint32Array(65536), h2 = new Uint32Array(65536), h3 = new Uint32Array(65536);
@@ -104,7 +114,7 @@ function sortF64(values: Float64Array, dest?: Uint32Array): Uint32Array {
     m++;
   }
   // pass 1: values → (index, high word, bits 16–31 of the low word), by bits 0–15
-  const idxA = new Uint32Array(m);
+  const idxA = indexBuffer(work, 0, m);
   // the high words, overwritten by the order in pass 4
   const hiA = output(dest, m);
   const midA = new Uint16Array(m);
@@ -119,7 +129,7 @@ function sortF64(values: Float64Array, dest?: Uint32Array): Uint32Array {
     idxA[pos] = i; hiA[pos] = h; midA[pos] = l >>> 16;
   }
   // pass 2: → (index, high word), by bits 16–31
-  const idxB = new Uint32Array(m);
+  const idxB = indexBuffer(work, 1, m);
   const hiB = new Uint32Array(m);
   if (skipPass(h1, m)) {
     idxB.set(idxA); hiB.set(hiA);
@@ -145,7 +155,7 @@ function sortF64(values: Float64Array, dest?: Uint32Array): Uint32Array {
   }
   // pass 4: → index, by bits 48–63, written over the pass-1 high words
   if (skipPass(h3, m)) {
-    if (dest === undefined) return idxC;
+    if (dest === undefined && work === undefined) return idxC;
     hiA.set(idxC);
     return hiA;
   }

@@ -84,11 +84,20 @@ export function gridTask(cx: GridComplex, values: GridValues = cx.values): GridT
   };
 }
 
+/**
+ * A worker that has worked on a grid of this many cells or more is ended once its result is
+ * taken: its isolate would otherwise hold the task's garbage (the union-find forest, the tree
+ * builders' lists: several bytes per cell) until its next collection, which an idle worker never
+ * starts. Ending it returns that memory at once; the next call starts a new worker. Smaller tasks
+ * keep the worker for the next call.
+ */
+const RETIRE_MIN_CELLS = 1 << 18;
+
 /** A task running in the worker; result() blocks until it is done. */
 export class WorkerJob<T> {
   private finished = false;
 
-  constructor(private readonly ctrl: Int32Array, private readonly port: MessagePort) {}
+  constructor(private readonly ctrl: Int32Array, private readonly port: MessagePort, private readonly owner: Worker, private readonly cells: number) {}
 
   /** The main thread has written the order: the worker may read it. */
   orderReady(): void {
@@ -103,6 +112,7 @@ export class WorkerJob<T> {
     while (Atomics.load(this.ctrl, 1) === 0) Atomics.wait(this.ctrl, 1, 0);
     const got = receiveMessageOnPort(this.port);
     this.port.close();
+    if (this.cells >= RETIRE_MIN_CELLS) retire(this.owner);
     if (got === undefined) throw new Error('internal: the worker thread finished without a result; this is a bug in sill, please report it');
     const msg = got.message as { result?: T; error?: { name: string; message: string } };
     if (msg.error !== undefined) throw rebuildError(msg.error);
@@ -116,6 +126,7 @@ export class WorkerJob<T> {
     Atomics.store(this.ctrl, 0, ORDER_ABANDONED);
     Atomics.notify(this.ctrl, 0);
     this.port.close();
+    if (this.cells >= RETIRE_MIN_CELLS) retire(this.owner);
   }
 }
 
@@ -145,10 +156,13 @@ export interface EulerCounts {
   simplices: SimplexCounts;
 }
 
-/** Start the simplex count and the split sweep over `order` (shared, written by the caller, then orderReady()). */
-export function startSplitJob(task: GridTask, order: Uint32Array): WorkerJob<SplitResult> {
-  if (!(order.buffer instanceof SharedArrayBuffer)) throw new Error('internal: the order given to the worker is not on shared memory');
-  return post<SplitResult>({ kind: 'split', grid: task, order });
+/**
+ * Start the simplex count and the split sweep over `order` (shared, written by the caller, then
+ * orderReady()); `forest` (shared, at least cells + 1 entries) is the sweep's union-find buffer.
+ */
+export function startSplitJob(task: GridTask, order: Uint32Array, forest: Int32Array): WorkerJob<SplitResult> {
+  if (!(order.buffer instanceof SharedArrayBuffer) || !(forest.buffer instanceof SharedArrayBuffer)) throw new Error('internal: the order or forest given to the worker is not on shared memory');
+  return post<SplitResult>({ kind: 'split', grid: task, order, forest });
 }
 
 /** Start the Euler self-check's counts (critical points by lower links, simplices). */
@@ -157,6 +171,12 @@ export function startEulerJob(task: GridTask): WorkerJob<EulerCounts> {
 }
 
 let worker: Worker | null = null;
+
+/** End a worker (it finishes nothing more; its memory goes back to the system). */
+function retire(w: Worker): void {
+  if (worker === w) worker = null;
+  void w.terminate();
+}
 
 function post<T>(task: Record<string, unknown>): WorkerJob<T> {
   const g = task.grid as GridTask;
@@ -175,7 +195,7 @@ function post<T>(task: Record<string, unknown>): WorkerJob<T> {
   const { port1, port2 } = new MessageChannel();
   port1.unref();
   worker.postMessage({ ...task, ctrl, port: port2 }, [port2]);
-  return new WorkerJob<T>(ctrl, port1);
+  return new WorkerJob<T>(ctrl, port1, worker, g.width * g.height);
 }
 
 let resolved: string | null | undefined;

@@ -142,20 +142,24 @@ function sweeps(complex: SurfaceComplex): Sweeps {
  * The same on two threads: the worker counts the simplices while this thread sorts, then runs
  * the split sweep while this one finds the critical points and runs the join sweep. The order is
  * written straight into shared memory; the values are shared too (copied there only when the
- * caller's array is not). Each sweep is the one-thread code on the same input, so the results
- * are identical.
+ * caller's array is not). The sort's index buffers become the two union-find forests, so the
+ * second forest costs no more memory than the one-thread run's sort garbage. Each sweep is the
+ * one-thread code on the same input, so the results are identical.
  */
 function sweepsOnTwoThreads(complex: GridComplex): Sweeps {
   const values = complex.values;
   let m = 0;
   for (let i = 0; i < values.length; i++) if (values[i] === values[i]) m++;
+  const n = complex.n;
   const order = new Uint32Array(new SharedArrayBuffer(4 * m));
-  const job = startSplitJob(gridTask(complex, onSharedMemory(values)), order);
+  // the sort's index buffers, then the two union-find forests (n + 1 entries each)
+  const work = new SharedArrayBuffer(8 * (n + 1));
+  const job = startSplitJob(gridTask(complex, onSharedMemory(values)), order, new Int32Array(work, 4 * (n + 1), n + 1));
   try {
-    sortOrder(values, order);
+    sortOrder(values, order, new Uint32Array(work));
     job.orderReady();
     const critical = findCriticalPoints(complex);
-    const join = buildMergeTree(complex, order, 'join');
+    const join = buildMergeTree(complex, order, 'join', new Int32Array(work, 0, n + 1));
     const { split, simplices } = job.result();
     return { order, critical, simplices, join, split };
   } finally {

@@ -18,6 +18,7 @@ interface Task {
   kind: 'split' | 'euler';
   grid: GridTask;
   order?: Uint32Array;
+  forest?: Int32Array;
   ctrl: Int32Array;
   port: MessagePort;
 }
@@ -32,12 +33,12 @@ function run(task: Task): { result: unknown; transfer: ArrayBuffer[] } | null {
   if (task.kind === 'euler') {
     return { result: { critical: countCriticalPoints(cx), simplices: cx.countSimplices() }, transfer: [] };
   }
-  if (task.kind !== 'split' || task.order === undefined) throw new Error(`internal: unknown worker task '${task.kind}'`);
+  if (task.kind !== 'split' || task.order === undefined || task.forest === undefined) throw new Error(`internal: unknown worker task '${task.kind}'`);
   const simplices = cx.countSimplices();
   // the order is written by the main thread meanwhile
   while (Atomics.load(task.ctrl, 0) === ORDER_PENDING) Atomics.wait(task.ctrl, 0, ORDER_PENDING);
   if (Atomics.load(task.ctrl, 0) === ORDER_ABANDONED) return null;
-  const split = buildMergeTree(cx, task.order, 'split');
+  const split = buildMergeTree(cx, task.order, 'split', task.forest);
   const transfer = [split.vertex, split.parent, split.birth, split.childCount, split.pairBirth, split.pairDeath].map((a) => a.buffer as ArrayBuffer);
   return { result: { split, simplices }, transfer };
 }

@@ -159,7 +159,7 @@ describe('errors in the worker', () => {
     try { buildComplex(new Grid({ width: 3, height: 10, values: g.values }), { boundary: 'periodic' }); } catch (e) { mainErr = e; }
     expect(mainErr).toBeInstanceOf(InputError);
     const order = new Uint32Array(new SharedArrayBuffer(4 * 30));
-    const job = startSplitJob(bad, order);
+    const job = startSplitJob(bad, order, new Int32Array(new SharedArrayBuffer(4 * 31)));
     job.orderReady();
     let got: unknown;
     try { job.result(); } catch (e) { got = e; }
@@ -171,7 +171,7 @@ describe('errors in the worker', () => {
     const g = new Grid({ width: 6, height: 5, values: shared(30) });
     const cx = buildComplex(g, { connectivity: 8, boundary: 'open' }) as GridComplex;
     const order = new Uint32Array(new SharedArrayBuffer(4 * 30));
-    startSplitJob(gridTask(cx), order).abandon();
+    startSplitJob(gridTask(cx), order, new Int32Array(new SharedArrayBuffer(4 * 31))).abandon();
     const got = startEulerJob(gridTask(cx)).result();
     expect(got.critical).toEqual(countCriticalPoints(cx));
   });
@@ -186,17 +186,25 @@ describe('sortOrder into a given buffer', () => {
         const got = sortOrder(values, out);
         expect(got).toBe(out);
         expect(Array.from(got)).toEqual(Array.from(want));
+        // with the index buffers in a work buffer too, or only there (the order then is not a view of it)
+        const work = new Uint32Array(2 * values.length + 2).fill(7);
+        expect(Array.from(sortOrder(values, new Uint32Array(want.length), work))).toEqual(Array.from(want));
+        const alone = sortOrder(values, undefined, work);
+        expect(Array.from(alone)).toEqual(Array.from(want));
+        expect(alone.buffer).not.toBe(work.buffer);
       }),
       { numRuns: 100, seed: 12 },
     );
     // all in one bucket of every pass: the early returns copy into the buffer too
     for (const v of [new Float32Array([2, 2, 2]), new Float64Array([2, NaN, 2])]) {
-      const out = new Uint32Array(v.length === 3 && v[1] !== v[1] ? 2 : 3);
-      expect(Array.from(sortOrder(v, out))).toEqual(Array.from(sortOrder(v)));
+      const m = v[1] !== v[1] ? 2 : 3;
+      expect(Array.from(sortOrder(v, new Uint32Array(m)))).toEqual(Array.from(sortOrder(v)));
+      expect(Array.from(sortOrder(v, undefined, new Uint32Array(2 * m)))).toEqual(Array.from(sortOrder(v)));
     }
   });
 
   it('refuses a buffer of the wrong size', () => {
     expect(() => sortOrder(new Float32Array([1, NaN, 0]), new Uint32Array(3))).toThrow(/holds 3 entries but there are 2 valid values/);
+    expect(() => sortOrder(new Float64Array([1, 3, 0]), undefined, new Uint32Array(5))).toThrow(/work buffer holds 5 entries but the sort needs 6/);
   });
 });
