@@ -93,11 +93,14 @@ export function gridTask(cx: GridComplex, values: GridValues = cx.values): GridT
  */
 const RETIRE_MIN_CELLS = 1 << 18;
 
+/** How long a caller waits for a new worker's module to load before giving up. */
+const START_TIMEOUT_MS = 60_000;
+
 /** A task running in the worker; result() blocks until it is done. */
 export class WorkerJob<T> {
   private finished = false;
 
-  constructor(private readonly ctrl: Int32Array, private readonly port: MessagePort, private readonly owner: Worker, private readonly cells: number) {}
+  constructor(private readonly ctrl: Int32Array, private readonly port: MessagePort, private readonly owner: Worker, private readonly started: Int32Array, private readonly cells: number) {}
 
   /** The main thread has written the order: the worker may read it. */
   orderReady(): void {
@@ -109,7 +112,16 @@ export class WorkerJob<T> {
   result(): T {
     if (this.finished) throw new Error('internal: a worker result was taken twice');
     this.finished = true;
-    while (Atomics.load(this.ctrl, 1) === 0) Atomics.wait(this.ctrl, 1, 0);
+    // a worker that never got its module running (it cannot post anything) is given up after a while
+    for (let waited = 0; Atomics.load(this.ctrl, 1) === 0;) {
+      if (Atomics.wait(this.ctrl, 1, 0, 1000) !== 'timed-out' || Atomics.load(this.started, 0) !== 0) continue;
+      waited += 1000;
+      if (waited >= START_TIMEOUT_MS) {
+        this.port.close();
+        retire(this.owner);
+        throw new Error(`the worker thread did not start within ${START_TIMEOUT_MS / 1000} s; run with --threads 1`);
+      }
+    }
     const got = receiveMessageOnPort(this.port);
     this.port.close();
     if (this.cells >= RETIRE_MIN_CELLS) retire(this.owner);
@@ -171,6 +183,8 @@ export function startEulerJob(task: GridTask): WorkerJob<EulerCounts> {
 }
 
 let worker: Worker | null = null;
+/** Raised by the current worker once its module is running. */
+let workerStarted: Int32Array = new Int32Array(new SharedArrayBuffer(4));
 
 /** End a worker (it finishes nothing more; its memory goes back to the system). */
 function retire(w: Worker): void {
@@ -184,7 +198,8 @@ function post<T>(task: Record<string, unknown>): WorkerJob<T> {
   const file = workerFile();
   if (file === null) throw new Error('internal: the worker module sweep-worker.js is missing; run npm run build');
   if (worker === null) {
-    const w = new Worker(file);
+    workerStarted = new Int32Array(new SharedArrayBuffer(4));
+    const w = new Worker(file, { workerData: { started: workerStarted } });
     w.unref();
     // a worker that stopped (it should not) is replaced on the next call
     w.on('exit', () => { if (worker === w) worker = null; });
@@ -195,7 +210,7 @@ function post<T>(task: Record<string, unknown>): WorkerJob<T> {
   const { port1, port2 } = new MessageChannel();
   port1.unref();
   worker.postMessage({ ...task, ctrl, port: port2 }, [port2]);
-  return new WorkerJob<T>(ctrl, port1, worker, g.width * g.height);
+  return new WorkerJob<T>(ctrl, port1, worker, workerStarted, g.width * g.height);
 }
 
 let resolved: string | null | undefined;

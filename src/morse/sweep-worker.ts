@@ -7,7 +7,7 @@
  * Tasks: 'split' — simplex counts, then (once the main thread has written the order) the split
  * tree; 'euler' — the Euler self-check's counts (critical points by lower links, simplices).
  */
-import { parentPort, type MessagePort } from 'node:worker_threads';
+import { parentPort, workerData, type MessagePort } from 'node:worker_threads';
 import { Grid } from '../surface/grid.js';
 import { GridComplex } from '../surface/complex.js';
 import { countCriticalPoints } from './critical.js';
@@ -42,6 +42,9 @@ function run(task: Task): { result: unknown; transfer: ArrayBuffer[] } | null {
   const transfer = [split.vertex, split.parent, split.birth, split.childCount, split.pairBirth, split.pairDeath].map((a) => a.buffer as ArrayBuffer);
   return { result: { split, simplices }, transfer };
 }
+
+// the module is running: a caller waiting for a result now knows the worker started
+Atomics.store((workerData as { started: Int32Array }).started, 0, 1);
 
 parentPort!.on('message', (task: Task) => {
   try {
