@@ -4,14 +4,15 @@
  * and as whole processes from a GeoTIFF on disk (survey --json to /dev/null, ponds -o DIR with
  * every file), alternating run by run so both see the same load from other work on the machine.
  *
- * Besides wall-clock time, each library run records the CPU time of each thread from
- * /proc/self/task/<tid>/schedstat (nanoseconds): the calling thread and the worker. On a busy
- * machine the wall clock mostly measures the queue for the cores; the larger of the two threads'
- * CPU times is what the call would take on two free cores (when neither waits for the other).
+ * Besides wall-clock time, each library run records the calling thread's CPU time (from
+ * /proc/self/task/<pid>/schedstat) and the process's (getrusage), so the rest is the worker's and
+ * V8's helper threads'. On a busy machine the wall clock mostly measures the queue for the cores;
+ * the larger of the two CPU times is about what the call takes on two free cores (when neither
+ * thread waits for the other).
  * Whole processes are measured by /usr/bin/time (wall, user + system, peak RSS = VmHWM).
  */
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -28,15 +29,6 @@ async function lib() {
   ]);
   if (!survey || !ponds) throw new Error('dist/ is missing: run npm run build first');
   return { survey: survey.survey, ponds: ponds.ponds, Grid: grid.Grid, gridValues: grid.gridValues, writeGeoTiff: io.writeGeoTiff };
-}
-
-/** CPU time so far of every thread of this process, in ms, by thread id. */
-function threadCpu() {
-  const out = new Map();
-  for (const t of readdirSync('/proc/self/task')) {
-    try { out.set(Number(t), Number(readFileSync(`/proc/self/task/${t}/schedstat`, 'utf8').split(' ')[0]) / 1e6); } catch { /* thread gone */ }
-  }
-  return out;
 }
 
 /** A Grid over a fresh copy of the terrain on shared memory. */
@@ -57,19 +49,22 @@ function warmUp(L) {
   }
 }
 
-/** One timed library call: wall, process CPU, this thread's CPU and the other threads' (the worker, GC helpers). */
+/** CPU time so far of this process's main thread, in ms (/proc/self/task/<pid>/schedstat, nanoseconds). */
+function mainThreadCpu() {
+  return Number(readFileSync(`/proc/self/task/${process.pid}/schedstat`, 'utf8').split(' ')[0]) / 1e6;
+}
+
+/**
+ * One timed library call: wall, process CPU (getrusage: every thread, ended ones included), the
+ * calling thread's CPU, and the rest (the worker, which has ended by then, and V8's helper threads).
+ */
 function timed(fn) {
   collect();
-  const before = threadCpu(), c0 = process.cpuUsage(), t0 = performance.now();
+  const m0 = mainThreadCpu(), c0 = process.cpuUsage(), t0 = performance.now();
   const out = fn();
   const wall = performance.now() - t0, c = process.cpuUsage(c0);
-  const after = threadCpu();
-  let main = 0, others = 0;
-  for (const [tid, ms] of after) {
-    const d = ms - (before.get(tid) ?? 0);
-    if (tid === process.pid) main = d; else others += d;
-  }
-  return { out, wall, cpu: (c.user + c.system) / 1000, main, others };
+  const main = mainThreadCpu() - m0, cpu = (c.user + c.system) / 1000;
+  return { out, wall, cpu, main, others: Math.max(0, cpu - main) };
 }
 
 export const threadsCase = {
@@ -97,7 +92,7 @@ export const threadsCase = {
         const wall = xs.map((x) => x.wall), cpu = xs.map((x) => x.cpu);
         ctx.record(`threads.${name}.${threads}.ms`, median(wall), { label: `${name} library call, threads ${threads}`, unit: 'ms', samples: wall, cpu });
         ctx.record(`threads.${name}.${threads}.main`, median(xs.map((x) => x.main)), { label: `  calling thread CPU`, unit: 'ms' });
-        ctx.record(`threads.${name}.${threads}.others`, median(xs.map((x) => x.others)), { label: `  other threads CPU (worker, GC helpers)`, unit: 'ms' });
+        ctx.record(`threads.${name}.${threads}.others`, median(xs.map((x) => x.others)), { label: `  other threads CPU (worker, V8 helpers)`, unit: 'ms' });
         ctx.record(`threads.${name}.${threads}.busiest`, median(xs.map((x) => Math.max(x.main, x.others))), { label: `  busiest thread CPU (the call on two free cores)`, unit: 'ms' });
       }
       ctx.record(`threads.${name}.speedup`, median(s[1].map((x, k) => x.wall / s[2][k].wall)), { label: `${name}: wall threads 1 / threads 2, run by run`, unit: '×' });

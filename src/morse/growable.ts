@@ -17,4 +17,8 @@ export class IntList {
   toArray(): Int32Array {
     return this.data.slice(0, this.length);
   }
+  /** The contents, without a copy when the list is exactly full; the list is not to be used afterwards. */
+  take(): Int32Array {
+    return this.length === this.data.length ? this.data : this.data.slice(0, this.length);
+  }
 }

@@ -56,16 +56,31 @@ function three(bits: Int32Array, j: number): number {
 
 /** The tree being built: nodes, elder-rule pairs, and the merge step. */
 class TreeBuilder {
-  readonly vertex = new IntList(1024);
-  readonly parent = new IntList(1024);
-  readonly birth = new IntList(1024);
-  readonly children = new IntList(1024);
+  readonly vertex: IntList;
+  readonly parent: IntList;
+  readonly birth: IntList;
+  readonly children: IntList;
   /** Union-by-rank: the rank of the union-find tree whose root carries this node. */
-  readonly rank = new IntList(1024);
-  readonly pairB = new IntList(1024);
-  readonly pairD = new IntList(1024);
+  readonly rank: IntList;
+  readonly pairB: IntList;
+  readonly pairD: IntList;
 
-  constructor(private readonly values: ArrayLike<number>, private readonly up: boolean) {}
+  /**
+   * @param leaves components the sweep will start, when known: L leaves make at most 2L − 1 nodes
+   *   (each merge of k components ends k − 1 of them) and exactly L − (components left) pairs,
+   *   so the lists are sized once instead of growing.
+   */
+  constructor(private readonly values: ArrayLike<number>, private readonly up: boolean, leaves?: number) {
+    const nodes = leaves !== undefined ? Math.max(16, 2 * leaves - 1) : 1024;
+    const pairs = leaves !== undefined ? Math.max(16, leaves - 1) : 1024;
+    this.vertex = new IntList(nodes);
+    this.parent = new IntList(nodes);
+    this.birth = new IntList(nodes);
+    this.children = new IntList(nodes);
+    this.rank = new IntList(nodes);
+    this.pairB = new IntList(pairs);
+    this.pairD = new IntList(pairs);
+  }
 
   newNode(vtx: number, birth: number): number {
     this.vertex.push(vtx);
@@ -122,8 +137,11 @@ class TreeBuilder {
  * @param order ascending (value, index) order of the valid vertices
  * @param scratch optional work buffer of at least cx.n + 1 entries, reused between sweeps to save
  *   memory (its contents are overwritten); without it the sweep allocates its own.
+ * @param leaves the number of components the sweep starts, when known (pits with ω for the join
+ *   tree, peaks with τ for the split tree; an upper bound will do): the tree's lists are then
+ *   allocated once at about their final size. Only memory depends on it, never the result.
  */
-export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'join' | 'split', scratch?: Int32Array): MergeTree {
+export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'join' | 'split', scratch?: Int32Array, leaves?: number): MergeTree {
   // The loops below use no closures: optimised code then does not hold on to one call's arrays
   // and is reused from call to call (it matters for many small grids).
   const n = cx.n;
@@ -135,7 +153,7 @@ export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'jo
   const forest = scratch !== undefined && scratch.length >= n + 1 ? scratch : new Int32Array(n + 1);
   // swept vertices, one bit each: small enough to stay in cache while the forest does not
   const done = new Int32Array((n + 32) >>> 5);
-  const tree = new TreeBuilder(cx.values, up);
+  const tree = new TreeBuilder(cx.values, up, leaves);
   const nbr = new Int32Array(cx.maxDegree + 1);
   const roots = new Int32Array(cx.maxDegree + 1);
 
@@ -208,14 +226,20 @@ export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'jo
   }
   return {
     kind,
-    vertex: tree.vertex.toArray(),
-    parent: tree.parent.toArray(),
-    birth: tree.birth.toArray(),
-    childCount: tree.children.toArray(),
+    vertex: tree.vertex.take(),
+    parent: tree.parent.take(),
+    birth: tree.birth.take(),
+    childCount: tree.children.take(),
     hasVirtual: virtualAdj !== null,
-    pairBirth: tree.pairB.toArray(),
-    pairDeath: tree.pairD.toArray(),
+    pairBirth: tree.pairB.take(),
+    pairDeath: tree.pairD.take(),
   };
+}
+
+/** Components a sweep starts, at most, from the critical points: its leaves (see buildMergeTree). */
+export function sweepLeaves(cx: SurfaceComplex, counts: { pits: number; peaks: number }, kind: 'join' | 'split'): number {
+  // pits count ω already; a peak next to a wall joins τ's component instead of starting one
+  return kind === 'join' ? counts.pits : counts.peaks + (cx.hasTop ? 1 : 0);
 }
 
 /** Bit set of the cells a grid sweep handles in general: the grid edge, and the given cells. */

@@ -9,8 +9,10 @@
  * and takes the message off the port at once (receiveMessageOnPort). The result's arrays are
  * transferred, not copied.
  *
- * One worker serves the whole process and is kept between calls (it does not keep the process
- * alive). Small grids stay on one thread: starting a worker costs tens of milliseconds.
+ * One worker serves the process at a time (it does not keep the process alive); after a large
+ * task it is ended so that its memory goes back at once (RETIRE_MIN_CELLS). Small grids stay on
+ * one thread: starting a worker costs tens of milliseconds. The work splits in two, so a thread
+ * count above 2 uses 2.
  */
 import { existsSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
@@ -74,7 +76,7 @@ export interface GridTask {
 /** What the main thread tells the worker about the order (control word 0). */
 export const ORDER_PENDING = 0, ORDER_READY = 1, ORDER_ABANDONED = 2;
 
-/** The grid task of a complex; values and flags must be on shared memory. */
+/** The grid task of a complex (its flags are on shared memory already; `values` must be). */
 export function gridTask(cx: GridComplex, values: GridValues = cx.values): GridTask {
   const flags = cx.flags;
   return {

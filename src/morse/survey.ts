@@ -7,7 +7,7 @@ import type { Mesh } from '../surface/mesh.js';
 import { buildComplex, GridComplex, type ComplexOptions, type SurfaceComplex, type SimplexCounts } from '../surface/complex.js';
 import { sortOrder } from './order.js';
 import { findCriticalPoints, indexOfVertex, PIT, PASS, PEAK, type CriticalPoints } from './critical.js';
-import { buildMergeTree, simplifyMergeTree, type MergeTree } from './mergetree.js';
+import { buildMergeTree, simplifyMergeTree, sweepLeaves, type MergeTree } from './mergetree.js';
 import { useWorker, onSharedMemory, gridTask, startSplitJob, type ThreadOptions } from './parallel.js';
 
 export interface SurveyOptions extends ComplexOptions, ThreadOptions {
@@ -133,8 +133,8 @@ function sweeps(complex: SurfaceComplex): Sweeps {
   const simplices = complex.countSimplices();
   // one union-find buffer serves both sweeps
   const scratch = new Int32Array(complex.n + 1);
-  const join = buildMergeTree(complex, order, 'join', scratch);
-  const split = buildMergeTree(complex, order, 'split', scratch);
+  const join = buildMergeTree(complex, order, 'join', scratch, sweepLeaves(complex, critical, 'join'));
+  const split = buildMergeTree(complex, order, 'split', scratch, sweepLeaves(complex, critical, 'split'));
   return { order, critical, simplices, join, split };
 }
 
@@ -159,7 +159,7 @@ function sweepsOnTwoThreads(complex: GridComplex): Sweeps {
     sortOrder(values, order, new Uint32Array(work));
     job.orderReady();
     const critical = findCriticalPoints(complex);
-    const join = buildMergeTree(complex, order, 'join', new Int32Array(work, 0, n + 1));
+    const join = buildMergeTree(complex, order, 'join', new Int32Array(work, 0, n + 1), sweepLeaves(complex, critical, 'join'));
     const { split, simplices } = job.result();
     return { order, critical, simplices, join, split };
   } finally {
