@@ -14,7 +14,8 @@ import { Grid } from '../../src/surface/grid.js';
 import { buildComplex, GridComplex, type Boundary, type Connectivity } from '../../src/surface/complex.js';
 import { survey, type SurveyResult } from '../../src/morse/survey.js';
 import { sortOrder } from '../../src/morse/order.js';
-import { countCriticalPoints } from '../../src/morse/critical.js';
+import { countCriticalPoints, findCriticalPoints } from '../../src/morse/critical.js';
+import { buildMergeTree, sweepLeaves } from '../../src/morse/mergetree.js';
 import { gridTask, startEulerJob, startSplitJob, onSharedMemory, useWorker, workerFile } from '../../src/morse/parallel.js';
 import { InputError } from '../../src/errors.js';
 
@@ -206,5 +207,30 @@ describe('sortOrder into a given buffer', () => {
   it('refuses a buffer of the wrong size', () => {
     expect(() => sortOrder(new Float32Array([1, NaN, 0]), new Uint32Array(3))).toThrow(/holds 3 entries but there are 2 valid values/);
     expect(() => sortOrder(new Float64Array([1, 3, 0]), undefined, new Uint32Array(5))).toThrow(/work buffer holds 5 entries but the sort needs 6/);
+  });
+});
+
+describe('merge-tree lists sized from the critical points', () => {
+  it('L leaves give at most 2L − 1 nodes and L − 1 pairs; the trees are those built without the size', () => {
+    fc.assert(
+      fc.property(gridArb, fc.constantFrom(...CONNS), fc.constantFrom(...BOUNDARIES), ({ w, h, values }, connectivity, boundary) => {
+        const cx = buildComplex(new Grid({ width: w, height: h, values: values.slice() }), { connectivity, boundary });
+        const order = sortOrder(cx.values);
+        const cp = findCriticalPoints(cx);
+        for (const kind of ['join', 'split'] as const) {
+          const L = sweepLeaves(cx, cp, kind);
+          const sized = buildMergeTree(cx, order, kind, undefined, L);
+          const grown = buildMergeTree(cx, order, kind);
+          expect(sized).toEqual(grown);
+          // leaves of the tree: nodes without children (the elder rule's births)
+          let leaves = 0;
+          for (let k = 0; k < sized.childCount.length; k++) if (sized.childCount[k] === 0) leaves++;
+          expect(leaves).toBeLessThanOrEqual(L);
+          expect(sized.vertex.length).toBeLessThanOrEqual(Math.max(1, 2 * L - 1));
+          expect(sized.pairBirth.length).toBeLessThanOrEqual(Math.max(0, L - 1));
+        }
+      }),
+      { numRuns: 150, seed: 13 },
+    );
   });
 });
