@@ -11,7 +11,7 @@ import { parentPort, workerData, type MessagePort } from 'node:worker_threads';
 import { Grid } from '../surface/grid.js';
 import { GridComplex } from '../surface/complex.js';
 import { countCriticalPoints } from './critical.js';
-import { buildMergeTree, sweepLeaves } from './mergetree.js';
+import { buildMergeTree } from './mergetree.js';
 import { ORDER_ABANDONED, ORDER_PENDING, type GridTask } from './parallel.js';
 
 interface Task {
@@ -34,12 +34,12 @@ function run(task: Task): { result: unknown; transfer: ArrayBuffer[] } | null {
     return { result: { critical: countCriticalPoints(cx), simplices: cx.countSimplices() }, transfer: [] };
   }
   if (task.kind !== 'split' || task.order === undefined || task.forest === undefined) throw new Error(`internal: unknown worker task '${task.kind}'`);
-  // while the main thread sorts: the simplex count, and the peaks that size the tree's lists
+  // while the main thread sorts (counting the peaks here too, to size the tree's lists, would
+  // make this thread the slower one: the lists grow instead)
   const simplices = cx.countSimplices();
-  const leaves = sweepLeaves(cx, countCriticalPoints(cx), 'split');
   while (Atomics.load(task.ctrl, 0) === ORDER_PENDING) Atomics.wait(task.ctrl, 0, ORDER_PENDING);
   if (Atomics.load(task.ctrl, 0) === ORDER_ABANDONED) return null;
-  const split = buildMergeTree(cx, task.order, 'split', task.forest, leaves);
+  const split = buildMergeTree(cx, task.order, 'split', task.forest);
   const transfer = [split.vertex, split.parent, split.birth, split.childCount, split.pairBirth, split.pairDeath].map((a) => a.buffer as ArrayBuffer);
   return { result: { split, simplices }, transfer };
 }
