@@ -1,6 +1,7 @@
 /**
  * `--threads`: the whole command (the built binary) writes exactly the same bytes — stdout and
- * every file of -o — with one thread and with two. The environment variable
+ * every file of -o (the folder manifest's list of files; its run id and time differ by design) —
+ * with one thread and with two. The environment variable
  * SILL_PARALLEL_MIN_CELLS=0 sends these small inputs through the two-thread path, which large
  * grids take by default. Inputs: fixture GeoTIFFs and .npy files of several layouts and types, a
  * demo DEM with nodata, and a text grid (values not on shared memory), in several connectivity
@@ -24,7 +25,12 @@ function run(args: string[], threads: number, out: string | null): { code: numbe
     encoding: 'utf8', env: { ...process.env, FORCE_COLOR: '0', SILL_PARALLEL_MIN_CELLS: '0' },
   });
   const files: Record<string, string> = {};
-  if (out && r.status === 0) for (const f of readdirSync(out).sort()) files[f] = readFileSync(join(out, f)).toString('base64');
+  if (out && r.status === 0) {
+    for (const f of readdirSync(out).sort()) {
+      // the output folder's manifest names its run and time; the files it lists must agree
+      files[f] = f === '.sill-manifest.json' ? JSON.stringify(JSON.parse(readFileSync(join(out, f), 'utf8')).files) : readFileSync(join(out, f)).toString('base64');
+    }
+  }
   return { code: r.status, stdout: r.stdout, stderr: r.stderr, files };
 }
 
