@@ -98,7 +98,7 @@ export class Progress {
   private readonly on: boolean;
   private readonly t0 = Date.now();
   constructor(quiet: boolean | undefined) {
-    this.on = !quiet && !!process.stderr.isTTY;
+    this.on = !quiet && (!!process.stderr.isTTY || process.env.SILL_STDERR_TTY === '1');
   }
   stage(what: string): void {
     if (this.on) process.stderr.write(`\r\x1b[K[${((Date.now() - this.t0) / 1000).toFixed(1)} s] ${what}…`);
