@@ -11,9 +11,9 @@ import { writeGeoTiff, loadSurface } from '../io/index.js';
 import type { Feature } from '../io/tables.js';
 import type { OutputFolder } from '../io/outdir.js';
 import type { Grid } from '../surface/grid.js';
-import { addCommonOptions, parseNumber, Progress, say, fmt, openOutput } from './common.js';
+import { addCommonOptions, parseNumber, Progress, say, fmt, openOutput, THRESHOLD } from './common.js';
 import {
-  parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printChunks, writeChunks, listJsonChunks, csvChunks,
+  parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, checkBalance, printChunks, writeChunks, listJsonChunks, csvChunks,
   collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
@@ -67,7 +67,7 @@ async function loadRaster(path: string, option: string): Promise<Grid> {
 export async function runRunoffCommand(input: string, opts: RunoffCliOptions): Promise<RunoffReport> {
   const progress = new Progress(opts.quiet || opts.json);
   const { connectivity, boundary } = parseOpenBoundary('runoff', opts);
-  const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', { min: 0 });
+  const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', THRESHOLD);
   if (minPersistence > 0) {
     throw new InputError('runoff routes the water through every depression, shallow ones included (they store water too); --min-persistence does not apply — filter runoff.csv instead');
   }
@@ -101,6 +101,7 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
     onStage: (s) => progress.stage(s),
   }, input);
   checkHydroReport(report, stageId, 'runoff.csv');
+  checkBalance(report.water);
   progress.done();
   for (const w of report.warnings) process.stderr.write(`sill: warning: ${w}\n`);
   let written: string[] = [];

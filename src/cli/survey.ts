@@ -5,8 +5,9 @@ import { collectionHead } from '../io/tables.js';
 import { TextSink, withFileSink, writeJson, writeCsv, writePointCollection } from '../io/stream.js';
 import { KIND_NAMES } from '../morse/critical.js';
 import type { OutputFolder } from '../io/outdir.js';
-import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, fmtCoord, openOutput, type CommonOptions } from './common.js';
+import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
+import { eulerFailure } from './hydro-common.js';
 import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
 import type { SurveyResult } from '../morse/survey.js';
@@ -27,7 +28,7 @@ export async function runSurveyCommand(input: string, opts: CommonOptions): Prom
   const progress = new Progress(opts.quiet || opts.json);
   const connectivity = parseConnectivity(opts.connectivity);
   const boundary = parseBoundary(opts.boundary);
-  const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', { min: 0 });
+  const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', THRESHOLD);
   const render = reportRequest('survey', [input], { ...opts });
   const out = openOutput(opts, 'survey', [...SURVEY_FILES, ...reportNames(render)], [input]);
   progress.stage(`reading ${input}`);
@@ -35,7 +36,7 @@ export async function runSurveyCommand(input: string, opts: CommonOptions): Prom
   progress.stage('ordering, critical points, merge trees');
   const { result, report } = surveyReport(surface, { connectivity, boundary, minPersistence }, input);
   progress.done();
-  if (!report.euler.holds) throw new Error(`Euler relation fails (χ = ${report.euler.characteristic}, pits − passes + peaks = ${report.euler.pits - report.euler.passes + report.euler.peaks}); this is a bug in sill, please report it with the input`);
+  if (!report.euler.holds) throw eulerFailure(report.euler);
   if (out) await writeSurveyFiles(out, surface, result, report, render);
   if (opts.json) writeJsonStdout(report);
   say(opts, surveySummary(report, opts.out));
