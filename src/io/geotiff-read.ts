@@ -120,6 +120,14 @@ function notTiff(path: string, detail: string): InputError {
   return new InputError(`${path} is not a TIFF file (${detail}); give a GeoTIFF, a .npy array or a text grid`);
 }
 
+/** A decoder's failure in words: pako throws bare strings, DataView overruns say nothing about the file. */
+function decoderReason(err: unknown, method: string): string {
+  if (err instanceof RangeError) return `the ${method} data ends early or is invalid`;
+  const msg = err instanceof Error ? err.message : typeof err === 'string' ? err : '';
+  const line = (msg ?? '').split('\n')[0].trim();
+  return line ? `the ${method} decoder: ${line}` : `the ${method} data is invalid`;
+}
+
 function truncated(path: string, detail: string): InputError {
   return new InputError(`${path} is truncated or damaged: ${detail}; copy, download or export the file again`);
 }
@@ -351,6 +359,7 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
     if (!(width > 0 && height > 0)) throw truncated(path, `the image size is ${width}×${height}`);
 
     const bandCount = image.getSamplesPerPixel();
+    if (!(bandCount >= 1)) throw truncated(path, `it declares ${bandCount} samples per pixel, so it holds no band`);
     if (band > bandCount) {
       throw new InputError(`${path} has ${bandCount} band${bandCount === 1 ? '' : 's'}; band ${band} does not exist — choose a band from 1 to ${bandCount}`);
     }
@@ -412,12 +421,19 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
     for (let y0 = 0; y0 < height; y0 += rowsPerRead) {
       const y1 = Math.min(height, y0 + rowsPerRead);
       let samples: ArrayLike<number>;
+      // the decoders report some damage on the console (LZW: "ran off the end of the buffer …"): catch it as damage
+      const warned: string[] = [];
+      const warn = console.warn;
+      console.warn = (...args: unknown[]) => { warned.push(args.map(String).join(' ')); };
       try {
         const r = await image.readRasters({ window: [0, y0, width, y1], samples: [band - 1], interleave: false });
         samples = r[0];
       } catch (err) {
-        throw truncated(path, `rows ${y0}–${y1 - 1} cannot be decoded (${(err as Error).message})`);
+        throw truncated(path, `rows ${y0}–${y1 - 1} cannot be decoded (${decoderReason(err, comp[0])})`);
+      } finally {
+        console.warn = warn;
       }
+      if (warned.length > 0) throw truncated(path, `rows ${y0}–${y1 - 1} cannot be decoded (the ${comp[0]} decoder: ${warned[0].trim()})`);
       if (samples.length !== (y1 - y0) * width) {
         throw truncated(path, `rows ${y0}–${y1 - 1} decode to ${samples.length} values instead of ${(y1 - y0) * width}`);
       }
