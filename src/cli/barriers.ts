@@ -13,6 +13,7 @@ import { buildBarriersReport as buildBarriersHtml } from '../render/html/barrier
 import { InputError } from '../errors.js';
 import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, Progress, say, fmt, openOutput, VALUE_LIMIT, VALUE_WHY, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
+import { checkCellBudget } from './budget.js';
 import { eulerFailure } from './hydro-common.js';
 import type { Boundary } from '../surface/complex.js';
 
@@ -99,6 +100,7 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
   const out = openOutput(opts, 'barriers', [...BARRIERS_FILES, ...reportNames(render)], [input]);
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
+  checkCellBudget('barriers', surface.size, input);
   progress.stage('critical points, basins, refinement and paths');
   const { result, report } = barriersReport(surface, {
     connectivity, boundary, units, to, temperature, minPersistence, cap, period, images, maxPaths,

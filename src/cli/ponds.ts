@@ -16,6 +16,7 @@ import {
   collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
+import { checkCellBudget, featureBudget } from './budget.js';
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, PONDS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildPondsReport as buildPondsHtml } from '../render/html/ponds.js';
 
@@ -77,7 +78,9 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
 
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
+  checkCellBudget('ponds', surface.size, input);
   const { result, report } = pondsReport(surface, {
+    onFeatures: featureBudget('ponds', surface.size, opts.out ? 'out' : opts.json ? 'json' : 'none', input),
     connectivity, boundary, nodataOutlet: nodataAs === 'outlet',
     minDepth, minArea, minVolume, minPersistence, fillOnlyBelow,
     zUnits: opts.zUnits, zFactor, xyUnits: opts.xyUnits,

@@ -17,6 +17,7 @@ import {
   collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
+import { checkCellBudget, featureBudget } from './budget.js';
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, type FlagSpec, type ReportRequest } from './report-option.js';
 import { buildRunoffHtml } from '../render/html/runoff.js';
 
@@ -89,9 +90,11 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
 
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
+  checkCellBudget('runoff', surface.size, input);
   const depthRaster = opts.depthRaster !== undefined ? await loadRaster(opts.depthRaster, '--depth-raster') : undefined;
   const initialLevel = opts.initialLevel !== undefined ? await loadRaster(opts.initialLevel, '--initial-level') : undefined;
   const { result, report } = runoffReport(surface, {
+    onFeatures: featureBudget('runoff', surface.size, opts.out ? 'out' : opts.json ? 'json' : 'none', input),
     connectivity, boundary, nodataOutlet: nodataAs === 'outlet',
     depth: depth?.metres, depthText: opts.depth?.trim(),
     depthRaster, depthRasterFactor: DEPTH_UNITS[rasterUnit], depthRasterSource: opts.depthRaster, depthRasterUnit: rasterUnit,
