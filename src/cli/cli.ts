@@ -2,6 +2,8 @@
  * The `sill` command line: a thin layer over the library. Exit 0 ok, 1 runtime failure, 2 bad usage or input.
  * Every error is one line starting with `sill:`. main.ts runs this file as a child process (see there).
  */
+import { realpathSync } from 'node:fs';
+import { pathToFileURL } from 'node:url';
 import { Command, CommanderError } from 'commander';
 import { InputError } from '../errors.js';
 import { SILL_VERSION } from '../report/common.js';
@@ -78,15 +80,19 @@ function lastResort(e: unknown): void {
   if (process.env.SILL_DEBUG) process.stderr.write(`${(e as Error)?.stack}\n`);
   process.exit(1);
 }
-process.on('uncaughtException', lastResort);
-process.on('unhandledRejection', lastResort);
-
-// Run under the supervisor (main.ts): when it goes away (killed), stop as if told to, so no orphan keeps writing.
-if (process.channel) {
-  process.on('disconnect', () => process.kill(process.pid, 'SIGTERM'));
-  process.channel.unref();
+/** Run the command line when this file is the program (under the supervisor, or `node dist/cli/cli.js`), not when a test imports it. */
+export function runProgram(): void {
+  process.on('uncaughtException', lastResort);
+  process.on('unhandledRejection', lastResort);
+  // Run under the supervisor (main.ts): when it goes away (killed), stop as if told to, so no orphan keeps writing.
+  if (process.channel) {
+    process.on('disconnect', () => process.kill(process.pid, 'SIGTERM'));
+    process.channel.unref();
+  }
+  main(process.argv).then((code) => {
+    process.exitCode = code;
+  });
 }
 
-main(process.argv).then((code) => {
-  process.exitCode = code;
-});
+const isProgram = process.env.SILL_SUPERVISED === '1' || (process.argv[1] !== undefined && import.meta.url === pathToFileURL(realpathSync(process.argv[1])).href);
+if (isProgram) runProgram();

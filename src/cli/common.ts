@@ -91,8 +91,10 @@ export function parseNumber(name: string, s: string | undefined, opts: NumberLim
   return v;
 }
 
+/** A limit for a message: whole numbers below 1e15 in groups of three (65 535), others like 1e150 or 0.001. */
 function fmtLimit(x: number): string {
-  return Math.abs(x) >= 1e7 || (x !== 0 && Math.abs(x) < 1e-4) ? x.toExponential().replace('e+', 'e') : x.toLocaleString('en-GB').replace(/,/g, ' ');
+  if (Number.isInteger(x) && Math.abs(x) < 1e15) return String(x).replace(/\B(?=(\d{3})+(?!\d))/g, ' ');
+  return Math.abs(x) >= 1e7 || (x !== 0 && Math.abs(x) < 1e-4) ? x.toExponential().replace('e+', 'e') : String(x);
 }
 
 export function parsePair(name: string, s: string | undefined): [number, number] | undefined {

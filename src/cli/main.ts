@@ -14,20 +14,14 @@
  * SILL_NO_SUPERVISOR=1 runs the command line in this process instead (debugging, profiling).
  */
 import { spawn } from 'node:child_process';
-import { totalmem } from 'node:os';
 import { fileURLToPath } from 'node:url';
+import { heapLimitMb } from './heap.js';
 
 const CLI = fileURLToPath(new URL('./cli.js', import.meta.url));
 
 /** What V8 prints when it gives up on the heap (its first line and its headline). */
 const FATAL_MARKERS = ['<--- Last few GCs --->', 'FATAL ERROR:', '# Fatal javascript OOM', '# Fatal process out of memory'];
 
-/** The child's heap limit in MiB: SILL_MAX_HEAP_MB when set (tests force a small heap), else ¾ of the machine's memory. */
-export function heapLimitMb(env: NodeJS.ProcessEnv = process.env, total = totalmem()): number {
-  const asked = Number(env.SILL_MAX_HEAP_MB);
-  if (Number.isFinite(asked) && asked >= 16) return Math.floor(asked);
-  return Math.max(2048, Math.floor((total * 0.75) / 2 ** 20));
-}
 
 /** Exit status for a child that ended by a signal (the shell's 128 + n). */
 const SIGNAL_STATUS: Record<string, number> = { SIGHUP: 129, SIGINT: 130, SIGKILL: 137, SIGTERM: 143, SIGABRT: 134 };
@@ -83,5 +77,5 @@ function supervise(): void {
   });
 }
 
-if (process.env.SILL_NO_SUPERVISOR === '1') await import('./cli.js');
+if (process.env.SILL_NO_SUPERVISOR === '1') (await import('./cli.js')).runProgram();
 else supervise();
