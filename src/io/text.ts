@@ -16,7 +16,7 @@
 import { InputError } from '../errors.js';
 import { Grid, MAX_CELLS, type GeoTransform } from '../surface/grid.js';
 import { Mesh } from '../surface/mesh.js';
-import { openForReading } from './common.js';
+import { openForReading, printable } from './common.js';
 import { checkCoordinateRange, VALUE_LIMIT } from './range.js';
 
 /** How the lines of a text surface are read. */
@@ -76,7 +76,7 @@ interface Table {
 }
 
 function quote(s: string): string {
-  return s.length > 40 ? `'${s.slice(0, 37)}...'` : `'${s}'`;
+  return `'${printable(s)}'`;
 }
 
 function readTable(text: string, src: string): Table {
