@@ -13,7 +13,7 @@ import { sweepDepressions, nodeSums, SUM_STRIDE as S, SPILLZ, PITZ, type NodeSum
 import { buildHierarchy, type Hierarchy } from './hierarchy.js';
 import { hydroSetup, openComplex, checkedSweepPits, type PondsEuler } from './common.js';
 import { stepWeights, flowDestinations, routingTree, fillSpillMerge, layerLevels, type RoutingTree, type RoutingResult } from './runoff-route.js';
-import { alignRaster, checkDepthRaster } from './runoff-input.js';
+import { alignRaster, checkDepthRaster, MAX_DEPTH } from './runoff-input.js';
 import type { StageRow } from './stage.js';
 
 export interface RunoffOptions extends UnitOptions {
@@ -143,6 +143,7 @@ function checkDepthResolution(z: ArrayLike<number>, width: number, zFactor: numb
   if (raster) {
     for (let i = 0; i < raster.length; i++) {
       const d = raster[i] * factor;
+      if (d > MAX_DEPTH) throw new InputError(`--depth-raster ${rasterSource}: the DEM cell (col ${i % width}, row ${Math.floor(i / width)}) gets ${d.toPrecision(3)} m of runoff, more than ${MAX_DEPTH} m; check the raster's unit (--depth-units)`);
       if (d > 0 && d < floor) throw new InputError(`--depth-raster ${rasterSource}: the DEM cell (col ${i % width}, row ${Math.floor(i / width)}) gets ${d.toPrecision(3)} m, too thin for this DEM: ${hint}, or set such cells to 0`);
     }
   }

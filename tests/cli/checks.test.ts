@@ -152,6 +152,11 @@ describe('values and coordinates outside the float64-safe range are refused (exi
     const z = new Float64Array(30 * 30).map((_, i) => 8800 + ((i * 7919) % 101) / 10);
     npy(p('high.npy'), z, 30, 30);
     fails(sill(['runoff', p('high.npy'), '--depth', '0.001mm']), 2, /too thin for this DEM.*subtract a base elevation/);
+    // the same for a depth raster: too thin, and (unit mistake) too deep
+    npy(p('rain-thin.npy'), new Float64Array(30 * 30).fill(1e-6), 30, 30);
+    fails(sill(['runoff', p('high.npy'), '--depth-raster', p('rain-thin.npy')]), 2, /--depth-raster .*too thin for this DEM/);
+    npy(p('rain-deep.npy'), new Float64Array(30 * 30).fill(20000), 30, 30);
+    fails(sill(['runoff', p('high.npy'), '--depth-raster', p('rain-deep.npy')]), 2, /--depth-raster .*m of runoff, more than 10000 m; check the raster's unit/);
     const ok = sill(['runoff', p('high.npy'), '--depth', '1mm', '--json']);
     expect(ok.code, ok.stderr).toBe(0);
     expect(JSON.parse(ok.stdout).water.balanceError).toBeLessThanOrEqual(BALANCE_TOLERANCE);
