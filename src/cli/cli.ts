@@ -3,6 +3,7 @@
  * Every error is one line starting with `sill:`. main.ts runs this file as a child process (see there).
  */
 import { realpathSync } from 'node:fs';
+import { Worker } from 'node:worker_threads';
 import { pathToFileURL } from 'node:url';
 import { Command, CommanderError } from 'commander';
 import { InputError } from '../errors.js';
@@ -80,15 +81,24 @@ function lastResort(e: unknown): void {
   if (process.env.SILL_DEBUG) process.stderr.write(`${(e as Error)?.stack}\n`);
   process.exit(1);
 }
+/**
+ * A thread that checks every 25 ms that the supervisor is still this process's parent, and kills the
+ * run (SIGKILL, as the supervisor was) when it is gone — the main thread may be deep in a synchronous
+ * analysis for minutes and could not notice. Costs about 10 MB; unref'd, so it never keeps a run alive.
+ */
+function watchSupervisor(): void {
+  const code = `const { workerData } = require('node:worker_threads');
+setInterval(() => { if (process.ppid !== workerData) process.kill(process.pid, 'SIGKILL'); }, 25);`;
+  const w = new Worker(code, { eval: true, workerData: process.ppid });
+  w.unref();
+}
+
 /** Run the command line when this file is the program (under the supervisor, or `node dist/cli/cli.js`), not when a test imports it. */
 export function runProgram(): void {
   process.on('uncaughtException', lastResort);
   process.on('unhandledRejection', lastResort);
-  // Run under the supervisor (main.ts): when it goes away (killed), stop as if told to, so no orphan keeps writing.
-  if (process.channel) {
-    process.on('disconnect', () => process.kill(process.pid, 'SIGTERM'));
-    process.channel.unref();
-  }
+  // Run under the supervisor (main.ts): if it is killed outright, this run dies with it (no orphan keeps writing).
+  if (process.env.SILL_SUPERVISED === '1') watchSupervisor();
   main(process.argv).then((code) => {
     process.exitCode = code;
   });

@@ -10,7 +10,10 @@
  * out-of-memory trace into one `sill:` line with exit status 1.
  *
  * Cost: one more Node process of about 40 MB resident that imports nothing but node:child_process
- * and node:os, and some 40 ms of start-up (measured on the development machine; docs/performance.md).
+ * and node:os, and one Node start-up (docs/performance.md). The run is known by this process's id
+ * (SILL_RUN_PID: staging folder names, liveness); if this process is killed outright (SIGKILL), a
+ * watchdog thread in the run sees it go and kills the run at once, so no orphan keeps writing; a
+ * run that ends by a signal makes this process end by the same signal.
  * SILL_NO_SUPERVISOR=1 runs the command line in this process instead (debugging, profiling).
  */
 import { spawn } from 'node:child_process';
@@ -23,14 +26,17 @@ const CLI = fileURLToPath(new URL('./cli.js', import.meta.url));
 const FATAL_MARKERS = ['<--- Last few GCs --->', 'FATAL ERROR:', '# Fatal javascript OOM', '# Fatal process out of memory'];
 
 
+const FORWARDED = ['SIGINT', 'SIGTERM', 'SIGHUP'] as const;
+
 /** Exit status for a child that ended by a signal (the shell's 128 + n). */
 const SIGNAL_STATUS: Record<string, number> = { SIGHUP: 129, SIGINT: 130, SIGKILL: 137, SIGTERM: 143, SIGABRT: 134 };
 
 function supervise(): void {
   const heapMb = heapLimitMb();
   const child = spawn(process.execPath, [`--max-old-space-size=${heapMb}`, CLI, ...process.argv.slice(2)], {
-    stdio: ['inherit', 'inherit', 'pipe', 'ipc'],
-    env: { ...process.env, SILL_SUPERVISED: '1', ...(process.stderr.isTTY ? { SILL_STDERR_TTY: '1' } : {}) },
+    stdio: ['inherit', 'inherit', 'pipe'],
+    // SILL_RUN_PID: the run is known by this process's id (staging folders, liveness), so a kill of it is a kill of the run
+    env: { ...process.env, SILL_SUPERVISED: '1', SILL_RUN_PID: String(process.pid), ...(process.stderr.isTTY ? { SILL_STDERR_TTY: '1' } : {}) },
   });
   let fatal = false;
   child.stderr!.on('data', (chunk: Buffer) => {
@@ -50,8 +56,10 @@ function supervise(): void {
     if (before) process.stderr.write(before + '\n');
   });
   // Signals sent to this process alone (kill PID) reach the run too; the run cleans up and exits 130/143.
-  for (const sig of ['SIGINT', 'SIGTERM', 'SIGHUP'] as const) {
+  let signalled = false;
+  for (const sig of FORWARDED) {
     process.on(sig, () => {
+      signalled = true;
       if (child.exitCode === null && child.signalCode === null) child.kill(sig);
     });
   }
@@ -60,7 +68,7 @@ function supervise(): void {
     process.exitCode = 1;
   });
   child.on('close', (code, signal) => {
-    if (fatal || (signal === 'SIGABRT' && code === null)) {
+    if (fatal) {
       process.stderr.write(
         `sill: out of memory: the run needed more than the ${heapMb >= 1024 ? `${(heapMb / 1024).toFixed(1)} GiB` : `${heapMb} MiB`} JavaScript heap it was given; ` +
           'keep fewer features (--min-persistence, --min-depth), or cut the DEM into tiles\n',
@@ -68,12 +76,17 @@ function supervise(): void {
       process.exitCode = 1;
       return;
     }
-    if (signal === 'SIGKILL') {
+    if (signal === 'SIGKILL' && !signalled) {
       process.stderr.write('sill: the run was killed (SIGKILL); if nobody stopped it, the system ran out of memory: keep fewer features (--min-persistence, --min-depth) or cut the DEM into tiles\n');
-      process.exitCode = 137;
+    }
+    if (signal) {
+      // end the way the run ended, so whoever started sill sees the signal, as without the supervisor
+      for (const sig of FORWARDED) process.removeAllListeners(sig);
+      process.kill(process.pid, signal);
+      process.exitCode = SIGNAL_STATUS[signal] ?? 1;
       return;
     }
-    process.exitCode = code ?? (signal ? SIGNAL_STATUS[signal] ?? 1 : 1);
+    process.exitCode = code ?? 1;
   });
 }
 
