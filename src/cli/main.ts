@@ -17,10 +17,12 @@
  * SILL_NO_SUPERVISOR=1 runs the command line in this process instead (debugging, profiling).
  */
 import { spawn } from 'node:child_process';
+import { existsSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { heapLimitMb } from './heap.js';
 
 const CLI = fileURLToPath(new URL('./cli.js', import.meta.url));
+const SETPRIV = '/usr/bin/setpriv';
 
 /** What V8 prints when it gives up on the heap (its first line and its headline). */
 const FATAL_MARKERS = ['<--- Last few GCs --->', 'FATAL ERROR:', '# Fatal javascript OOM', '# Fatal process out of memory'];
@@ -33,7 +35,12 @@ const SIGNAL_STATUS: Record<string, number> = { SIGHUP: 129, SIGINT: 130, SIGKIL
 
 function supervise(): void {
   const heapMb = heapLimitMb();
-  const child = spawn(process.execPath, [`--max-old-space-size=${heapMb}`, CLI, ...process.argv.slice(2)], {
+  const argv = [`--max-old-space-size=${heapMb}`, CLI, ...process.argv.slice(2)];
+  // On Linux, util-linux's setpriv asks the kernel to SIGKILL the run the instant this process dies
+  // (PR_SET_PDEATHSIG), so a kill of `sill` is a kill of the run with no delay; elsewhere the run's
+  // watchdog thread does it within 25 ms (src/cli/cli.ts).
+  const pdeath = process.platform === 'linux' && existsSync(SETPRIV);
+  const child = spawn(pdeath ? SETPRIV : process.execPath, pdeath ? ['--pdeathsig', 'KILL', '--', process.execPath, ...argv] : argv, {
     stdio: ['inherit', 'inherit', 'pipe'],
     // SILL_RUN_PID: the run is known by this process's id (staging folders, liveness), so a kill of it is a kill of the run
     env: { ...process.env, SILL_SUPERVISED: '1', SILL_RUN_PID: String(process.pid), ...(process.stderr.isTTY ? { SILL_STDERR_TTY: '1' } : {}) },
