@@ -251,7 +251,8 @@ describe('self-checks fail loudly (exit 1, the figures in one line)', () => {
 
 describe('last resort: allocation failures are one line and exit 1', () => {
   it('V8\'s fatal heap out-of-memory (forced with a 16 MiB heap) becomes one line, no native stack', () => {
-    const r = spawnSync(process.execPath, [BIN, 'survey', p('noise300.npy'), '--json'], { encoding: 'utf8', stdio: ['ignore', 'ignore', 'pipe'], env: { ...process.env, SILL_MAX_HEAP_MB: '16' } });
+    // barriers on noise: tens of thousands of minima and saddles as records (the feature budget of survey and ponds would refuse first)
+    const r = spawnSync(process.execPath, [BIN, 'barriers', p('noise300.npy'), '--json'], { encoding: 'utf8', stdio: ['ignore', 'ignore', 'pipe'], env: { ...process.env, SILL_MAX_HEAP_MB: '16' } });
     expect(r.status, r.stderr).toBe(1);
     const lines = r.stderr.split('\n').filter((l) => l !== '');
     expect(lines).toHaveLength(1);
