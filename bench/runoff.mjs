@@ -81,8 +81,8 @@ if (opt.child === 'cli') {
     const cpu = process.cpuUsage(cpu0);
     writeFileSync(opt.result, JSON.stringify({ code, ms: performance.now() - t0, cpuMs: (cpu.user + cpu.system) / 1000, maxRss: process.resourceUsage().maxRSS * 1024 }));
   });
-  process.argv = [process.argv[0], join(DIST, 'cli/main.js'), ...args];
-  await import(pathToFileURL(join(DIST, 'cli/main.js')).href);
+  process.argv = [process.argv[0], join(DIST, 'cli/cli.js'), ...args];
+  await import(pathToFileURL(join(DIST, 'cli/cli.js')).href);
 } else {
   const fmt = (ms) => (ms >= 1000 ? `${(ms / 1000).toFixed(2)} s` : `${ms.toFixed(0)} ms`);
   const median = (xs) => { const s = [...xs].sort((a, b) => a - b); const m = s.length >> 1; return s.length % 2 ? s[m] : (s[m - 1] + s[m]) / 2; };

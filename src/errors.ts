@@ -8,3 +8,14 @@ export class InputError extends Error {
     this.name = 'InputError';
   }
 }
+
+/**
+ * A result that failed one of sill's own checks (the Euler relation, the water balance): the run
+ * ends with exit 1 and one line naming the check and its figures — never with the result.
+ */
+export class SelfCheckError extends Error {
+  constructor(check: string, figures: string, hint = 'this is a bug in sill, please report it with the input') {
+    super(`self-check failed: ${check} (${figures}); the result is not trustworthy — ${hint}`);
+    this.name = 'SelfCheckError';
+  }
+}

@@ -56,6 +56,13 @@ export interface BarriersOptions {
   meshFit?: MeshFieldOptions;
 }
 
+/** Most images on one string: a path is resolved by the grid it runs over, and each image costs a fit per iteration. */
+export const MAX_IMAGES = 10000;
+export const IMAGES_WHY = 'a path is resolved by the samples it crosses, so more images add no detail, while each one costs a fit at every iteration of every path';
+/** Most minimum-energy paths traced in one run: each is a string-method run and a file of its own. */
+export const MAX_PATHS = 10000;
+export const PATHS_WHY = 'each path is a string-method run and a file of its own; keep fewer transition states with --min-persistence, or trace the lowest ones first';
+
 /** Pairwise minimax barriers are listed for at most this many minima. */
 export const MINIMAX_LIMIT = 300;
 
@@ -171,6 +178,12 @@ export interface BarriersResult {
 export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): BarriersResult {
   const units = opts.units ?? 'none';
   const T = checkTemperature(opts.temperature ?? 300);
+  if (opts.images !== undefined && !(Number.isInteger(opts.images) && opts.images >= 5 && opts.images <= MAX_IMAGES)) {
+    throw new InputError(`images must be a whole number from 5 to ${MAX_IMAGES}, got ${opts.images}: ${IMAGES_WHY}`);
+  }
+  if (opts.maxPaths !== undefined && !(Number.isInteger(opts.maxPaths) && opts.maxPaths >= 0 && opts.maxPaths <= MAX_PATHS)) {
+    throw new InputError(`maxPaths must be a whole number from 0 to ${MAX_PATHS}, got ${opts.maxPaths}: ${PATHS_WHY}`);
+  }
   const kT = kTIn(units, T);
   const boundary = opts.boundary ?? 'closed';
   const notes: string[] = [];

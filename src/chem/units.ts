@@ -50,9 +50,18 @@ export function parseEnergyUnit(s: string | undefined, option = '--units'): Ener
   return u;
 }
 
-/** Check a temperature in kelvin: finite and > 0. */
+/** Temperatures accepted, in kelvin: kT from 8.3e-6 to 831 kJ/mol, beyond which rates and populations overflow or mean nothing. */
+export const TEMPERATURE_RANGE: [number, number] = [0.001, 100000];
+
+/** Check a temperature in kelvin: finite and within TEMPERATURE_RANGE. */
 export function checkTemperature(T: number, option = '--temperature'): number {
   if (!Number.isFinite(T) || !(T > 0)) throw new InputError(`${option} must be a temperature in kelvin above 0, got ${T}`);
+  if (T < TEMPERATURE_RANGE[0] || T > TEMPERATURE_RANGE[1]) {
+    throw new InputError(
+      `${option} must lie between ${TEMPERATURE_RANGE[0]} and 100 000 K, got ${T}: ` +
+        'beyond that kT is below 1e-5 or above 831 kJ/mol (more than any bond), and Boltzmann factors and rates overflow or mean nothing',
+    );
+  }
   return T;
 }
 

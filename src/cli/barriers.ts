@@ -2,7 +2,8 @@
 import type { Command } from 'commander';
 import { barriersReport, pathRows, type BarriersReport } from '../report/barriers.js';
 import type { BarriersResult } from '../chem/barriers.js';
-import { parseEnergyUnit, ENERGY_UNITS, type EnergyUnit } from '../chem/units.js';
+import { parseEnergyUnit, checkTemperature, ENERGY_UNITS, type EnergyUnit } from '../chem/units.js';
+import { MAX_IMAGES, MAX_PATHS, IMAGES_WHY, PATHS_WHY } from '../chem/barriers.js';
 import { disconnectivitySvg } from '../render/disconnectivity.js';
 import { landscapeSvg } from '../render/landscape.js';
 import { withFileSink, writeJson, writeCsvRecords, TextSink } from '../io/stream.js';
@@ -10,8 +11,10 @@ import type { OutputFolder } from '../io/outdir.js';
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, BARRIERS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildBarriersReport as buildBarriersHtml } from '../render/html/barriers.js';
 import { InputError } from '../errors.js';
-import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, openOutput, type CommonOptions } from './common.js';
+import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, openOutput, VALUE_LIMIT, VALUE_WHY, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
+import { checkCellBudget } from './budget.js';
+import { eulerFailure } from './hydro-common.js';
 import type { Boundary } from '../surface/complex.js';
 
 export interface BarriersCliOptions extends CommonOptions {
@@ -43,12 +46,12 @@ export function registerBarriers(program: Command): void {
   cmd
     .option('--units <unit>', `energy unit of the input: ${ENERGY_UNITS.join(', ')}`, 'none')
     .option('--to <unit>', 'report energies in this unit (default: the input unit)')
-    .option('--temperature <kelvin>', 'temperature for kT, free energies and rates', '300')
+    .option('--temperature <kelvin>', 'temperature for kT, free energies and rates (0.001 to 100 000 K)', '300')
     .option('--cap <energy>', 'treat samples above this energy (input unit) as unsampled')
     .option('--periodic', 'shorthand for --boundary periodic (both axes wrap, e.g. two dihedral angles)')
     .option('--period <p[,q]>', 'span of a periodic axis (x, or x,y); default 360 or 2π')
-    .option('--images <n>', 'images on each minimum-energy path (string method)', '81')
-    .option('--max-paths <n>', 'trace paths for at most N transition states, lowest first', '200')
+    .option('--images <n>', 'images on each minimum-energy path (string method; 5 to 10 000)', '81')
+    .option('--max-paths <n>', 'trace paths for at most N transition states, lowest first (up to 10 000)', '200')
     .action(async (input: string, opts: BarriersCliOptions, command: Command) => {
       opts.minPersistenceDefault = command.getOptionValueSource('minPersistence') === 'default';
       opts.boundaryDefault = command.getOptionValueSource('boundary') === 'default';
@@ -60,7 +63,7 @@ function parsePeriod(s: string | undefined): [number | null, number | null] | un
   if (s === undefined) return undefined;
   const parts = s.split(',');
   if (parts.length < 1 || parts.length > 2) throw new InputError(`--period takes one span or two separated by a comma (x,y), got '${s}'`);
-  const v = parts.map((p) => parseNumber('--period', p, { positive: true }));
+  const v = parts.map((p) => parseNumber('--period', p, { positive: true, max: VALUE_LIMIT, minMagnitude: 1 / VALUE_LIMIT, why: VALUE_WHY }));
   return [v[0], v.length === 2 ? v[1] : v[0]];
 }
 
@@ -78,30 +81,33 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
   const to = opts.to === undefined ? undefined : parseEnergyUnit(opts.to, '--to');
   const temperature = parseNumber('--temperature', opts.temperature ?? '300');
   if (!(temperature > 0)) throw new InputError(`--temperature must be a temperature in kelvin above 0, got '${opts.temperature}'`);
+  checkTemperature(temperature);
   if (to !== undefined && to !== units && (units === 'none' || to === 'none')) {
     throw new InputError(units === 'none'
       ? `--to ${to} needs the input unit: add --units (one of ${ENERGY_UNITS.filter((u) => u !== 'none').join(', ')})`
       : `--to none would drop the unit; leave --to out to report in ${units}`);
   }
   const minPersistence = opts.minPersistenceDefault || opts.minPersistence === undefined
-    ? undefined : parseNumber('--min-persistence', opts.minPersistence, { min: 0 });
-  const cap = opts.cap === undefined ? undefined : parseNumber('--cap', opts.cap);
+    ? undefined : parseNumber('--min-persistence', opts.minPersistence, { min: 0, max: VALUE_LIMIT, why: VALUE_WHY });
+  const cap = opts.cap === undefined ? undefined : parseNumber('--cap', opts.cap, { max: VALUE_LIMIT, why: VALUE_WHY });
+  if (cap !== undefined && cap < -VALUE_LIMIT) throw new InputError(`--cap must be at least -1e150, got '${opts.cap}': ${VALUE_WHY}`);
   const period = parsePeriod(opts.period);
-  const images = parseNumber('--images', opts.images ?? '81', { integer: true, min: 5 });
-  const maxPaths = parseNumber('--max-paths', opts.maxPaths ?? '200', { integer: true, min: 0 });
+  const images = parseNumber('--images', opts.images ?? '81', { integer: true, min: 5, max: MAX_IMAGES, why: IMAGES_WHY });
+  const maxPaths = parseNumber('--max-paths', opts.maxPaths ?? '200', { integer: true, min: 0, max: MAX_PATHS, why: PATHS_WHY });
 
   // the command line in the report names the boundary in effect and leaves out a defaulted --min-persistence
   const render = reportRequest('barriers', [input], { ...opts, boundary, periodic: undefined, minPersistence: minPersistence === undefined ? undefined : opts.minPersistence }, flagsOf({ ...opts }, BARRIERS_FLAGS));
   const out = openOutput(opts, 'barriers', [...BARRIERS_FILES, ...reportNames(render)], [input]);
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
+  checkCellBudget('barriers', surface.size, input);
   progress.stage('critical points, basins, refinement and paths');
   const { result, report } = barriersReport(surface, {
     connectivity, boundary, units, to, temperature, minPersistence, cap, period, images, maxPaths,
     threads: parseThreads(opts.threads),
   }, input);
   progress.done();
-  if (!report.euler.holds) throw new Error(`Euler relation fails (χ = ${report.euler.characteristic}, pits − passes + peaks = ${report.euler.pits - report.euler.passes + report.euler.peaks}); this is a bug in sill, please report it with the input`);
+  if (!report.euler.holds) throw eulerFailure(report.euler);
   if (out) await writeBarriersFiles(out, result, report, render);
   if (opts.json) {
     const sink = new TextSink(1);

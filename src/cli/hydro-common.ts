@@ -1,7 +1,7 @@
 /** What `sill ponds` and `sill runoff` share on the command line: option checks, streamed output files, the summary's common lines. */
 import { openSync, writeSync, closeSync } from 'node:fs';
 import { once } from 'node:events';
-import { InputError } from '../errors.js';
+import { InputError, SelfCheckError } from '../errors.js';
 import type { Grid } from '../surface/grid.js';
 import type { Connectivity } from '../surface/complex.js';
 import type { StageRow } from '../hydro/stage.js';
@@ -9,7 +9,7 @@ import type { DepressionOutline } from '../hydro/vectors.js';
 import type { PondsUnits } from '../hydro/areas.js';
 import type { SurfaceInfo, EulerInfo } from '../report/common.js';
 import { toCsv, featureCollection, type Feature } from '../io/tables.js';
-import { parseBoundary, parseConnectivity, parseNumber, type CommonOptions } from './common.js';
+import { parseBoundary, parseConnectivity, parseNumber, THRESHOLD, type CommonOptions } from './common.js';
 
 export interface HydroCliOptions extends CommonOptions {
   nodataAs?: string;
@@ -36,9 +36,9 @@ export function parseNodataAs(opts: HydroCliOptions): 'outlet' | 'wall' {
 
 /** --z-factor, --stage-volume and --stage-step, checked together. */
 export function parseZAndStage(opts: HydroCliOptions): { zFactor?: number; stageId?: number; stageStep?: number } {
-  const zFactor = opts.zFactor === undefined ? undefined : parseNumber('--z-factor', opts.zFactor, { positive: true });
-  const stageId = opts.stageVolume === undefined ? undefined : parseNumber('--stage-volume', opts.stageVolume, { integer: true, min: 1 });
-  const stageStep = opts.stageStep === undefined ? undefined : parseNumber('--stage-step', opts.stageStep, { positive: true });
+  const zFactor = opts.zFactor === undefined ? undefined : parseNumber('--z-factor', opts.zFactor, { positive: true, max: 1e6, minMagnitude: 1e-6, why: 'it is metres per vertical unit of the DEM, between micrometres (1e-6) and thousands of kilometres (1e6)' });
+  const stageId = opts.stageVolume === undefined ? undefined : parseNumber('--stage-volume', opts.stageVolume, { integer: true, min: 1, max: 2 ** 31 - 1, why: 'depression ids are 32-bit (see depressions.csv for the ids of this DEM)' });
+  const stageStep = opts.stageStep === undefined ? undefined : parseNumber('--stage-step', opts.stageStep, { ...THRESHOLD, positive: true });
   if (stageStep !== undefined && stageId === undefined) throw new InputError('--stage-step needs --stage-volume ID');
   if (stageId !== undefined && !opts.out) throw new InputError('--stage-volume writes a table: give an output folder with -o/--out');
   return { zFactor, stageId, stageStep };
@@ -47,12 +47,30 @@ export function parseZAndStage(opts: HydroCliOptions): { zFactor?: number; stage
 /** After the analysis: the Euler relation holds, and the --stage-volume id names a depression (`table` lists them). */
 export function checkHydroReport(report: { euler: EulerInfo | null; depressions: readonly unknown[] }, stageId: number | undefined, table: string): void {
   if (report.euler && !report.euler.holds) {
-    const e = report.euler;
-    throw new Error(`Euler relation fails (χ = ${e.characteristic}, pits − passes + peaks = ${e.pits - e.passes + e.peaks}); this is a bug in sill, please report it with the input`);
+    throw eulerFailure(report.euler);
   }
   const n = report.depressions.length;
   if (stageId !== undefined && stageId > n) {
     throw new InputError(`--stage-volume ${stageId}: there ${n === 1 ? 'is 1 depression' : `are ${n} depressions`} (ids 1…${n}); pick one from ${table}`);
+  }
+}
+
+/** The Euler relation failed: the figures for the one-line message. */
+export function eulerFailure(e: EulerInfo): SelfCheckError {
+  return new SelfCheckError('the Euler relation does not hold', `χ = ${e.characteristic} by counting simplices, pits − passes + peaks = ${e.pits - e.passes + e.peaks}`);
+}
+
+/** Largest relative water-balance error a run may report: |input − ponded − outflow| / input. */
+export const BALANCE_TOLERANCE = 1e-9;
+
+/** Refuse a runoff result whose water does not balance. */
+export function checkBalance(w: { input: number; ponded: number; outflow: number; balanceError: number }): void {
+  if (!(w.balanceError <= BALANCE_TOLERANCE)) {
+    throw new SelfCheckError(
+      `the water balance is off by ${w.balanceError.toExponential(2)} relative, more than ${BALANCE_TOLERANCE}`,
+      `input ${w.input.toPrecision(10)}, ponded ${w.ponded.toPrecision(10)}, outflow ${w.outflow.toPrecision(10)}`,
+      'if the runoff depth is tiny next to the elevations, subtract a base elevation from the DEM; otherwise this is a bug in sill, please report it with the input',
+    );
   }
 }
 

@@ -10,12 +10,13 @@ import { stageVolume } from '../hydro/stage.js';
 import { writeGeoTiff } from '../io/index.js';
 import { pointFeature, type Feature } from '../io/tables.js';
 import type { OutputFolder } from '../io/outdir.js';
-import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput } from './common.js';
+import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, AREA_THRESHOLD, type NumberLimits } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printChunks, writeChunks, listJsonChunks, csvChunks,
   collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
+import { checkCellBudget, featureBudget } from './budget.js';
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, PONDS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildPondsReport as buildPondsHtml } from '../render/html/ponds.js';
 
@@ -53,8 +54,8 @@ export function registerPonds(program: Command): void {
     });
 }
 
-function optionalNumber(name: string, s: string | undefined, min = 0): number | undefined {
-  return s === undefined ? undefined : parseNumber(name, s, { min });
+function optionalNumber(name: string, s: string | undefined, limits: NumberLimits): number | undefined {
+  return s === undefined ? undefined : parseNumber(name, s, limits);
 }
 
 export async function runPondsCommand(input: string, opts: PondsCliOptions): Promise<PondsReport> {
@@ -63,12 +64,12 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   const nodataAs = parseNodataAs(opts);
   const labelLevel = opts.labelLevel ?? 'leaf';
   if (labelLevel !== 'leaf' && labelLevel !== 'top') throw new InputError(`--label-level must be leaf or top, got '${labelLevel}'`);
-  const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', { min: 0 });
+  const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', THRESHOLD);
   const threads = parseThreads(opts.threads);
-  const minDepth = optionalNumber('--min-depth', opts.minDepth);
-  const minArea = optionalNumber('--min-area', opts.minArea);
-  const minVolume = optionalNumber('--min-volume', opts.minVolume);
-  const fillOnlyBelow = opts.fillOnlyBelow === undefined ? undefined : parseNumber('--fill-only-below', opts.fillOnlyBelow, { positive: true });
+  const minDepth = optionalNumber('--min-depth', opts.minDepth, THRESHOLD);
+  const minArea = optionalNumber('--min-area', opts.minArea, AREA_THRESHOLD);
+  const minVolume = optionalNumber('--min-volume', opts.minVolume, AREA_THRESHOLD);
+  const fillOnlyBelow = opts.fillOnlyBelow === undefined ? undefined : parseNumber('--fill-only-below', opts.fillOnlyBelow, { ...AREA_THRESHOLD, positive: true });
   const { zFactor, stageId, stageStep } = parseZAndStage(opts);
   const render = reportRequest('ponds', [input], { ...opts }, flagsOf({ ...opts }, PONDS_FLAGS));
   if (opts.wgs84 && !opts.out) throw new InputError('--wgs84 writes depressions-wgs84.geojson: give an output folder with -o/--out');
@@ -78,7 +79,9 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
 
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
+  checkCellBudget('ponds', surface.size, input);
   const { result, report } = pondsReport(surface, {
+    onFeatures: featureBudget('ponds', surface.size, opts.out ? 'out' : opts.json ? 'json' : 'none', input),
     connectivity, boundary, nodataOutlet: nodataAs === 'outlet',
     minDepth, minArea, minVolume, minPersistence, fillOnlyBelow,
     zUnits: opts.zUnits, zFactor, xyUnits: opts.xyUnits,

@@ -32,6 +32,7 @@ const REPRODUCING: [string, string, string | undefined][] = [
   ['origin', '--origin', undefined],
   ['spacing', '--spacing', undefined],
   ['columns', '--columns', '1,2,3'],
+  ['layout', '--layout', undefined],
 ];
 
 /**

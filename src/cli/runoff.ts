@@ -11,12 +11,13 @@ import { writeGeoTiff, loadSurface } from '../io/index.js';
 import type { Feature } from '../io/tables.js';
 import type { OutputFolder } from '../io/outdir.js';
 import type { Grid } from '../surface/grid.js';
-import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, openOutput } from './common.js';
+import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, openOutput, THRESHOLD } from './common.js';
 import {
-  parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printChunks, writeChunks, listJsonChunks, csvChunks,
+  parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, checkBalance, printChunks, writeChunks, listJsonChunks, csvChunks,
   collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
+import { checkCellBudget, featureBudget } from './budget.js';
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, type FlagSpec, type ReportRequest } from './report-option.js';
 import { buildRunoffHtml } from '../render/html/runoff.js';
 
@@ -67,7 +68,7 @@ async function loadRaster(path: string, option: string): Promise<Grid> {
 export async function runRunoffCommand(input: string, opts: RunoffCliOptions): Promise<RunoffReport> {
   const progress = new Progress(opts.quiet || opts.json);
   const { connectivity, boundary } = parseOpenBoundary('runoff', opts);
-  const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', { min: 0 });
+  const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', THRESHOLD);
   if (minPersistence > 0) {
     throw new InputError('runoff routes the water through every depression, shallow ones included (they store water too); --min-persistence does not apply — filter runoff.csv instead');
   }
@@ -90,9 +91,11 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
 
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
+  checkCellBudget('runoff', surface.size, input);
   const depthRaster = opts.depthRaster !== undefined ? await loadRaster(opts.depthRaster, '--depth-raster') : undefined;
   const initialLevel = opts.initialLevel !== undefined ? await loadRaster(opts.initialLevel, '--initial-level') : undefined;
   const { result, report } = runoffReport(surface, {
+    onFeatures: featureBudget('runoff', surface.size, opts.out ? 'out' : opts.json ? 'json' : 'none', input),
     connectivity, boundary, nodataOutlet: nodataAs === 'outlet',
     depth: depth?.metres, depthText: opts.depth?.trim(),
     depthRaster, depthRasterFactor: DEPTH_UNITS[rasterUnit], depthRasterSource: opts.depthRaster, depthRasterUnit: rasterUnit,
@@ -102,6 +105,7 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
     onStage: (s) => progress.stage(s),
   }, input);
   checkHydroReport(report, stageId, 'runoff.csv');
+  checkBalance(report.water);
   progress.done();
   for (const w of report.warnings) process.stderr.write(`sill: warning: ${w}\n`);
   let written: string[] = [];

@@ -27,6 +27,10 @@ export function depthUnit(u: string): string | null {
 
 const UNIT_LIST = 'mm, cm, m, in or ft';
 
+/** Runoff depths accepted, in metres: above 0, from a nanometre to 10 km. */
+export const MIN_DEPTH = 1e-9;
+export const MAX_DEPTH = 10000;
+
 /**
  * A runoff depth with its unit, in metres: "25mm", "0.1 m", "2in", "1.5 ft". The unit is required
  * (a bare number could be millimetres or metres). Refuses negative and non-finite depths.
@@ -45,7 +49,12 @@ export function parseDepth(text: string, name = '--depth'): { metres: number; va
   const value = Number(m[1]);
   if (!Number.isFinite(value)) throw new InputError(`${name} ${text} is not a finite depth; give a number like 25mm`);
   if (value < 0) throw new InputError(`${name} ${text}: a runoff depth cannot be negative; give a depth ≥ 0 (net runoff after losses)`);
-  return { metres: value * DEPTH_UNITS[unit], value, unit };
+  const metres = value * DEPTH_UNITS[unit];
+  if (metres > MAX_DEPTH) throw new InputError(`${name} ${text} is more than ${MAX_DEPTH} m of runoff (deeper than any terrain is high); check the unit`);
+  if (metres > 0 && metres < MIN_DEPTH) {
+    throw new InputError(`${name} ${text} is below ${MIN_DEPTH} m (a nanometre): water that thin is lost in the float64 resolution of elevations; give 0 for no runoff, or a depth of at least 1e-6mm`);
+  }
+  return { metres, value, unit };
 }
 
 /** A raster brought onto the DEM's grid. */

@@ -14,7 +14,7 @@ import { sweepDepressions, nodeSums, SUM_STRIDE as S, SPILLZ, PITZ, type NodeSum
 import { buildHierarchy, type Hierarchy } from './hierarchy.js';
 import { hydroSetup, openComplex, checkedSweepPits, type PondsEuler } from './common.js';
 import { stepWeights, flowDestinations, routingTree, fillSpillMerge, layerLevels, type RoutingTree, type RoutingResult } from './runoff-route.js';
-import { alignRaster, checkDepthRaster } from './runoff-input.js';
+import { alignRaster, checkDepthRaster, MAX_DEPTH } from './runoff-input.js';
 import type { StageRow } from './stage.js';
 
 export interface RunoffOptions extends UnitOptions, ThreadOptions {
@@ -123,6 +123,33 @@ export interface RunoffResult {
   options: { connectivity: Connectivity; nodataOutlet: boolean };
 }
 
+/**
+ * Smallest water depth, as a fraction of the largest elevation magnitude, whose balance can be
+ * booked to 1e-9: water levels are elevations plus depths, and float64 keeps about 16 digits.
+ * Measured (200 × 200 random DEM at 8800 m, float32 and float64): the relative balance error is
+ * about 8e-19 × elevation / depth (7e-11 at 0.1 mm, 6e-9 at 1 µm); 1e-8 keeps it near 1e-10, a
+ * tenth of the tolerance. Thinner water is refused with a hint to rescale; the balance check after
+ * the run catches the rest.
+ */
+export const DEPTH_RESOLUTION = 1e-8;
+
+/** Refuse runoff depths too thin to be added to the DEM's elevations without losing them. */
+function checkDepthResolution(z: ArrayLike<number>, width: number, zFactor: number, depth: number | null, raster: ArrayLike<number> | null, factor: number, rasterSource: string): void {
+  let zmax = 0;
+  for (let i = 0; i < z.length; i++) { const a = Math.abs(z[i]); if (a > zmax) zmax = a; }
+  const floor = zmax * zFactor * DEPTH_RESOLUTION; // metres
+  const hint = `elevations reach ${zmax.toPrecision(4)} and float64 keeps about 16 digits, so water thinner than ${floor.toPrecision(3)} m cannot be balanced to 1e-9 when added to them; ` +
+    'subtract a base elevation from the DEM (so it starts near 0) or route a larger depth';
+  if (depth !== null && depth > 0 && depth < floor) throw new InputError(`--depth ${depth} m is too thin for this DEM: ${hint}`);
+  if (raster) {
+    for (let i = 0; i < raster.length; i++) {
+      const d = raster[i] * factor;
+      if (d > MAX_DEPTH) throw new InputError(`--depth-raster ${rasterSource}: the DEM cell (col ${i % width}, row ${Math.floor(i / width)}) gets ${d.toPrecision(3)} m of runoff, more than ${MAX_DEPTH} m; check the raster's unit (--depth-units)`);
+      if (d > 0 && d < floor) throw new InputError(`--depth-raster ${rasterSource}: the DEM cell (col ${i % width}, row ${Math.floor(i / width)}) gets ${d.toPrecision(3)} m, too thin for this DEM: ${hint}, or set such cells to 0`);
+    }
+  }
+}
+
 export function runoff(surface: Grid | Mesh, opts: RunoffOptions): RunoffResult {
   const { source, grid, connectivity, nodataOutlet } = hydroSetup('runoff', surface, opts);
   const hasDepth = opts.depth !== undefined, hasRaster = opts.depthRaster !== undefined;
@@ -161,6 +188,8 @@ export function runoff(surface: Grid | Mesh, opts: RunoffOptions): RunoffResult 
     initialValues = al.values;
     initialInfo = { source: src, resampled: al.resampled, wetCells: 0 };
   }
+
+  checkDepthResolution(grid.values, grid.width, areas.zFactor, opts.depth ?? null, depthValues, factor, rasterSource);
 
   const { complex, euler: pendingEuler } = openComplex(grid, connectivity, nodataOutlet, opts.euler !== false, stage, opts);
   stage('ordering the cells');

@@ -133,3 +133,12 @@ export function transferSamples(
     }
   }
 }
+
+/**
+ * Text from a file for a one-line message: control and unprintable characters as '?', at most
+ * `max` characters (then '...'), so a damaged tag or header never breaks the line.
+ */
+export function printable(s: string, max = 40): string {
+  const clean = s.replace(/[\u0000-\u001f\u007f-\u009f\u2028\u2029\ufffd]/g, '?');
+  return clean.length > max ? `${clean.slice(0, max - 3)}...` : clean;
+}

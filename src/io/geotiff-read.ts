@@ -7,8 +7,9 @@
 import GeoTIFF, { type GeoTIFFImage, type ImageFileDirectory } from 'geotiff';
 import type { FileHandle } from 'node:fs/promises';
 import { InputError } from '../errors.js';
+import { useBoundedLzw } from './lzw.js';
 import { Grid, gridValues, type Crs, type GeoTransform, type GridValues } from '../surface/grid.js';
-import { checkGridSize, nodataFor, openForReading, readAt, transferSamples } from './common.js';
+import { checkGridSize, nodataFor, openForReading, printable, readAt, transferSamples } from './common.js';
 
 export interface GeoTiffReadOptions {
   /** 1-based band number; default 1. */
@@ -118,6 +119,33 @@ interface Header {
 
 function notTiff(path: string, detail: string): InputError {
   return new InputError(`${path} is not a TIFF file (${detail}); give a GeoTIFF, a .npy array or a text grid`);
+}
+
+/**
+ * The geotiff package's decoders report some damage with console.warn (LZW: "ran off the end of the
+ * buffer before finding EOI_CODE") and go on. Those lines never reach the terminal: while a band is
+ * read they are collected (and reported as damage); strips still decoding after a failure are dropped.
+ */
+const GEOTIFF_WARNING = /^(ran off the end of the buffer before finding EOI_CODE|more than one frame is not supported)/;
+let decoderWarnings: string[] | null = null;
+let warnFiltered = false;
+function filterDecoderWarnings(): void {
+  if (warnFiltered) return;
+  warnFiltered = true;
+  const warn = console.warn;
+  console.warn = function (this: Console, ...args: unknown[]) {
+    const text = args.map(String).join(' ');
+    if (GEOTIFF_WARNING.test(text)) { decoderWarnings?.push(text); return; }
+    warn.apply(this, args);
+  };
+}
+
+/** A decoder's failure in words: pako throws bare strings, DataView overruns say nothing about the file. */
+function decoderReason(err: unknown, method: string): string {
+  if (err instanceof RangeError) return `the ${method} data ends early or is invalid`;
+  const msg = err instanceof Error ? err.message : typeof err === 'string' ? err : '';
+  const line = (msg ?? '').split('\n')[0].trim();
+  return line ? `the ${method} decoder: ${line}` : `the ${method} data is invalid`;
 }
 
 function truncated(path: string, detail: string): InputError {
@@ -276,7 +304,7 @@ function parseNodataTag(path: string, text: string | null): number | null {
   if (/^-inf(inity)?$/i.test(s)) return -Infinity;
   const v = Number(s);
   if (!Number.isFinite(v)) {
-    throw new InputError(`${path}: the GDAL_NODATA tag '${s}' is not a number; give the nodata value explicitly (--nodata V)`);
+    throw new InputError(`${path}: the GDAL_NODATA tag '${printable(s)}' is not a number; give the nodata value explicitly (--nodata V)`);
   }
   return v;
 }
@@ -298,6 +326,7 @@ interface SampleKind {
 
 function sampleKind(path: string, image: GeoTIFFImage, band: number): SampleKind {
   const fmt = image.getSampleFormat(band - 1);
+  if (!Number.isInteger(fmt)) throw truncated(path, `its SampleFormat tag gives no value for band ${band}`);
   const bits = image.getBitsPerSample(band - 1);
   const fix = 'sill reads 8-, 16- and 32-bit integers and 16-, 32- and 64-bit floats: convert the band to one of these (Float32 or Float64 keeps every value)';
   const label = (f: string) => `${path}: band ${band} holds ${bits}-bit ${f} samples, which sill does not read; ${fix}`;
@@ -332,6 +361,8 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
     throw new InputError(`nodata must be a number, got ${String(opts.nodata)}`);
   }
   const { fh, size } = await openForReading(path);
+  filterDecoderWarnings();
+  useBoundedLzw();
   try {
     const header = await readHeader(path, fh, size);
     const bytes = new FileBytes(fh, size);
@@ -351,6 +382,13 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
     if (!(width > 0 && height > 0)) throw truncated(path, `the image size is ${width}×${height}`);
 
     const bandCount = image.getSamplesPerPixel();
+    if (!(bandCount >= 1)) throw truncated(path, `it declares ${bandCount} samples per pixel, so it holds no band`);
+    for (let s = 0; s < bandCount; s++) {
+      const bits = image.getBitsPerSample(s);
+      if (!(Number.isInteger(bits) && bits > 0)) {
+        throw truncated(path, `it declares ${bandCount} samples per pixel but gives no usable BitsPerSample for sample ${s + 1}`);
+      }
+    }
     if (band > bandCount) {
       throw new InputError(`${path} has ${bandCount} band${bandCount === 1 ? '' : 's'}; band ${band} does not exist — choose a band from 1 to ${bandCount}`);
     }
@@ -412,12 +450,17 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
     for (let y0 = 0; y0 < height; y0 += rowsPerRead) {
       const y1 = Math.min(height, y0 + rowsPerRead);
       let samples: ArrayLike<number>;
+      const warned: string[] = [];
+      decoderWarnings = warned;
       try {
         const r = await image.readRasters({ window: [0, y0, width, y1], samples: [band - 1], interleave: false });
         samples = r[0];
       } catch (err) {
-        throw truncated(path, `rows ${y0}–${y1 - 1} cannot be decoded (${(err as Error).message})`);
+        throw truncated(path, `rows ${y0}–${y1 - 1} cannot be decoded (${decoderReason(err, comp[0])})`);
+      } finally {
+        decoderWarnings = null;
       }
+      if (warned.length > 0) throw truncated(path, `rows ${y0}–${y1 - 1} cannot be decoded (the ${comp[0]} decoder: ${warned[0].trim()})`);
       if (samples.length !== (y1 - y0) * width) {
         throw truncated(path, `rows ${y0}–${y1 - 1} decode to ${samples.length} values instead of ${(y1 - y0) * width}`);
       }

@@ -10,8 +10,9 @@ import type { Mesh } from '../surface/mesh.js';
 import { openForReading, readAt } from './common.js';
 import { readGeoTiff } from './geotiff-read.js';
 import { readNpy } from './npy.js';
-import { readTextSurface } from './text.js';
+import { readTextSurface, type TextLayout } from './text.js';
 import { checkGridUsable } from './validate.js';
+import { checkValueRange, checkTransformRange } from './range.js';
 
 export interface LoadOptions {
   /** GeoTIFF: 1-based band; default 1. */
@@ -24,6 +25,8 @@ export interface LoadOptions {
   spacing?: [number, number];
   /** Column text: 1-based column numbers of x, y and value. */
   columns?: [number, number, number];
+  /** Text: read the lines as a matrix of values or as x y value columns (when the file alone leaves it open). */
+  layout?: TextLayout;
 }
 
 export type SurfaceFormat = 'geotiff' | 'npy' | 'text';
@@ -57,9 +60,12 @@ export async function detectFormat(path: string): Promise<SurfaceFormat> {
 /** Load a surface file as a Grid or (scattered text samples) a Mesh. */
 export async function loadSurface(path: string, opts: LoadOptions = {}): Promise<Grid | Mesh> {
   const format = await detectFormat(path);
-  const { band, nodata, origin, spacing, columns } = opts;
+  const { band, nodata, origin, spacing, columns, layout } = opts;
   if (format === 'geotiff' && (origin !== undefined || spacing !== undefined)) {
     throw new InputError(`${path} is a GeoTIFF and carries its own georeferencing; origin and spacing apply only to matrix text and .npy inputs`);
+  }
+  if (format !== 'text' && layout !== undefined) {
+    throw new InputError(`layout applies only to text input, and ${path} is a ${format === 'npy' ? '.npy array' : 'GeoTIFF'}; leave --layout out`);
   }
   if (format !== 'text' && columns !== undefined) {
     throw new InputError(`columns apply only to x y value text input, and ${path} is a ${format === 'npy' ? '.npy array' : 'GeoTIFF'}`);
@@ -70,7 +76,11 @@ export async function loadSurface(path: string, opts: LoadOptions = {}): Promise
   let surface: Grid | Mesh;
   if (format === 'geotiff') surface = await readGeoTiff(path, { band, nodata });
   else if (format === 'npy') surface = await readNpy(path, { origin, spacing, nodata });
-  else surface = await readTextSurface(path, { origin, spacing, nodata, columns });
-  if (surface.kind === 'grid') checkGridUsable(surface, path);
+  else surface = await readTextSurface(path, { origin, spacing, nodata, columns, layout });
+  if (surface.kind === 'grid') {
+    checkGridUsable(surface, path);
+    checkTransformRange(surface, path);
+    checkValueRange(surface.values, surface.width, path);
+  }
   return surface;
 }

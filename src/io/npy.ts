@@ -5,7 +5,7 @@
  */
 import { InputError } from '../errors.js';
 import { Grid, gridValues, type GeoTransform, type GridValues } from '../surface/grid.js';
-import { checkGridSize, infinityError, nodataFor, openForReading, readAt } from './common.js';
+import { checkGridSize, infinityError, nodataFor, openForReading, printable, readAt } from './common.js';
 
 export interface NpyReadOptions {
   /** Map coordinates of the centre of element [0, 0]; default [0, 0]. */
@@ -29,7 +29,7 @@ const SUPPORTED = "'<f4', '<f8', '<i2', '<i4', '|u1', '<u2' (also '|i1', '<u4' a
 function parseDescr(path: string, descr: string): Dtype {
   const m = /^([<>|=])([fiu])(\d+)$/.exec(descr);
   const unsupported = () =>
-    new InputError(`${path}: the array has dtype '${descr}', which sill does not read; save it as one of ${SUPPORTED}, e.g. with array.astype('<f8')`);
+    new InputError(`${path}: the array has dtype '${printable(descr)}', which sill does not read; save it as one of ${SUPPORTED}, e.g. with array.astype('<f8')`);
   if (!m) throw unsupported();
   const kind = m[2] as Kind;
   const size = Number(m[3]);

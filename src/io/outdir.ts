@@ -100,8 +100,25 @@ const isFsError = (e: unknown): boolean => typeof (e as NodeJS.ErrnoException)?.
 const HOST = hostname().replace(/[^A-Za-z0-9.]/g, '_') || 'host';
 const STAGING_RE = /^\.sill-staging-(?:(.*)-)?(\d+)-([0-9a-z]+)$/;
 
+/** The id a run is known by: the supervising `sill` process's (SILL_RUN_PID, src/cli/main.ts), or this process's. */
+function runPid(): number {
+  const p = Number(process.env.SILL_RUN_PID);
+  return Number.isSafeInteger(p) && p > 0 ? p : process.pid;
+}
+
+/**
+ * Under the supervisor, the run must not outlive it: before a staging folder is made and at each
+ * step of a commit, a run whose supervisor is gone (killed outright) kills itself as it was killed.
+ * (A watchdog thread does the same between these points, src/cli/cli.ts.)
+ */
+function assertSupervised(): void {
+  const p = Number(process.env.SILL_RUN_PID);
+  if (process.env.SILL_SUPERVISED === '1' && Number.isSafeInteger(p) && p > 0 && process.ppid !== p) process.kill(process.pid, 'SIGKILL');
+}
+
 function stagingName(): string {
-  return `${STAGING_PREFIX}${HOST}-${process.pid}-${Date.now().toString(36)}${randomBytes(3).toString('hex')}`;
+  assertSupervised();
+  return `${STAGING_PREFIX}${HOST}-${runPid()}-${Date.now().toString(36)}${randomBytes(3).toString('hex')}`;
 }
 
 /** A staging folder of a run that is no longer alive on this host (or of an older sill without a host part). */
@@ -110,7 +127,7 @@ function isStale(name: string): boolean {
   if (!m) return false;
   if (m[1] !== undefined && m[1] !== HOST) return false;
   const pid = Number(m[2]);
-  if (pid === process.pid) return false;
+  if (pid === process.pid || pid === runPid()) return false;
   try {
     process.kill(pid, 0);
     return false;
@@ -279,6 +296,7 @@ type Mode = 'create' | 'exchange' | 'journal';
 
 /** Fault injection for the crash tests (tests/cli/crash.test.ts): SILL_CRASH_AT=<step> kills this process with SIGKILL at that step of a commit. */
 function step(name: string): void {
+  assertSupervised();
   if (process.env.SILL_CRASH_AT === name) process.kill(process.pid, 'SIGKILL');
 }
 
@@ -483,6 +501,7 @@ export class OutputFolder {
 
   /** Let a SIGINT/SIGTERM that came in act now (writers call this between files; their steps are synchronous). */
   async checkpoint(): Promise<void> {
+    assertSupervised();
     await new Promise((r) => setImmediate(r));
     await new Promise((r) => setImmediate(r));
   }

@@ -5,11 +5,23 @@
  * Fields are separated by whitespace and/or commas; blank lines and lines starting with `#`
  * are ignored; a first data line with non-numeric fields is taken as a header and skipped.
  * `nan` marks a missing value; `inf` / `-inf` are refused unless they are the nodata value.
+ * Decimal commas (`1,479` between tabs or spaces) are refused rather than read as two fields.
+ *
+ * Matrix or columns: read as a matrix when `layout` says so, or `origin`/`spacing` is given, or
+ * the rows do not have 3 fields; as columns when `layout` or `columns` says so, or the 3-field
+ * rows have a header line or fill a regular lattice. Rows of 3 numbers that do neither (they could
+ * be a 3-wide matrix or scattered samples) are refused with `layout` as the fix, and so are
+ * `origin`/`spacing` on rows that read as x y value columns.
  */
 import { InputError } from '../errors.js';
 import { Grid, MAX_CELLS, gridValues, type GeoTransform } from '../surface/grid.js';
 import { Mesh } from '../surface/mesh.js';
-import { openForReading } from './common.js';
+import { openForReading, printable } from './common.js';
+import { checkCoordinateRange, VALUE_LIMIT } from './range.js';
+
+/** How the lines of a text surface are read. */
+export type TextLayout = 'matrix' | 'columns';
+export const TEXT_LAYOUTS: readonly TextLayout[] = ['matrix', 'columns'];
 
 export interface TextSurfaceOptions {
   /** Name used in messages (the file path). */
@@ -22,6 +34,8 @@ export interface TextSurfaceOptions {
   spacing?: [number, number];
   /** Values equal to this are nodata. */
   nodata?: number;
+  /** Read the lines as a matrix of values or as x y value columns; default: decided from the file when unambiguous. */
+  layout?: TextLayout;
 }
 
 /**
@@ -38,6 +52,8 @@ export const LATTICE_MAX_FILL = 4;
 const NUMBER = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$/;
 const SPECIAL = /^([+-]?)(nan|inf|infinity)$/i;
 const SEPARATOR = /\s*,\s*|\s+/;
+/** A field with a decimal comma between whitespace separators: `1,479`, `-0,5e3`. */
+const DECIMAL_COMMA = /(?:^|\s)([+-]?\d+,\d+(?:[eE][+-]?\d+)?)(?=\s|$)/;
 
 /** Parse one field; undefined when it is not a number. */
 function parseField(s: string): number | undefined {
@@ -49,6 +65,8 @@ function parseField(s: string): number | undefined {
 }
 
 interface Table {
+  /** A header line (non-numeric first data line, or a comment of three names just before the data) was seen. */
+  header: boolean;
   /** Row-major fields, `rows × fields`. */
   data: Float64Array;
   /** 1-based line number of each row. */
@@ -58,7 +76,7 @@ interface Table {
 }
 
 function quote(s: string): string {
-  return s.length > 40 ? `'${s.slice(0, 37)}...'` : `'${s}'`;
+  return `'${printable(s)}'`;
 }
 
 function readTable(text: string, src: string): Table {
@@ -70,6 +88,7 @@ function readTable(text: string, src: string): Table {
   let fields = -1;
   let firstDataLine = 0;
   let headerSeen = false;
+  let commentNames = false;
   let lineNo = 0;
   let pos = text.charCodeAt(0) === 0xfeff ? 1 : 0; // byte-order mark
   while (pos <= text.length) {
@@ -78,7 +97,23 @@ function readTable(text: string, src: string): Table {
     lineNo++;
     const line = text.slice(pos, end).trim();
     pos = end + 1;
-    if (line === '' || line.charCodeAt(0) === 35 /* # */) continue;
+    if (line === '' || line.charCodeAt(0) === 35 /* # */) {
+      // a comment naming three columns before the data ("# x y z") is a header too
+      if (rows === 0 && line !== '') {
+        const names = line.slice(1).trim().split(SEPARATOR);
+        commentNames = names.length === 3 && names.every((w) => w !== '' && parseField(w) === undefined);
+      }
+      continue;
+    }
+    if (line.indexOf(',') >= 0) {
+      const dc = /\s/.test(line) ? DECIMAL_COMMA.exec(line) : null;
+      if (dc) {
+        throw new InputError(
+          `${src} line ${lineNo}: '${dc[1]}' is a number with a decimal comma; sill reads decimal points only (a comma separates fields) — ` +
+            'convert the file to decimal points (e.g. export it with a point as the decimal separator)',
+        );
+      }
+    }
     const parts = line.split(SEPARATOR);
     if (fields < 0 && !headerSeen && rows === 0) {
       // A first data line with a non-numeric field is a header.
@@ -105,8 +140,9 @@ function readTable(text: string, src: string): Table {
       const v = parseField(parts[k]);
       if (v === undefined) {
         const f = parts[k];
+        const semicolon = f.includes(';') ? ' (semicolons do not separate fields: use spaces, tabs or commas, and decimal points)' : '';
         throw new InputError(
-          `${src} line ${lineNo}, column ${k + 1}: ${f === '' ? 'empty field' : `${quote(f)} is not a number`}; ` +
+          `${src} line ${lineNo}, column ${k + 1}: ${f === '' ? 'empty field' : `${quote(f)} is not a number`}${semicolon}; ` +
             'every field after the header must be a number (write nan for a missing value)',
         );
       }
@@ -122,7 +158,7 @@ function readTable(text: string, src: string): Table {
   if (rows === 0) {
     throw new InputError(`${src}: no rows of numbers found (only blank lines, comments or a header); give x y value columns or a matrix of values`);
   }
-  return { data, lines, rows, fields };
+  return { header: headerSeen || commentNames, data, lines, rows, fields };
 }
 
 function textInfinity(src: string, line: number, col: number, v: number): InputError {
@@ -213,7 +249,16 @@ function latticeAxis(v: Float64Array, maxCount: number): Axis | null {
   return { lo, step, count: k + 1 };
 }
 
-function columnsSurface(t: Table, src: string, opts: TextSurfaceOptions): Grid | Mesh {
+interface ColumnsReading {
+  x: Float64Array;
+  y: Float64Array;
+  v: Float64Array;
+  /** The lattice the points fill, or null (scattered). */
+  lattice: { ax: Axis; ay: Axis } | null;
+}
+
+/** The rows as x y value columns: coordinates and values checked, and the lattice they fill if any. */
+function readColumns(t: Table, src: string, opts: TextSurfaceOptions): ColumnsReading {
   const cols = opts.columns ?? [1, 2, 3];
   if (!Array.isArray(cols) || cols.length !== 3 || !cols.every((c) => Number.isInteger(c) && c >= 1) || new Set(cols).size !== 3) {
     throw new InputError(`columns must be three different column numbers from 1 up (x, y, value), got ${JSON.stringify(cols)}`);
@@ -237,12 +282,27 @@ function columnsSurface(t: Table, src: string, opts: TextSurfaceOptions): Grid |
       throw new InputError(`${src} line ${t.lines[i]}, column ${(which[1] as number) + 1}: the ${which[0]} coordinate is ${!Number.isFinite(x[i]) ? x[i] : y[i]}; coordinates must be finite numbers`);
     }
     v[i] = cleanValue(t.data[b + cv], nodata, src, t.lines[i], cv + 1);
+    if (Math.abs(v[i]) > VALUE_LIMIT) {
+      throw new InputError(
+        `${src} line ${t.lines[i]}, column ${cv + 1}: the value ${v[i].toExponential(3)} is out of range (sill works with magnitudes up to 1e150, so squares and products fit in float64); ` +
+          'rescale the values (e.g. subtract a base level or change the unit)',
+      );
+    }
   }
+  checkCoordinateRange(x, y, src, (i) => `line ${t.lines[i]}`);
 
   const maxNodes = LATTICE_MAX_FILL * n;
   const ax = latticeAxis(x, maxNodes);
   const ay = ax ? latticeAxis(y, maxNodes) : null;
-  if (ax && ay && ax.count * ay.count <= maxNodes) {
+  return { x, y, v, lattice: ax && ay && ax.count * ay.count <= maxNodes ? { ax, ay } : null };
+}
+
+function columnsSurface(t: Table, src: string, opts: TextSurfaceOptions, reading: ColumnsReading, decided: boolean): Grid | Mesh {
+  const { x, y, v, lattice } = reading;
+  const n = t.rows;
+  const nodata = opts.nodata;
+  if (lattice) {
+    const { ax, ay } = lattice;
     const dx = Number.isNaN(ax.step) ? (Number.isNaN(ay.step) ? 1 : ay.step) : ax.step;
     const dy = Number.isNaN(ay.step) ? dx : ay.step;
     const width = ax.count;
@@ -255,7 +315,8 @@ function columnsSurface(t: Table, src: string, opts: TextSurfaceOptions): Grid |
       const k = r * width + c;
       if (owner[k] !== 0) {
         throw new InputError(
-          `${src} lines ${owner[k]} and ${t.lines[i]} both give the lattice point (${x[i]}, ${y[i]}); remove one of them or average them`,
+          `${src} lines ${owner[k]} and ${t.lines[i]} both give the lattice point (${x[i]}, ${y[i]}); remove one of them or average them` +
+            (decided ? '' : ' (or, if the lines are rows of a matrix of values, give --layout matrix)'),
         );
       }
       owner[k] = t.lines[i];
@@ -308,13 +369,50 @@ export function parseTextSurface(text: string, opts: TextSurfaceOptions = {}): G
   if (opts.nodata !== undefined && typeof opts.nodata !== 'number') {
     throw new InputError(`nodata must be a number, got ${String(opts.nodata)}`);
   }
+  const layout = opts.layout;
+  if (layout !== undefined && !TEXT_LAYOUTS.includes(layout)) throw new InputError(`layout must be matrix or columns, got '${String(layout)}'`);
   const matrixAsked = opts.origin !== undefined || opts.spacing !== undefined;
   if (matrixAsked && opts.columns !== undefined) {
     throw new InputError('columns applies to x y value input and origin/spacing to a matrix of values; give one or the other');
   }
+  if (layout === 'matrix' && opts.columns !== undefined) throw new InputError('columns names the x y value columns, but layout is matrix; give one or the other');
+  if (layout === 'columns' && matrixAsked) throw new InputError('origin and spacing place a matrix of values, but layout is columns (x y value rows carry their own coordinates); leave origin and spacing out');
   const table = readTable(text, src);
-  if (matrixAsked || (opts.columns === undefined && table.fields !== 3)) return matrixGrid(table, src, opts);
-  return columnsSurface(table, src, opts);
+  if (layout === 'matrix') return matrixGrid(table, src, opts);
+  if (layout === 'columns' || opts.columns !== undefined) return columnsSurface(table, src, opts, readColumns(table, src, opts), true);
+  if (table.fields !== 3) {
+    // x y value needs exactly 3 fields (or --columns): any other constant count is a matrix
+    return matrixGrid(table, src, opts);
+  }
+  if (matrixAsked) {
+    if (table.header || looksLikeColumns(table, src, opts)) {
+      throw new InputError(
+        `${src} reads as x y value columns (${table.header ? 'it has a header line' : 'its rows fill a regular lattice'}), and origin/spacing place a matrix of values; ` +
+          'leave --origin/--spacing out (the columns carry their own coordinates), or give --layout matrix if each line really is a row of 3 values',
+      );
+    }
+    return matrixGrid(table, src, opts);
+  }
+  const reading = readColumns(table, src, opts);
+  if (reading.lattice || table.header) return columnsSurface(table, src, opts, reading, table.header);
+  throw new InputError(
+    `${src}: ${table.rows} rows of 3 numbers without a header could be a 3 × ${table.rows} matrix of values or ${table.rows} scattered x y value samples; ` +
+      'say which with --layout matrix (add --origin/--spacing to place it) or --layout columns (or add a header line such as: x y value)',
+  );
+}
+
+/** 3-field rows that read as x y value columns: at least 4 of them, filling at least half of a lattice at least 2 × 2. */
+function looksLikeColumns(t: Table, src: string, opts: TextSurfaceOptions): boolean {
+  if (t.rows < 4) return false;
+  let r: ColumnsReading;
+  try {
+    r = readColumns(t, src, opts);
+  } catch {
+    return false; // not usable as columns (non-finite coordinates, out of range): a matrix is what is left
+  }
+  if (!r.lattice) return false;
+  const { ax, ay } = r.lattice;
+  return ax.count >= 2 && ay.count >= 2 && ax.count * ay.count <= 2 * t.rows;
 }
 
 /** Read a text surface from a file; see parseTextSurface. */

@@ -63,3 +63,8 @@ export function eulerInfo(r: SurveyResult): EulerInfo {
 export function num(x: number): number | null {
   return Number.isFinite(x) ? x : null;
 }
+
+/** Called with the number of features (critical points, depressions) once the analysis has counted them, before their records are built: the command line checks its memory budget there. */
+export interface FeatureHook {
+  onFeatures?: (features: number) => void;
+}

@@ -3,7 +3,7 @@ import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
 import { ponds, type PondsOptions, type PondsResult } from '../hydro/ponds.js';
 import type { RemovedSummary } from '../hydro/hierarchy.js';
-import { num, type SurfaceInfo, type EulerInfo } from './common.js';
+import { num, type SurfaceInfo, type EulerInfo, type FeatureHook } from './common.js';
 import { depressionCore, reportHead, reportUnits, cellAreaRange, type DepressionCore } from './hydro-common.js';
 
 export { cleanValue, cleanDifference, type CellRef, type PourRecord } from './hydro-common.js';
@@ -55,12 +55,13 @@ export interface PondsRun {
   report: PondsReport;
 }
 
-export interface PondsReportOptions extends PondsOptions {
+export interface PondsReportOptions extends PondsOptions, FeatureHook {
   labelLevel?: 'leaf' | 'top';
 }
 
 export function pondsReport(surface: Grid | Mesh, opts: PondsReportOptions = {}, input: string | null = null): PondsRun {
   const result = ponds(surface, { ...opts, source: opts.source ?? input ?? 'input' });
+  opts.onFeatures?.(result.hierarchy.count);
   return { result, report: buildPondsReport(result, input, opts.labelLevel ?? 'leaf') };
 }
 

@@ -2,7 +2,7 @@
 import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
 import { runoff, type RunoffOptions, type RunoffResult, type RunoffWater } from '../hydro/runoff.js';
-import { num, type SurfaceInfo, type EulerInfo } from './common.js';
+import { num, type SurfaceInfo, type EulerInfo, type FeatureHook } from './common.js';
 import { depressionCore, reportHead, reportUnits, cellAreaRange, type DepressionCore } from './hydro-common.js';
 
 export const RUNOFF_CAUTION =
@@ -94,7 +94,7 @@ export interface RunoffRun {
   report: RunoffReport;
 }
 
-export interface RunoffReportOptions extends RunoffOptions {
+export interface RunoffReportOptions extends RunoffOptions, FeatureHook {
   /** The depth as the user wrote it (e.g. '40mm'), for the report. */
   depthText?: string;
   /** Unit of the depth raster's values, as named (e.g. 'mm'). */
@@ -103,6 +103,7 @@ export interface RunoffReportOptions extends RunoffOptions {
 
 export function runoffReport(surface: Grid | Mesh, opts: RunoffReportOptions, input: string | null = null): RunoffRun {
   const result = runoff(surface, { ...opts, source: opts.source ?? input ?? 'input' });
+  opts.onFeatures?.(result.hierarchy.count);
   return { result, report: buildRunoffReport(result, input, opts) };
 }
 

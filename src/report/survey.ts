@@ -5,7 +5,7 @@ import { survey, countListedPairs, pairsByPersistence, mostPersistentPairs, type
 import { KIND_NAMES, PIT, PASS, PEAK, type CriticalKind } from '../morse/critical.js';
 import { Rows } from '../io/stream.js';
 import type { MergeTree } from '../morse/mergetree.js';
-import { surfaceInfo, locate, eulerInfo, num, SILL_VERSION, type SurfaceInfo, type EulerInfo, type Location } from './common.js';
+import { surfaceInfo, locate, eulerInfo, num, SILL_VERSION, type SurfaceInfo, type EulerInfo, type Location, type FeatureHook } from './common.js';
 
 export interface CriticalPointRecord extends Location {
   kind: CriticalKind;
@@ -108,8 +108,9 @@ export interface SurveyRun {
   report: SurveyReport;
 }
 
-export function surveyReport(surface: Grid | Mesh, opts: SurveyOptions = {}, input: string | null = null): SurveyRun {
+export function surveyReport(surface: Grid | Mesh, opts: SurveyOptions & FeatureHook = {}, input: string | null = null): SurveyRun {
   const result = survey(surface, opts);
+  opts.onFeatures?.(result.kept.vertex.length);
   const cx = result.complex;
   const kept = result.kept;
   const byKind = [0, 0, 0, 0];

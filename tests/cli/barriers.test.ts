@@ -31,7 +31,7 @@ beforeAll(() => {
   const pts = ['x y energy'];
   for (let i = 0; i < m.size; i++) pts.push(`${m.x[i]} ${m.y[i]} ${m.values[i]}`);
   writeFileSync(join(dir, 'mb-scattered.txt'), pts.join('\n') + '\n');
-  writeFileSync(join(dir, 'line.txt'), '0 0 1\n1 1 2\n2 2 3\n3 3 1\n4 4.000001 2\n'.replace('4.000001', '4'));
+  writeFileSync(join(dir, 'line.txt'), 'x y energy\n0 0 1\n1 1 2\n2 2 3\n3 3 1\n4 4.000001 2\n'.replace('4.000001', '4'));
 });
 
 describe('sill barriers (command line)', () => {

@@ -227,7 +227,7 @@ print(int((ref[valid] != f[valid]).sum()))
       ['xy units contradict the CRS', () => ['ponds', dem, '--xy-units', 'deg'], /contradicts the CRS/],
       ['--wgs84 without a CRS', () => ['ponds', join(dir, 'matrix.txt'), '--origin', '0,0', '--spacing', '1,1', '--wgs84'], /--wgs84/],
       ['--stage-volume of no depression', () => ['ponds', dem, '--stage-volume', '99999'], /--stage-volume/],
-      ['scattered samples', () => { writeFileSync(join(dir, 'pts.txt'), '0 0 1\n1 0.3 2\n0.2 1 3\n1.4 1.1 0\n0.7 0.5 4\n'); return ['ponds', join(dir, 'pts.txt')]; }, /regular grid/],
+      ['scattered samples', () => { writeFileSync(join(dir, 'pts.txt'), 'x y z\n0 0 1\n1 0.3 2\n0.2 1 3\n1.4 1.1 0\n0.7 0.5 4\n'); return ['ponds', join(dir, 'pts.txt')]; }, /regular grid/],
     ];
     itRejects(cases, () => dir);
   });

@@ -103,7 +103,7 @@ describe('scattered x y value samples', () => {
   ];
 
   it('become a Mesh with every sample', () => {
-    const m = parseTextSurface(scattered.map((p) => p.join(' ')).join('\n'));
+    const m = parseTextSurface(scattered.map((p) => p.join(' ')).join('\n'), { layout: 'columns' });
     expect(m).toBeInstanceOf(Mesh);
     const mesh = m as Mesh;
     expect(Array.from(mesh.x)).toEqual(scattered.map((p) => p[0]));
@@ -114,7 +114,7 @@ describe('scattered x y value samples', () => {
     const rows = scattered.map((p) => p.join(','));
     rows[2] = '1.7,2.33,nan';
     rows[5] = '2.2,1.1,-1';
-    const mesh = parseTextSurface(rows.join('\n'), { nodata: -1 }) as Mesh;
+    const mesh = parseTextSurface(rows.join('\n'), { nodata: -1, layout: 'columns' }) as Mesh;
     expect(mesh).toBeInstanceOf(Mesh);
     expect(mesh.size).toBe(6);
     expect(Array.from(mesh.y)).not.toContain(2.33);
@@ -123,17 +123,17 @@ describe('scattered x y value samples', () => {
   it('a sparse lattice (more than 4 nodes per sample) is treated as scattered', () => {
     // on the integer lattice, but spread over 11 × 11 = 121 nodes for 5 samples
     const text = ['0 0 1', '10 0 2', '0 10 3', '10 10 4', '3 7 5'].join('\n');
-    expect(parseTextSurface(text)).toBeInstanceOf(Mesh);
+    expect(parseTextSurface(text, { layout: 'columns' })).toBeInstanceOf(Mesh);
   });
 
   it('refuse repeated locations, naming both lines', () => {
     const rows = scattered.map((p) => p.join(' '));
     rows.push('3.3 1.9 8');
-    expect(() => parseTextSurface(rows.join('\n'), { source: 's.txt' })).toThrow(/s\.txt lines 7 and 9 both give a sample at \(3\.3, 1\.9\)/);
+    expect(() => parseTextSurface(rows.join('\n'), { source: 's.txt', layout: 'columns' })).toThrow(/s\.txt lines 7 and 9 both give a sample at \(3\.3, 1\.9\)/);
   });
 
   it('refuse collinear samples with the source named', () => {
-    expect(() => parseTextSurface('0 0 1\n1 1 2\n2 2 3\n3 3 4\n7 7 1', { source: 'line.txt' })).toThrow(/line\.txt: .*one line/);
+    expect(() => parseTextSurface('0 0 1\n1 1 2\n2 2 3\n3 3 4\n7 7 1', { source: 'line.txt', layout: 'columns' })).toThrow(/line\.txt: .*one line/);
   });
 });
 

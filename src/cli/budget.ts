@@ -1,0 +1,100 @@
+/**
+ * Memory a run will need, estimated before the heavy work and refused (exit 2) when it is more than
+ * the machine has. Two checks: on the cells, as soon as the input is loaded; on the features
+ * (critical points, depressions), as soon as the analysis has counted them and before their
+ * records and output files are built — the part that grows fastest on rough surfaces.
+ *
+ * The figures are peak resident memory measured with `/usr/bin/time -f %M` on the command line
+ * (SILL_NO_SUPERVISOR=1, Node 20, float32 white-noise grids of 1000² and 1500² cells, which are
+ * the worst case for features per cell; the per-feature cost is the difference between the two
+ * sizes divided by the difference in features), and docs/performance.md for the per-cell cost of
+ * the analyses on smooth terrain. See docs/performance.md, "Memory budget".
+ */
+import { totalmem } from 'node:os';
+import { getHeapStatistics } from 'node:v8';
+import { InputError } from '../errors.js';
+
+export type BudgetCommand = 'survey' | 'ponds' | 'runoff' | 'barriers';
+
+/** Node itself, the modules and the small records: resident before any grid-sized work (measured: 55–65 MB). */
+const BASE_BYTES = 80 * 2 ** 20;
+
+/**
+ * Bytes per cell of the analysis (input values included). survey 26.7 and ponds 33.5 (with the
+ * Euler self-check) from docs/performance.md; runoff 39.8 from the same page (library, 4000²);
+ * barriers 28, measured on a 2000² smooth grid (173 MB peak).
+ */
+export const BYTES_PER_CELL: Record<BudgetCommand, number> = { survey: 27, ponds: 34, runoff: 40, barriers: 28 };
+
+/**
+ * Bytes per feature with each kind of output (measured on noise, see above):
+ * survey per critical point (its pairs included) 1.24 KB with --json, 1.75 KB with -o;
+ * ponds per depression 1.84 KB with --json, 5.7 KB with -o (outlines and all files);
+ * runoff per depression (its ponds included) 3.1 KB with --json; with -o taken as ponds' -o
+ * figure plus the ponds (8 KB, estimated, not measured). A run with neither builds the same
+ * records as --json, so it takes the --json figure.
+ */
+const BYTES_PER_FEATURE: Record<Exclude<BudgetCommand, 'barriers'>, { json: number; out: number }> = {
+  survey: { json: 1270, out: 1800 },
+  ponds: { json: 1900, out: 5900 },
+  runoff: { json: 3200, out: 8000 },
+};
+
+const FEATURE_NAMES: Record<Exclude<BudgetCommand, 'barriers'>, string> = {
+  survey: 'critical points', ponds: 'depressions', runoff: 'depressions',
+};
+
+const HOW: Record<BudgetCommand, string> = {
+  survey: 'keep fewer features with --min-persistence, or cut the surface into tiles',
+  ponds: 'keep fewer depressions with --min-depth, --min-area or --min-persistence, or cut the DEM into tiles',
+  runoff: 'cut the DEM into tiles, or resample it to a coarser cell size',
+  barriers: 'resample the surface to a coarser step or cut it into windows',
+};
+
+function gib(bytes: number): string {
+  return bytes >= 2 ** 30 ? `${(bytes / 2 ** 30).toFixed(1)} GiB` : `${Math.ceil(bytes / 2 ** 20)} MiB`;
+}
+
+/** 1 234 567: digits in groups of three, as docs/performance.md writes them. */
+function count(n: number): string {
+  return String(Math.round(n)).replace(/\B(?=(\d{3})+(?!\d))/g, ' ');
+}
+
+/** What the run has: the machine's memory (SILL_MEMORY_BYTES overrides it, for tests). */
+export function machineBytes(): number {
+  const asked = Number(process.env.SILL_MEMORY_BYTES);
+  return Number.isFinite(asked) && asked > 0 ? asked : totalmem();
+}
+
+/** Before the work: refuse when the cells alone need more than the machine has. */
+export function checkCellBudget(command: BudgetCommand, cells: number, source: string): void {
+  const need = BASE_BYTES + cells * BYTES_PER_CELL[command];
+  const have = machineBytes();
+  if (need > have) {
+    throw new InputError(
+      `${source}: ${command} on ${count(cells)} cells needs about ${gib(need)} of memory (${BYTES_PER_CELL[command]} bytes a cell) ` +
+        `but this machine has ${gib(have)}; cut the ${command === 'barriers' || command === 'survey' ? 'surface' : 'DEM'} into tiles or resample it to a coarser cell size`,
+    );
+  }
+}
+
+/**
+ * After the analysis has counted the features: refuse when building their records and outputs
+ * would need more memory than the machine has, or more JavaScript heap than the process may use.
+ * `output` is what the run writes: files (-o), JSON on stdout, or only the summary.
+ */
+export function featureBudget(command: Exclude<BudgetCommand, 'barriers'>, cells: number, output: 'out' | 'json' | 'none', source: string): (features: number) => void {
+  return (features: number) => {
+    const perFeature = BYTES_PER_FEATURE[command][output === 'out' ? 'out' : 'json'];
+    const featureBytes = features * perFeature;
+    const need = BASE_BYTES + cells * BYTES_PER_CELL[command] + featureBytes;
+    const have = machineBytes();
+    const heap = getHeapStatistics().heap_size_limit;
+    if (need <= have && featureBytes <= heap) return;
+    const limit = need > have ? `this machine has ${gib(have)}` : `the JavaScript heap may grow to ${gib(heap)}`;
+    throw new InputError(
+      `${source}: ${count(features)} ${FEATURE_NAMES[command]} on ${count(cells)} cells need about ${gib(need)} of memory ` +
+        `for their records and ${output === 'out' ? 'files' : output === 'json' ? 'JSON' : 'summary'} (about ${(perFeature / 1000).toFixed(1)} kB each) but ${limit}; ${HOW[command]}`,
+    );
+  };
+}
