@@ -1,101 +1,163 @@
 /**
  * Total order of the valid vertices by (value, index) — simulation of simplicity.
- * A stable LSD radix sort on the IEEE-754 bit pattern, O(n) for typed input.
+ * A stable radix sort on the IEEE-754 bit pattern, O(n) for typed input.
  * NaN (nodata) vertices are left out of the order.
  *
- * Memory: each pass keeps only the key bits later passes still need (a full key, then the
- * top bits in 16-bit words), and the last pass writes into a buffer that is free by then,
- * so a float32 sort peaks at 14 bytes per vertex and a float64 sort at 18, output included.
+ * float32: one most-significant-digit pass on the top 12 key bits scatters (key, index) pairs
+ * into buckets; each bucket is then finished on its own while it sits in cache — two
+ * least-significant-digit passes of 10 bits for a bucket that fits in the core's cache, or, for
+ * a larger one, a pass on bits 10–19 into sub-buckets that are counted on bits 0–9 one by one;
+ * a bucket of a few keys is finished by insertion sort. Real surfaces fill only a few hundred of
+ * the 4096 top buckets, so the scattering pass writes to few places at once (the cost of a plain
+ * three-pass LSD sort on a large grid is its 2048-way scatter, which misses the TLB on nearly
+ * every write). Every step is stable, so equal values keep ascending indices.
+ * Memory: the pairs (8 bytes per vertex), the output (4) and 16-bit scratch for the largest
+ * bucket (at most 2), so a float32 sort peaks at 14 bytes per vertex, output included, and at
+ * about 12 on real surfaces.
+ * float64: four LSD passes of 16 bits; each pass keeps only the key bits later passes still need
+ * (a full key, then the top bits in 16-bit words), and the last pass writes into a buffer that is
+ * free by then, so a float64 sort peaks at 18 bytes per vertex, output included.
  */
 
-/** Map float32 bits to an unsigned key with the same order (negative floats reversed). */
-function f32key(bits: number): number {
-  return (bits & 0x80000000 ? ~bits : bits | 0x80000000) >>> 0;
+/** Ascending order of the non-NaN entries of `values`, ties broken by index. */
+export function sortOrder(values: Float32Array | Float64Array): Uint32Array {
+  return values instanceof Float32Array ? sortF32(values) : sortF64(values);
+}
+
+/** Buckets up to this many keys are finished by two LSD passes (pairs, output and scratch stay in a 2 MB cache). */
+const CACHE_BUCKET = 1 << 15;
+/** Buckets up to this many keys are finished by insertion sort. */
+const TINY_BUCKET = 24;
+
+/**
+ * float32: the key of bit pattern b is b ^ (sign ? 0xffffffff : 0x80000000) — an unsigned
+ * number with the order of the floats (negative floats reversed); NaN patterns are skipped.
+ */
+function sortF32(values: Float32Array): Uint32Array {
+  const n = values.length;
+  const bits = new Uint32Array(values.buffer, values.byteOffset, n);
+  // counts of the top 12 key bits
+  const start = new Uint32Array(4097);
+  let m = 0;
+  for (let i = 0; i < n; i++) {
+    const b = bits[i];
+    if ((b & 0x7fffffff) > 0x7f800000) continue; // NaN
+    start[(b ^ ((b >> 31) | 0x80000000)) >>> 20]++;
+    m++;
+  }
+  let big = 0;
+  for (let d = 0, s = 0; d < 4096; d++) {
+    const c = start[d];
+    start[d] = s;
+    s += c;
+    if (c > big) big = c;
+  }
+  start[4096] = m;
+  // scatter (key, index) pairs into their top buckets, in index order (stable)
+  const pairs = new Uint32Array(2 * m);
+  const next = start.slice(0, 4096);
+  for (let i = 0; i < n; i++) {
+    const b = bits[i];
+    if ((b & 0x7fffffff) > 0x7f800000) continue;
+    const key = b ^ ((b >> 31) | 0x80000000);
+    const pos = next[key >>> 20]++ << 1;
+    pairs[pos] = key;
+    pairs[pos + 1] = i;
+  }
+  const out = new Uint32Array(m);
+  const low = new Uint16Array(big > TINY_BUCKET ? big : 0);
+  const h0 = new Uint32Array(1024), h1 = new Uint32Array(1024);
+  for (let d = 0; d < 4096; d++) {
+    const lo = start[d], hi = start[d + 1], len = hi - lo;
+    if (len === 0) continue;
+    if (len <= TINY_BUCKET) tinyBucket(pairs, out, lo, hi);
+    else if (len <= CACHE_BUCKET) cacheBucket(pairs, out, low, h0, h1, lo, hi);
+    else largeBucket(pairs, out, low, h0, h1, lo, hi);
+  }
+  return out;
+}
+
+/** A few pairs: stable insertion sort by key in place, then the indices into `out`. */
+function tinyBucket(pairs: Uint32Array, out: Uint32Array, lo: number, hi: number): void {
+  for (let k = lo + 1; k < hi; k++) {
+    const key = pairs[2 * k], idx = pairs[2 * k + 1];
+    let j = k - 1;
+    while (j >= lo && pairs[2 * j] > key) {
+      pairs[2 * j + 2] = pairs[2 * j];
+      pairs[2 * j + 3] = pairs[2 * j + 1];
+      j--;
+    }
+    pairs[2 * j + 2] = key;
+    pairs[2 * j + 3] = idx;
+  }
+  for (let k = lo; k < hi; k++) out[k] = pairs[2 * k + 1];
 }
 
 /**
- * Ascending order of the non-NaN entries of `values`, ties broken by index.
- * @param out where to write the order (e.g. on shared memory for a worker thread): exactly as
- *   many entries as `values` has non-NaN ones; it takes the place of a buffer the sort would
- *   allocate, so it costs no memory. Returned.
- * @param work room for the sort's index buffers, at least twice as many entries as `out`: the
- *   caller can use it for something else afterwards (survey's union-find forests) instead of
- *   the sort's garbage and a new allocation.
+ * A bucket that fits in cache: by bits 0–9 (indices into out, bits 10–19 into `mid`), then by
+ * bits 10–19 into the bucket's own pair slots (free by then), copied back to out.
  */
-export function sortOrder(values: Float32Array | Float64Array, out?: Uint32Array, work?: Uint32Array): Uint32Array {
-  return values instanceof Float32Array ? sortF32(values, out, work) : sortF64(values, out, work);
-}
-
-/** Index buffer k (0 or 1) of m entries: in the caller's work buffer, or new. */
-function indexBuffer(work: Uint32Array | undefined, k: number, m: number): Uint32Array {
-  if (work === undefined) return new Uint32Array(m);
-  if (work.length < 2 * m) throw new RangeError(`sortOrder: the work buffer holds ${work.length} entries but the sort needs ${2 * m}`);
-  return work.subarray(k * m, (k + 1) * m);
-}
-
-/** The caller's output buffer, checked against the count of valid values, or a new one. */
-function output(out: Uint32Array | undefined, m: number): Uint32Array {
-  if (out === undefined) return new Uint32Array(m);
-  if (out.length !== m) throw new RangeError(`sortOrder: the output buffer holds ${out.length} entries but there are ${m} valid values`);
-  return out;
-}
-
-/** Three passes of 11, 11 and 10 bits. */
-function sortF32(values: Float32Array, dest?: Uint32Array, work?: Uint32Array): Uint32Array {
-  const n = values.length;
-  const bits = new Uint32Array(values.buffer, values.byteOffset, n);
-  const h0 = new Uint32Array(2048), h1 = new Uint32Array(2048), h2 = new Uint32Array(1024);
-  let m = 0;
-  for (let i = 0; i < n; i++) {
-    const x = values[i];
-    if (x !== x) continue;
-    const key = f32key(bits[i]);
-    h0[key & 2047]++; h1[(key >>> 11) & 2047]++; h2[key >>> 22]++;
-    m++;
+function cacheBucket(pairs: Uint32Array, out: Uint32Array, mid: Uint16Array, h0: Uint32Array, h1: Uint32Array, lo: number, hi: number): void {
+  h0.fill(0);
+  h1.fill(0);
+  for (let k = 2 * lo; k < 2 * hi; k += 2) {
+    const key = pairs[k];
+    h0[key & 1023]++;
+    h1[(key >>> 10) & 1023]++;
   }
-  // pass 1: values → (index, full key), by bits 0–10
-  const idxA = indexBuffer(work, 0, m);
-  // the full keys, overwritten by the order in pass 3
-  const keyA = output(dest, m);
-  if (skipPass(h0, m)) {
-    for (let i = 0, k = 0; i < n; i++) {
-      const x = values[i];
-      if (x !== x) continue;
-      idxA[k] = i; keyA[k++] = f32key(bits[i]);
+  prefix(h0);
+  prefix(h1);
+  for (let k = 2 * lo; k < 2 * hi; k += 2) {
+    const key = pairs[k];
+    const p = h0[key & 1023]++;
+    out[lo + p] = pairs[k + 1];
+    mid[p] = (key >>> 10) & 1023;
+  }
+  const len = hi - lo, base = 2 * lo;
+  for (let k = 0; k < len; k++) pairs[base + h1[mid[k]]++] = out[lo + k];
+  for (let k = 0; k < len; k++) out[lo + k] = pairs[base + k];
+}
+
+/**
+ * A bucket larger than the cache: by bits 10–19 into sub-buckets (indices into out, bits 0–9
+ * into `low`), then each sub-bucket by bits 0–9 — counted through the bucket's free pair slots,
+ * or by insertion sort when it holds a few keys.
+ */
+function largeBucket(pairs: Uint32Array, out: Uint32Array, low: Uint16Array, h1: Uint32Array, h0: Uint32Array, lo: number, hi: number): void {
+  h1.fill(0);
+  for (let k = 2 * lo; k < 2 * hi; k += 2) h1[(pairs[k] >>> 10) & 1023]++;
+  prefix(h1);
+  const subStart = h1.slice();
+  for (let k = 2 * lo; k < 2 * hi; k += 2) {
+    const key = pairs[k];
+    const p = h1[(key >>> 10) & 1023]++;
+    out[lo + p] = pairs[k + 1];
+    low[p] = key & 1023;
+  }
+  const base = 2 * lo;
+  for (let s = 0; s < 1024; s++) {
+    const a = subStart[s], b = h1[s], len = b - a; // h1[s] is now the end of sub-bucket s
+    if (len <= 1) continue;
+    if (len <= TINY_BUCKET) {
+      for (let k = a + 1; k < b; k++) {
+        const key = low[k], idx = out[lo + k];
+        let j = k - 1;
+        while (j >= a && low[j] > key) {
+          low[j + 1] = low[j];
+          out[lo + j + 1] = out[lo + j];
+          j--;
+        }
+        low[j + 1] = key;
+        out[lo + j + 1] = idx;
+      }
+      continue;
     }
-  } else {
+    h0.fill(0);
+    for (let k = a; k < b; k++) h0[low[k]]++;
     prefix(h0);
-    for (let i = 0; i < n; i++) {
-      const x = values[i];
-      if (x !== x) continue;
-      const key = f32key(bits[i]);
-      const pos = h0[key & 2047]++;
-      idxA[pos] = i; keyA[pos] = key;
-    }
+    for (let k = a; k < b; k++) pairs[base + a + h0[low[k]]++] = out[lo + k];
+    for (let k = a; k < b; k++) out[lo + k] = pairs[base + k];
   }
-  // pass 2: → (index, top 10 bits), by bits 11–21
-  const idxB = indexBuffer(work, 1, m);
-  const topB = new Uint16Array(m);
-  if (skipPass(h1, m)) {
-    for (let k = 0; k < m; k++) { idxB[k] = idxA[k]; topB[k] = keyA[k] >>> 22; }
-  } else {
-    prefix(h1);
-    for (let k = 0; k < m; k++) {
-      const key = keyA[k];
-      const pos = h1[(key >>> 11) & 2047]++;
-      idxB[pos] = idxA[k]; topB[pos] = key >>> 22;
-    }
-  }
-  // pass 3: → index, by bits 22–31, written over the full keys (no longer needed)
-  if (skipPass(h2, m)) {
-    if (dest === undefined && work === undefined) return idxB;
-    keyA.set(idxB);
-    return keyA;
-  }
-  prefix(h2);
-  const out = keyA;
-  for (let k = 0; k < m; k++) out[h2[topB[k]]++] = idxB[k];
-  return out;
 }
 
 /** Four passes of 16 bits. */
