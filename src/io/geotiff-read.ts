@@ -519,6 +519,11 @@ function blockLayout(
   };
 }
 
+/** True when reads can decode on several threads (the worker's script is built). */
+export function parallelDecodingAvailable(): boolean {
+  return workerScript() !== null;
+}
+
 /**
  * The decoding worker's script: next to this module when it runs from the build; from the
  * sources (the tests), the built one — null when there is none, and the read stays on one thread.
