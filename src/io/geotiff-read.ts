@@ -349,6 +349,9 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
   if (!Number.isInteger(band) || band < 1) {
     throw new InputError(`band must be a whole number from 1 up, got ${band}`);
   }
+  if (opts.threads !== undefined && !(Number.isInteger(opts.threads) && opts.threads >= 1)) {
+    throw new InputError(`threads must be a whole number from 1 up, got ${opts.threads}`);
+  }
   if (opts.nodata !== undefined && typeof opts.nodata !== 'number') {
     throw new InputError(`nodata must be a number, got ${String(opts.nodata)}`);
   }
