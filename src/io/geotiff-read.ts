@@ -29,7 +29,8 @@ export interface GeoTiffReadOptions {
   threads?: number;
   /**
    * Decode on several threads only when the band holds at least this many bytes of samples
-   * (default 8 MiB): below that, starting the workers costs more than it saves.
+   * (default 8 MiB) and its blocks are compressed or predicted: below that, and for plain
+   * uncompressed blocks (a copy out of the file), starting the workers costs more than it saves.
    */
   parallelMinBytes?: number;
 }
@@ -438,7 +439,9 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
     let values: GridValues;
     if (layout) {
       const bytes = width * height * (kind.float64Out ? 8 : 4);
-      const workers = threads > 1 && bytes >= (opts.parallelMinBytes ?? PARALLEL_MIN_BYTES) ? Math.min(threads, layout.blockCount) - 1 : 0;
+      // uncompressed blocks are a copy out of the file: one thread does that as fast as several
+      const decodes = layout.compression !== 1 || layout.predictor !== 1;
+      const workers = threads > 1 && decodes && bytes >= (opts.parallelMinBytes ?? PARALLEL_MIN_BYTES) ? Math.min(threads, layout.blockCount) - 1 : 0;
       const script = workers > 0 ? workerScript() : null;
       const buffer = script ? new SharedArrayBuffer(bytes) : new ArrayBuffer(bytes);
       values = kind.float64Out ? new Float64Array(buffer) : new Float32Array(buffer);

@@ -44,7 +44,7 @@ describe('radix order by (value, index)', () => {
   });
 
   // The float32 sort finishes each top bucket (sign, exponent and 3 mantissa bits) by insertion
-  // sort, by two cache-sized LSD passes, or by a mid-bits pass into sub-buckets above 32 768 keys.
+  // sort or by two LSD passes of 10 bits.
   // These arrays put tens of thousands of keys into one or a few buckets, with ties, NaN and
   // both signs, and compare with the comparison sort (the definition of the order).
   it('matches a comparison sort on float32 arrays crowded into few top buckets (all bucket paths)', () => {
