@@ -78,8 +78,8 @@ export const floorCase = {
         const pick = (f) => rs.map(f);
         const wall = pick((r) => r.wall);
         ctx.record(`floor.${key}.ms`, median(wall), { label, unit: 'ms', samples: wall, cpu: pick((r) => r.cpu) });
-        ctx.record(`floor.${key}.read.ms`, median(pick((r) => r.read)), { label: '    of which reading', unit: 'ms', samples: pick((r) => r.read) });
-        ctx.record(`floor.${key}.sort.ms`, median(pick((r) => r.sort)), { label: '    of which sorting', unit: 'ms', samples: pick((r) => r.sort) });
+        ctx.record(`floor.${key}.read.ms`, median(pick((r) => r.read)), { label: '    of which reading', unit: 'ms', samples: pick((r) => r.read), cpu: pick((r) => r.readCpu) });
+        ctx.record(`floor.${key}.sort.ms`, median(pick((r) => r.sort)), { label: '    of which sorting', unit: 'ms', samples: pick((r) => r.sort), cpu: pick((r) => r.sortCpu) });
       };
       rec('reference', 'reference process: raw float32 read + Float32Array sort', runs.get('reference'));
       for (const [li, [label]] of layouts.entries()) {
