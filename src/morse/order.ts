@@ -34,15 +34,39 @@ const TINY_BUCKET = 24;
 function sortF32(values: Float32Array): Uint32Array {
   const n = values.length;
   const bits = new Uint32Array(values.buffer, values.byteOffset, n);
-  // counts of the top 12 key bits
+  // one small function per pass: each is optimised on its own while it runs, and leaving one
+  // loop never sends the others back to the interpreter (the first and only call is the hot one)
   const start = new Uint32Array(4097);
+  const m = countTopDigits(bits, start);
+  const big = bucketStarts(start, m);
+  const pairs = new Uint32Array(2 * m);
+  scatterPairs(bits, start.slice(0, 4096), pairs);
+  const out = new Uint32Array(m);
+  const mid = new Uint16Array(big > TINY_BUCKET ? big : 0);
+  const h0 = new Uint32Array(1024), h1 = new Uint32Array(1024);
+  for (let d = 0; d < 4096; d++) {
+    const lo = start[d], hi = start[d + 1], len = hi - lo;
+    if (len === 0) continue;
+    if (len <= TINY_BUCKET) tinyBucket(pairs, out, lo, hi);
+    else bucketPasses(pairs, out, mid, h0, h1, lo, hi);
+  }
+  return out;
+}
+
+/** Count the non-NaN keys by their top 12 bits into `count`; the number of non-NaN keys. */
+function countTopDigits(bits: Uint32Array, count: Uint32Array): number {
   let m = 0;
-  for (let i = 0; i < n; i++) {
+  for (let i = 0; i < bits.length; i++) {
     const b = bits[i];
     if ((b & 0x7fffffff) > 0x7f800000) continue; // NaN
-    start[(b ^ ((b >> 31) | 0x80000000)) >>> 20]++;
+    count[(b ^ ((b >> 31) | 0x80000000)) >>> 20]++;
     m++;
   }
+  return m;
+}
+
+/** Turn the counts into bucket starts (start[4096] = m); the size of the largest bucket. */
+function bucketStarts(start: Uint32Array, m: number): number {
   let big = 0;
   for (let d = 0, s = 0; d < 4096; d++) {
     const c = start[d];
@@ -51,10 +75,12 @@ function sortF32(values: Float32Array): Uint32Array {
     if (c > big) big = c;
   }
   start[4096] = m;
-  // scatter (key, index) pairs into their top buckets, in index order (stable)
-  const pairs = new Uint32Array(2 * m);
-  const next = start.slice(0, 4096);
-  for (let i = 0; i < n; i++) {
+  return big;
+}
+
+/** Scatter (key, index) pairs into their top buckets, in index order (stable). */
+function scatterPairs(bits: Uint32Array, next: Uint32Array, pairs: Uint32Array): void {
+  for (let i = 0; i < bits.length; i++) {
     const b = bits[i];
     if ((b & 0x7fffffff) > 0x7f800000) continue;
     const key = b ^ ((b >> 31) | 0x80000000);
@@ -62,16 +88,6 @@ function sortF32(values: Float32Array): Uint32Array {
     pairs[pos] = key;
     pairs[pos + 1] = i;
   }
-  const out = new Uint32Array(m);
-  const low = new Uint16Array(big > TINY_BUCKET ? big : 0);
-  const h0 = new Uint32Array(1024), h1 = new Uint32Array(1024);
-  for (let d = 0; d < 4096; d++) {
-    const lo = start[d], hi = start[d + 1], len = hi - lo;
-    if (len === 0) continue;
-    if (len <= TINY_BUCKET) tinyBucket(pairs, out, lo, hi);
-    else bucketPasses(pairs, out, low, h0, h1, lo, hi);
-  }
-  return out;
 }
 
 /** A few pairs: stable insertion sort by key in place, then the indices into `out`. */
