@@ -8,8 +8,8 @@
  * of 10 bits (bits 0–9, then 10–19), or by insertion sort when it holds a few keys. Real
  * surfaces fill only a few hundred of the 4096 top buckets, so the scattering pass writes to
  * few places at once, and a bucket's passes work on a stretch of memory much smaller than the
- * grid (a plain three-pass LSD sort scatters 2048 ways over the whole grid in two of its passes,
- * missing the TLB on nearly every write). Every step is stable, so equal values keep ascending
+ * grid (a plain three-pass LSD sort scatters 2048 ways over the whole grid in two of its passes).
+ * Every step is stable, so equal values keep ascending
  * indices. (Splitting large buckets once more on bits 10–19 was tried and was slower.)
  * Memory: the pairs (8 bytes per vertex), the output (4) and 16-bit scratch for the largest
  * bucket (at most 2), so a float32 sort peaks at 14 bytes per vertex, output included, and at
