@@ -13,7 +13,6 @@ export interface CommonOptions {
   minPersistence?: string;
   band?: string;
   nodata?: string;
-  threads?: string;
   quiet?: boolean;
   origin?: string;
   spacing?: string;
@@ -33,7 +32,6 @@ export function addCommonOptions(cmd: Command, defaults: { boundary: Boundary })
     .option('--min-persistence <v>', 'drop features whose persistence is below V (surface units)', '0')
     .option('--band <n>', 'band of a multi-band GeoTIFF (1-based)', '1')
     .option('--nodata <v>', "value marking missing cells (a number, 'inf' or '-inf'); overrides the file's own")
-    .option('--threads <n>', 'threads that decode a large GeoTIFF input (default: the number of cores; 1 keeps to one thread); results are the same')
     .option('--origin <x,y>', 'matrix text input: coordinates of the centre of the first value')
     .option('--spacing <dx,dy>', 'matrix text input: step along a line and from one line to the next')
     .option('--columns <x,y,v>', 'column text input: 1-based columns of x, y and value', '1,2,3')

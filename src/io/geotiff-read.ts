@@ -13,7 +13,7 @@ import { availableParallelism } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import { InputError } from '../errors.js';
-import { Grid, type Crs, type GeoTransform, type GridValues } from '../surface/grid.js';
+import { Grid, gridValues, type Crs, type GeoTransform, type GridValues } from '../surface/grid.js';
 import { checkGridSize, finishValues, nodataFor, openForReading, readAt, transferSamples } from './common.js';
 import { blocksPerGrab, decodeShare, type BlockFailure, type BlockLayout } from './tiff-decode.js';
 
@@ -443,16 +443,15 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
       const decodes = layout.compression !== 1 || layout.predictor !== 1;
       const workers = threads > 1 && decodes && bytes >= (opts.parallelMinBytes ?? PARALLEL_MIN_BYTES) ? Math.min(threads, layout.blockCount) - 1 : 0;
       const script = workers > 0 ? workerScript() : null;
-      const buffer = script ? new SharedArrayBuffer(bytes) : new ArrayBuffer(bytes);
-      values = kind.float64Out ? new Float64Array(buffer) : new Float32Array(buffer);
-      const failure = await decodeBlocks(path, fh.fd, layout, offsets, counts, values, script ? workers : 0, script);
+      values = gridValues(width * height, kind.float64Out); // on shared memory, for the decoding and analysis workers
+      const failure = await decodeBlocks(path, fh.fd, layout, offsets, counts, values, script && values.buffer instanceof SharedArrayBuffer ? workers : 0, script);
       if (failure) {
         const where = failure.block < 0 ? 'a decoding thread failed' : `${what} ${layout.firstBlock + failure.block + 1} of ${expected} cannot be decoded`;
         throw truncated(path, `${where} (${failure.reason})`);
       }
       finishValues(values, match, kind.integer, width, path);
     } else {
-      values = kind.float64Out ? new Float64Array(width * height) : new Float32Array(width * height);
+      values = gridValues(width * height, kind.float64Out);
       for (let y0 = 0; y0 < height; y0 += rowsPerRead) {
         const y1 = Math.min(height, y0 + rowsPerRead);
         let samples: ArrayLike<number>;

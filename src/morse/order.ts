@@ -19,9 +19,37 @@
  * free by then, so a float64 sort peaks at 18 bytes per vertex, output included.
  */
 
-/** Ascending order of the non-NaN entries of `values`, ties broken by index. */
-export function sortOrder(values: Float32Array | Float64Array): Uint32Array {
-  return values instanceof Float32Array ? sortF32(values) : sortF64(values);
+/**
+ * Ascending order of the non-NaN entries of `values`, ties broken by index.
+ * @param out where to write the order (e.g. on shared memory for a worker thread): exactly as
+ *   many entries as `values` has non-NaN ones; it takes the place of a buffer the sort would
+ *   allocate, so it costs no memory. Returned.
+ * @param work room for the sort's index buffers, at least twice as many entries as `out`: the
+ *   caller can use it for something else afterwards (survey's union-find forests) instead of
+ *   the sort's garbage and a new allocation.
+ */
+export function sortOrder(values: Float32Array | Float64Array, out?: Uint32Array, work?: Uint32Array): Uint32Array {
+  return values instanceof Float32Array ? sortF32(values, out, work) : sortF64(values, out, work);
+}
+
+/** Index buffer k (0 or 1) of m entries: in the caller's work buffer, or new. */
+function indexBuffer(work: Uint32Array | undefined, k: number, m: number): Uint32Array {
+  if (work === undefined) return new Uint32Array(m);
+  if (work.length < 2 * m) throw new RangeError(`sortOrder: the work buffer holds ${work.length} entries but the sort needs ${2 * m}`);
+  return work.subarray(k * m, (k + 1) * m);
+}
+
+/** The (key, index) pairs of the float32 sort in the caller's work buffer (2m entries). */
+function pairBuffer(work: Uint32Array, m: number): Uint32Array {
+  if (work.length < 2 * m) throw new RangeError(`sortOrder: the work buffer holds ${work.length} entries but the sort needs ${2 * m}`);
+  return work.subarray(0, 2 * m);
+}
+
+/** The caller's output buffer, checked against the count of valid values, or a new one. */
+function output(out: Uint32Array | undefined, m: number): Uint32Array {
+  if (out === undefined) return new Uint32Array(m);
+  if (out.length !== m) throw new RangeError(`sortOrder: the output buffer holds ${out.length} entries but there are ${m} valid values`);
+  return out;
 }
 
 /** Buckets up to this many keys are finished by insertion sort. */
@@ -31,7 +59,7 @@ const TINY_BUCKET = 24;
  * float32: the key of bit pattern b is b ^ (sign ? 0xffffffff : 0x80000000) — an unsigned
  * number with the order of the floats (negative floats reversed); NaN patterns are skipped.
  */
-function sortF32(values: Float32Array): Uint32Array {
+function sortF32(values: Float32Array, dest?: Uint32Array, work?: Uint32Array): Uint32Array {
   const n = values.length;
   const bits = new Uint32Array(values.buffer, values.byteOffset, n);
   // one small function per pass: each is optimised on its own while it runs, and leaving one
@@ -39,9 +67,10 @@ function sortF32(values: Float32Array): Uint32Array {
   const start = new Uint32Array(4097);
   const m = countTopDigits(bits, start);
   const big = bucketStarts(start, m);
-  const pairs = new Uint32Array(2 * m);
+  // the pairs take the caller's work buffer (2m entries) when there is one
+  const pairs = work === undefined ? new Uint32Array(2 * m) : pairBuffer(work, m);
   scatterPairs(bits, start.slice(0, 4096), pairs);
-  const out = new Uint32Array(m);
+  const out = output(dest, m);
   const mid = new Uint16Array(big > TINY_BUCKET ? big : 0);
   const h0 = new Uint32Array(1024), h1 = new Uint32Array(1024);
   for (let d = 0; d < 4096; d++) {
