@@ -1,10 +1,11 @@
 #!/usr/bin/env node
 /**
  * sill benchmarks. Run with `npm run bench` (builds first), or after a build:
- *   node --expose-gc bench/run.mjs [--size N] [--only a,b] [--repeat R] [--seed S] [--quantum Q] [--float64] [--list]
+ *   node --expose-gc bench/run.mjs [--size N] [--only a,b] [--repeat R] [--seed S] [--quantum Q] [--float64] [--before DIST] [--list]
  *
  * --quantum Q rounds the terrain to steps of Q (ties and flats, as in DEMs stored in whole
  * centimetres); --float64 analyses float64 values (energy surfaces usually are) instead of float32.
+ * --before DIST times an older build (its dist/ folder) beside this one in the cases that support it (floor).
  *
  * Every entry of CASES is one benchmark case: { name, about, skip?(ctx), run(ctx), targets? }.
  * A case records measurements with ctx.record(key, value, { label, unit }); a target is a
@@ -19,14 +20,14 @@ import { fractalTerrain } from './lib/terrain.mjs';
 import { BENCH_DIR, fmtMs, fmtNum, median as medianOf, table } from './lib/util.mjs';
 import { sortCase } from './cases/sort.mjs';
 import { surveyCase, stagesCase, loadCase, memoryCase } from './cases/survey.mjs';
-import { threadsCase, threadsCliCase } from './cases/threads.mjs';
+import { floorCase } from './cases/floor.mjs';
 
 /**
  * The registry, run in this order. To add a case (ponds, runoff, barriers, …): write
  * bench/cases/<name>.mjs exporting the case object (and `memoryJobs` if it measures
  * memory through bench/lib/memory.mjs), import it above and list it here.
  */
-const CASES = [sortCase, surveyCase, stagesCase, loadCase, memoryCase, threadsCase, threadsCliCase];
+const CASES = [sortCase, surveyCase, stagesCase, loadCase, memoryCase, floorCase];
 
 const { values: opt } = parseArgs({
   options: {
@@ -38,6 +39,7 @@ const { values: opt } = parseArgs({
     only: { type: 'string' },
     skip: { type: 'string' },
     json: { type: 'string' },
+    before: { type: 'string' },
     list: { type: 'boolean', default: false },
     help: { type: 'boolean', short: 'h', default: false },
   },
@@ -45,7 +47,7 @@ const { values: opt } = parseArgs({
 
 if (opt.help || opt.list) {
   if (opt.help) {
-    console.log('usage: node --expose-gc bench/run.mjs [--size N] [--only a,b] [--skip a,b] [--repeat R] [--seed S] [--quantum Q] [--float64] [--json FILE] [--list]\n');
+    console.log('usage: node --expose-gc bench/run.mjs [--size N] [--only a,b] [--skip a,b] [--repeat R] [--seed S] [--quantum Q] [--float64] [--before DIST] [--json FILE] [--list]\n');
   }
   console.log('cases:');
   for (const c of CASES) console.log(`  ${c.name.padEnd(10)} ${c.about}`);
@@ -82,6 +84,8 @@ const results = {}, meta = {}, notes = {}, warnings = [];
 let terrain = null;
 const ctx = {
   size, seed, quantum, repeat, float64: opt.float64,
+  /** --before DIST: an older build's dist/ folder, timed beside this one where a case supports it (floor). */
+  before: opt.before ?? null,
   /** The benchmark terrain (generated once, shared; do not modify it — copy first). */
   terrain() {
     if (terrain === null) {

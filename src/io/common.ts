@@ -142,3 +142,26 @@ export function printable(s: string, max = 40): string {
   const clean = s.replace(/[\u0000-\u001f\u007f-\u009f\u2028\u2029\ufffd]/g, '?');
   return clean.length > max ? `${clean.slice(0, max - 3)}...` : clean;
 }
+
+/**
+ * The same rules as `transferSamples`, in place over values already copied from the file: the
+ * nodata value and NaN become NaN (one NaN bit pattern), and an infinity that is not the nodata
+ * value is an error naming the first such cell in row-major order.
+ */
+export function finishValues(out: GridValues, nodataMatch: number, integerSamples: boolean, width: number, source: string): void {
+  const n = out.length;
+  if (integerSamples) {
+    if (nodataMatch === nodataMatch) for (let i = 0; i < n; i++) if (out[i] === nodataMatch) out[i] = NaN;
+    return;
+  }
+  for (let i = 0; i < n; i++) {
+    const v = out[i];
+    if (v - v === 0) {
+      if (v === nodataMatch) out[i] = NaN; // finite
+    } else if (v !== v || v === nodataMatch) {
+      out[i] = NaN; // NaN, or the infinity that is the nodata value
+    } else {
+      throw infinityError(source, v, i % width, Math.floor(i / width));
+    }
+  }
+}

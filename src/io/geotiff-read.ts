@@ -1,26 +1,48 @@
 /**
- * GeoTIFF → Grid. Decoding of strips and tiles (compression, predictors, BigTIFF) is done
- * by the `geotiff` package; this module checks the file before anything large is
- * allocated, reads one band in row bands, and turns the GeoTIFF georeferencing tags into
- * a GDAL-order geotransform and an EPSG-coded CRS.
+ * GeoTIFF → Grid. The `geotiff` package parses the file (header, image directory, tags,
+ * BigTIFF); this module checks the file before anything large is allocated, turns the GeoTIFF
+ * georeferencing tags into a GDAL-order geotransform and an EPSG-coded CRS, and decodes the
+ * band's strips or tiles itself (tiff-decode.ts) straight into the grid's values — on several
+ * threads for a large file — for every layout but a few rare ones (16-bit floats, LERC, ZSTD,
+ * mixed sample sizes, empty blocks), which go through the package's own decoder in row bands.
  */
 import GeoTIFF, { type GeoTIFFImage, type ImageFileDirectory } from 'geotiff';
+import { existsSync } from 'node:fs';
 import type { FileHandle } from 'node:fs/promises';
+import { availableParallelism } from 'node:os';
+import { fileURLToPath } from 'node:url';
+import { Worker } from 'node:worker_threads';
 import { InputError } from '../errors.js';
 import { useBoundedLzw } from './lzw.js';
 import { Grid, gridValues, type Crs, type GeoTransform, type GridValues } from '../surface/grid.js';
-import { checkGridSize, nodataFor, openForReading, printable, readAt, transferSamples } from './common.js';
+import { checkGridSize, finishValues, nodataFor, openForReading, printable, readAt, transferSamples } from './common.js';
+import { blocksPerGrab, decodeShare, type BlockFailure, type BlockLayout } from './tiff-decode.js';
 
 export interface GeoTiffReadOptions {
   /** 1-based band number; default 1. */
   band?: number;
   /** Nodata value; overrides the file's GDAL_NODATA tag. */
   nodata?: number;
+  /**
+   * Threads that decode strips and tiles, this one included; default: the number of cores.
+   * 1 decodes on this thread only. The values are the same whatever the number.
+   */
+  threads?: number;
+  /**
+   * Decode on several threads only when the band holds at least this many bytes of samples
+   * (default 8 MiB) and its blocks are compressed or predicted: below that, and for plain
+   * uncompressed blocks (a copy out of the file), starting the workers costs more than it saves.
+   */
+  parallelMinBytes?: number;
 }
+
+/** Default of `parallelMinBytes`. */
+const PARALLEL_MIN_BYTES = 8 * 1024 * 1024;
 
 // TIFF tag numbers used here.
 const TAG = {
   Compression: 259,
+  Predictor: 317,
   StripOffsets: 273,
   StripByteCounts: 279,
   TileOffsets: 324,
@@ -357,6 +379,9 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
   if (!Number.isInteger(band) || band < 1) {
     throw new InputError(`band must be a whole number from 1 up, got ${band}`);
   }
+  if (opts.threads !== undefined && !(Number.isInteger(opts.threads) && opts.threads >= 1)) {
+    throw new InputError(`threads must be a whole number from 1 up, got ${opts.threads}`);
+  }
   if (opts.nodata !== undefined && typeof opts.nodata !== 'number') {
     throw new InputError(`nodata must be a number, got ${String(opts.nodata)}`);
   }
@@ -446,28 +471,158 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
     const nodata = opts.nodata !== undefined ? opts.nodata : fileNodata;
     const match = nodataFor(nodata, kind.float32Samples);
 
-    const values: GridValues = gridValues(width * height, kind.float64Out);
-    for (let y0 = 0; y0 < height; y0 += rowsPerRead) {
-      const y1 = Math.min(height, y0 + rowsPerRead);
-      let samples: ArrayLike<number>;
-      const warned: string[] = [];
-      decoderWarnings = warned;
-      try {
-        const r = await image.readRasters({ window: [0, y0, width, y1], samples: [band - 1], interleave: false });
-        samples = r[0];
-      } catch (err) {
-        throw truncated(path, `rows ${y0}–${y1 - 1} cannot be decoded (${decoderReason(err, comp[0])})`);
-      } finally {
-        decoderWarnings = null;
+    const predictor = Number((await tagNumbers(ifd, TAG.Predictor))?.[0] ?? 1);
+    const threads = opts.threads ?? availableParallelism();
+    const layout = blockLayout(image, band, compression, predictor, header.littleEndian, counts, perPlane);
+    let values: GridValues;
+    if (layout) {
+      const bytes = width * height * (kind.float64Out ? 8 : 4);
+      // uncompressed blocks are a copy out of the file: one thread does that as fast as several
+      const decodes = layout.compression !== 1 || layout.predictor !== 1;
+      const workers = threads > 1 && decodes && bytes >= (opts.parallelMinBytes ?? PARALLEL_MIN_BYTES) ? Math.min(threads, layout.blockCount) - 1 : 0;
+      const script = workers > 0 ? workerScript() : null;
+      values = gridValues(width * height, kind.float64Out); // on shared memory, for the decoding and analysis workers
+      const failure = await decodeBlocks(path, fh.fd, layout, offsets, counts, values, script && values.buffer instanceof SharedArrayBuffer ? workers : 0, script);
+      if (failure) {
+        const where = failure.block < 0 ? 'a decoding thread failed' : `${what} ${layout.firstBlock + failure.block + 1} of ${expected} cannot be decoded`;
+        throw truncated(path, `${where} (${failure.reason})`);
       }
-      if (warned.length > 0) throw truncated(path, `rows ${y0}–${y1 - 1} cannot be decoded (the ${comp[0]} decoder: ${warned[0].trim()})`);
-      if (samples.length !== (y1 - y0) * width) {
-        throw truncated(path, `rows ${y0}–${y1 - 1} decode to ${samples.length} values instead of ${(y1 - y0) * width}`);
+      finishValues(values, match, kind.integer, width, path);
+    } else {
+      values = gridValues(width * height, kind.float64Out);
+      for (let y0 = 0; y0 < height; y0 += rowsPerRead) {
+        const y1 = Math.min(height, y0 + rowsPerRead);
+        let samples: ArrayLike<number>;
+        const warned: string[] = [];
+        decoderWarnings = warned;
+        try {
+          const r = await image.readRasters({ window: [0, y0, width, y1], samples: [band - 1], interleave: false });
+          samples = r[0];
+        } catch (err) {
+          throw truncated(path, `rows ${y0}–${y1 - 1} cannot be decoded (${decoderReason(err, comp[0])})`);
+        } finally {
+          decoderWarnings = null;
+        }
+        if (warned.length > 0) throw truncated(path, `rows ${y0}–${y1 - 1} cannot be decoded (the ${comp[0]} decoder: ${warned[0].trim()})`);
+        if (samples.length !== (y1 - y0) * width) {
+          throw truncated(path, `rows ${y0}–${y1 - 1} decode to ${samples.length} values instead of ${(y1 - y0) * width}`);
+        }
+        transferSamples(samples, samples.length, values, y0 * width, width, match, kind.integer, path);
       }
-      transferSamples(samples, samples.length, values, y0 * width, width, match, kind.integer, path);
     }
     return new Grid({ width, height, values, transform, crs, nodata: nodata ?? null });
   } finally {
     await fh.close().catch(() => undefined);
   }
+}
+
+const LITTLE_ENDIAN_MACHINE = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
+
+/**
+ * The layout of the band's blocks for tiff-decode.ts, or null when the band needs the
+ * package's decoder: 16-bit floats, compressions other than none, LZW, DEFLATE and PackBits,
+ * predictors other than 1–3 (or 2 on 64-bit samples), pixel-interleaved samples of different
+ * sizes, blocks with no bytes (sparse files), or a big-endian machine.
+ */
+function blockLayout(
+  image: GeoTIFFImage,
+  band: number,
+  compression: number,
+  predictor: number,
+  littleEndian: boolean,
+  counts: number[],
+  perPlane: number,
+): BlockLayout | null {
+  if (!LITTLE_ENDIAN_MACHINE) return null;
+  if (![1, 5, 8, 32946, 32773].includes(compression)) return null;
+  const sampleFormat = image.getSampleFormat(band - 1);
+  const bits = image.getBitsPerSample(band - 1);
+  if (sampleFormat === 3 && bits === 16) return null;
+  if (!(predictor === 1 || (predictor === 2 && bits <= 32) || predictor === 3)) return null;
+  const spp = image.getSamplesPerPixel();
+  const chunky = image.planarConfiguration !== 2;
+  if (chunky) {
+    for (let s = 0; s < spp; s++) if (image.getBitsPerSample(s) !== bits) return null;
+  }
+  const firstBlock = chunky ? 0 : (band - 1) * perPlane;
+  for (let i = firstBlock; i < firstBlock + perPlane; i++) if (!(counts[i] > 0)) return null;
+  const width = image.getWidth(), height = image.getHeight();
+  const blockWidth = image.getTileWidth(), blockHeight = image.getTileHeight();
+  return {
+    littleEndian,
+    compression,
+    predictor,
+    sampleFormat,
+    bytesPerSample: bits / 8,
+    samplesPerBlockPixel: chunky ? spp : 1,
+    sampleIndex: chunky ? band - 1 : 0,
+    tiled: image.isTiled,
+    blockWidth,
+    blockHeight,
+    blocksAcross: Math.ceil(width / blockWidth),
+    firstBlock,
+    blockCount: perPlane,
+    width,
+    height,
+  };
+}
+
+/** True when reads can decode on several threads (the worker's script is built). */
+export function parallelDecodingAvailable(): boolean {
+  return workerScript() !== null;
+}
+
+/**
+ * The decoding worker's script: next to this module when it runs from the build; from the
+ * sources (the tests), the built one — null when there is none, and the read stays on one thread.
+ */
+function workerScript(): URL | null {
+  for (const rel of ['./tiff-worker.js', '../../dist/io/tiff-worker.js']) {
+    const url = new URL(rel, import.meta.url);
+    if (existsSync(fileURLToPath(url))) return url;
+  }
+  return null;
+}
+
+/**
+ * Decode every block of the band into `values`: this thread and `workers` workers take blocks
+ * from one shared counter until none is left. The failure of the lowest-numbered block, or null.
+ */
+async function decodeBlocks(
+  path: string,
+  fd: number,
+  layout: BlockLayout,
+  offsets: number[],
+  counts: number[],
+  values: GridValues,
+  workers: number,
+  script: URL | null,
+): Promise<BlockFailure | null> {
+  const offs = Float64Array.from(offsets), cnts = Float64Array.from(counts);
+  const next = new Int32Array(workers > 0 ? new SharedArrayBuffer(4) : new ArrayBuffer(4));
+  const grab = blocksPerGrab(layout);
+  const pending: Promise<BlockFailure | null>[] = [];
+  for (let w = 0; w < workers && script; w++) {
+    pending.push(new Promise((resolve) => {
+      const worker = new Worker(script, { workerData: { path, layout, offsets: offs, counts: cnts, out: values, next, grab } });
+      let answered = false;
+      worker.once('message', (m: BlockFailure | null) => { answered = true; resolve(m); });
+      worker.once('error', (err) => { answered = true; resolve({ block: -1, reason: err.message }); });
+      worker.once('exit', (code) => { if (!answered) resolve({ block: -1, reason: `a decoding thread stopped (exit code ${code})` }); });
+    }));
+  }
+  let failures: (BlockFailure | null)[];
+  try {
+    const mine = decodeShare(fd, layout, offs, cnts, values, next, grab);
+    failures = [mine, ...(await Promise.all(pending))];
+  } catch (err) {
+    Atomics.store(next, 0, layout.blockCount); // let the workers stop
+    await Promise.all(pending);
+    throw err;
+  }
+  let first: BlockFailure | null = null;
+  for (const f of failures) {
+    if (f && (first === null || (f.block >= 0 && (first.block < 0 || f.block < first.block)))) first = f;
+  }
+  return first;
 }

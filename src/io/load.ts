@@ -19,6 +19,8 @@ export interface LoadOptions {
   band?: number;
   /** Values equal to this are nodata (overrides a GeoTIFF's own nodata tag). */
   nodata?: number;
+  /** GeoTIFF: threads that decode a large file, this one included; default: the number of cores. Same values whatever the number. */
+  threads?: number;
   /** Matrix text and .npy: map coordinates of the centre of the first value. */
   origin?: [number, number];
   /** Matrix text and .npy: step [dx, dy] along a row and from one row to the next. */
@@ -60,7 +62,7 @@ export async function detectFormat(path: string): Promise<SurfaceFormat> {
 /** Load a surface file as a Grid or (scattered text samples) a Mesh. */
 export async function loadSurface(path: string, opts: LoadOptions = {}): Promise<Grid | Mesh> {
   const format = await detectFormat(path);
-  const { band, nodata, origin, spacing, columns, layout } = opts;
+  const { band, nodata, origin, spacing, columns, layout, threads } = opts;
   if (format === 'geotiff' && (origin !== undefined || spacing !== undefined)) {
     throw new InputError(`${path} is a GeoTIFF and carries its own georeferencing; origin and spacing apply only to matrix text and .npy inputs`);
   }
@@ -74,7 +76,7 @@ export async function loadSurface(path: string, opts: LoadOptions = {}): Promise
     throw new InputError(`${path} has a single band; band ${band} applies only to GeoTIFF input`);
   }
   let surface: Grid | Mesh;
-  if (format === 'geotiff') surface = await readGeoTiff(path, { band, nodata });
+  if (format === 'geotiff') surface = await readGeoTiff(path, { band, nodata, threads });
   else if (format === 'npy') surface = await readNpy(path, { origin, spacing, nodata });
   else surface = await readTextSurface(path, { origin, spacing, nodata, columns, layout });
   if (surface.kind === 'grid') {

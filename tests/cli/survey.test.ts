@@ -1,6 +1,7 @@
 import { describe, it, expect, beforeAll } from 'vitest';
 import { writeFileSync, readFileSync, existsSync, readdirSync, mkdirSync } from 'node:fs';
 import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
 import { sill, tempDir } from './run.js';
 import { loadSurface } from '../../src/io/load.js';
 import { surveyReport } from '../../src/report/survey.js';
@@ -95,6 +96,8 @@ describe('sill survey (command line)', () => {
     ['an unknown boundary', ['survey', 'bowl.txt', '--boundary', 'round'], /--boundary/],
     ['a negative persistence', ['survey', 'bowl.txt', '--min-persistence', '-1'], /--min-persistence/],
     ['a connectivity of 5', ['survey', 'bowl.txt', '--connectivity', '5'], /--connectivity/],
+    ['zero threads', ['survey', 'bowl.txt', '--threads', '0'], /--threads must be at least 1/],
+    ['a fractional thread count', ['survey', 'bowl.txt', '--threads', '1.5'], /--threads must be a whole number/],
     ['an unknown option', ['survey', 'bowl.txt', '--frobnicate'], /unknown option/],
     ['an output path that is a file', ['survey', 'bowl.txt', '-o', 'a-file'], /not a folder/],
   ];
@@ -107,6 +110,14 @@ describe('sill survey (command line)', () => {
       expect(r.stdout).toBe('');
     });
   }
+
+  it('--threads 1 and --threads 2 give the same report', () => {
+    const tif = join(fileURLToPath(new URL('../../fixtures/io/blocks/', import.meta.url)), 'f32-tile-deflate-pred3.tif');
+    const one = sill(['survey', tif, '--json', '--threads', '1']);
+    const two = sill(['survey', tif, '--json', '--threads', '2']);
+    expect(one.code).toBe(0);
+    expect(two.stdout).toBe(one.stdout);
+  });
 
   it('leaves nothing behind in -o when the input is bad', () => {
     const out = join(dir, 'never');

@@ -1,6 +1,11 @@
 import { describe, expect, it } from 'vitest';
 import { fromFile } from 'geotiff';
-import { readGeoTiff } from '../../src/io/geotiff-read.js';
+import { createHash } from 'node:crypto';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { parallelDecodingAvailable, readGeoTiff } from '../../src/io/geotiff-read.js';
 import { InputError } from '../../src/errors.js';
 import { expected, fixture, mismatches, recordedNodata, sillValue } from './helpers.js';
 
@@ -137,5 +142,98 @@ describe('layouts sill does not read', () => {
   it('1-bit samples', async () => {
     expect(expected.unsupported['onebit.tif'].nbits).toBe(1); // GDAL reports NBITS=1 for this file
     await expect(readGeoTiff(fixture('onebit.tif'))).rejects.toThrow(/1-bit unsigned integer samples/);
+  });
+});
+
+// Files of fixtures/io/blocks/ hold 8–32 KiB per strip or tile (LZW through 12-bit codes and
+// table clears, predictors over long rows, big-endian samples, pixel-interleaved bands); GDAL
+// wrote them and recorded the SHA-256 of each band as its ReadAsArray() returns it
+// (tests/reference/make_block_fixtures.py).
+const BLOCKS = fileURLToPath(new URL('../../fixtures/io/blocks/', import.meta.url));
+const blocks: {
+  gdalVersion: string;
+  files: Record<string, { compression: string | null; predictor: string | null; bands: { dataType: string; sha256: string }[] }>;
+} = JSON.parse(readFileSync(join(BLOCKS, 'expected.json'), 'utf8'));
+
+/** The band's values as GDAL's own sample type, little-endian: what the recorded hash covers. */
+function gdalTyped(values: Float32Array | Float64Array, dataType: string): ArrayBufferView {
+  switch (dataType) {
+    case 'Byte': return Uint8Array.from(values);
+    case 'Int16': return Int16Array.from(values);
+    case 'UInt16': return Uint16Array.from(values);
+    case 'Int32': return Int32Array.from(values);
+    case 'UInt32': return Uint32Array.from(values);
+    case 'Float32': return Float32Array.from(values);
+    case 'Float64': return Float64Array.from(values);
+    default: throw new Error(`no type ${dataType}`);
+  }
+}
+
+function sha256(v: ArrayBufferView): string {
+  return createHash('sha256').update(new Uint8Array(v.buffer, v.byteOffset, v.byteLength)).digest('hex');
+}
+
+function bytesOf(v: ArrayBufferView): Buffer {
+  return Buffer.from(v.buffer, v.byteOffset, v.byteLength);
+}
+
+describe(`block decoders on larger files, as GDAL ${blocks.gdalVersion} reads them`, () => {
+  for (const [name, gdal] of Object.entries(blocks.files)) {
+    it(`${name} (${gdal.compression ?? 'uncompressed'}${gdal.predictor ? `, predictor ${gdal.predictor}` : ''})`, async () => {
+      for (let band = 1; band <= gdal.bands.length; band++) {
+        const g = await readGeoTiff(join(BLOCKS, name), { band, threads: 1 });
+        // SHA-256 of the band as GDAL ReadAsArray() returns it (expected.json)
+        expect(sha256(gdalTyped(g.values, gdal.bands[band - 1].dataType))).toBe(gdal.bands[band - 1].sha256);
+      }
+    });
+  }
+});
+
+describe('parallel decoding', () => {
+  it('is available (the worker is built: run npm run build before the tests)', () => {
+    expect(parallelDecodingAvailable()).toBe(true);
+  });
+
+  // every fixture layout, every band: the values (bit for bit) or the error are the same on one thread and on three
+  const cases: [string, number][] = [];
+  for (const [name, gdal] of Object.entries(expected.files)) for (let b = 1; b <= gdal.bands.length; b++) cases.push([fixture(name), b]);
+  for (const [name, gdal] of Object.entries(blocks.files)) for (let b = 1; b <= gdal.bands.length; b++) cases.push([join(BLOCKS, name), b]);
+  it(`gives the same values as one thread on all ${cases.length} fixture bands`, async () => {
+    for (const [path, band] of cases) {
+      const one = await readGeoTiff(path, { band, threads: 1 }).catch((e: Error) => e);
+      const many = await readGeoTiff(path, { band, threads: 3, parallelMinBytes: 0 }).catch((e: Error) => e);
+      if (one instanceof Error) {
+        expect(many, path).toBeInstanceOf(Error);
+        expect((many as Error).message, path).toBe(one.message);
+        continue;
+      }
+      expect(many, path).not.toBeInstanceOf(Error);
+      const m = many as Awaited<ReturnType<typeof readGeoTiff>>;
+      expect(m.values.constructor, path).toBe(one.values.constructor);
+      expect(bytesOf(m.values).equals(bytesOf(one.values)), `${path} band ${band}`).toBe(true);
+    }
+  });
+
+  it('names the same damaged block on one thread and on several', async () => {
+    // a copy of a large LZW fixture whose second (last) strip is overwritten with codes that refer to undefined strings
+    const src = readFileSync(join(BLOCKS, 'f32-strip-lzw.tif'));
+    const first = (await readGeoTiff(join(BLOCKS, 'f32-strip-lzw.tif'), { threads: 1 })).values.length;
+    expect(first).toBe(130 * 75);
+    const dir = mkdtempSync(join(tmpdir(), 'sill-blocks-'));
+    try {
+      const tiff = await (await fromFile(join(BLOCKS, 'f32-strip-lzw.tif'))).getImage();
+      const offsets = (await tiff.fileDirectory.loadValue(273)) as ArrayLike<number>; // StripOffsets
+      const bad = Buffer.from(src);
+      bad.fill(0xff, Number(offsets[1]) + 4, Number(offsets[1]) + 64); // 12-bit codes 4095 long before the table holds them
+      const path = join(dir, 'damaged.tif');
+      writeFileSync(path, bad);
+      const one = await readGeoTiff(path, { threads: 1 }).catch((e: Error) => e);
+      const many = await readGeoTiff(path, { threads: 2, parallelMinBytes: 0 }).catch((e: Error) => e);
+      expect(one).toBeInstanceOf(InputError);
+      expect((one as Error).message).toMatch(/is truncated or damaged: strip 2 of 2 cannot be decoded \(LZW data is damaged/);
+      expect((many as Error).message).toBe((one as Error).message);
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
   });
 });
