@@ -207,18 +207,29 @@ async function readHeader(path: string, fh: FileHandle, size: number): Promise<H
 }
 
 /** Load an array-valued tag as plain numbers. */
-async function tagNumbers(ifd: ImageFileDirectory, tag: number): Promise<number[] | null> {
+/** A tag's value; a value that lies outside the file (a damaged offset or count) is damage, named. */
+async function loadTag(path: string, ifd: ImageFileDirectory, tag: number): Promise<unknown> {
+  try {
+    return await ifd.loadValue(tag);
+  } catch (err) {
+    if (err instanceof InputError) throw err;
+    const why = err instanceof RangeError ? 'its value lies past the end of the file' : printable(String((err as Error)?.message ?? err), 80);
+    throw truncated(path, `TIFF tag ${tag} cannot be read (${why})`);
+  }
+}
+
+async function tagNumbers(path: string, ifd: ImageFileDirectory, tag: number): Promise<number[] | null> {
   if (!ifd.hasTag(tag)) return null;
-  const v: unknown = await ifd.loadValue(tag);
+  const v: unknown = await loadTag(path, ifd, tag);
   if (v === undefined || v === null) return null;
   if (typeof v === 'number' || typeof v === 'bigint') return [Number(v)];
   if (typeof v === 'string') return null;
   return Array.from(v as ArrayLike<number | bigint>, Number);
 }
 
-async function tagString(ifd: ImageFileDirectory, tag: number): Promise<string | null> {
+async function tagString(path: string, ifd: ImageFileDirectory, tag: number): Promise<string | null> {
   if (!ifd.hasTag(tag)) return null;
-  const v: unknown = await ifd.loadValue(tag);
+  const v: unknown = await loadTag(path, ifd, tag);
   return typeof v === 'string' ? v : null;
 }
 
@@ -423,7 +434,7 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
         if (image.getBitsPerSample(s) % 8 !== 0) sampleKind(path, image, s + 1); // throws for a bit-packed band
       }
     }
-    const compression = Number((await tagNumbers(ifd, TAG.Compression))?.[0] ?? 1);
+    const compression = Number((await tagNumbers(path, ifd, TAG.Compression))?.[0] ?? 1);
     const comp = COMPRESSIONS[compression];
     if (!comp || !comp[1]) {
       throw new InputError(
@@ -442,8 +453,8 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
     checkGridSize(path, width, height, bytesPerCell, workBytes);
 
     // Every strip or tile must lie inside the file.
-    const offsets = await tagNumbers(ifd, image.isTiled ? TAG.TileOffsets : TAG.StripOffsets);
-    const counts = await tagNumbers(ifd, image.isTiled ? TAG.TileByteCounts : TAG.StripByteCounts);
+    const offsets = await tagNumbers(path, ifd, image.isTiled ? TAG.TileOffsets : TAG.StripOffsets);
+    const counts = await tagNumbers(path, ifd, image.isTiled ? TAG.TileByteCounts : TAG.StripByteCounts);
     const what = image.isTiled ? 'tile' : 'strip';
     const perPlane = Math.ceil(width / tileW) * Math.ceil(height / tileH);
     const expected = perPlane * (image.planarConfiguration === 2 ? bandCount : 1);
@@ -457,21 +468,21 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
     }
 
     // Georeferencing.
-    const keys = parseGeoKeys(await tagNumbers(ifd, TAG.GeoKeyDirectory), await tagString(ifd, TAG.GeoAsciiParams));
+    const keys = parseGeoKeys(await tagNumbers(path, ifd, TAG.GeoKeyDirectory), await tagString(path, ifd, TAG.GeoAsciiParams));
     const pixelIsPoint = keys?.shorts.get(KEY.GTRasterType) === RASTER_PIXEL_IS_POINT;
     const transform = transformFromTags(
-      await tagNumbers(ifd, TAG.ModelTiepoint),
-      await tagNumbers(ifd, TAG.ModelPixelScale),
-      await tagNumbers(ifd, TAG.ModelTransformation),
+      await tagNumbers(path, ifd, TAG.ModelTiepoint),
+      await tagNumbers(path, ifd, TAG.ModelPixelScale),
+      await tagNumbers(path, ifd, TAG.ModelTransformation),
       pixelIsPoint,
     );
     const crs = crsFromKeys(keys);
-    let fileNodata = parseNodataTag(path, await tagString(ifd, TAG.GdalNodata));
+    let fileNodata = parseNodataTag(path, await tagString(path, ifd, TAG.GdalNodata));
     if (fileNodata !== null && kind.float32Samples) fileNodata = float32Nodata(fileNodata);
     const nodata = opts.nodata !== undefined ? opts.nodata : fileNodata;
     const match = nodataFor(nodata, kind.float32Samples);
 
-    const predictor = Number((await tagNumbers(ifd, TAG.Predictor))?.[0] ?? 1);
+    const predictor = Number((await tagNumbers(path, ifd, TAG.Predictor))?.[0] ?? 1);
     const threads = opts.threads ?? availableParallelism();
     const layout = blockLayout(image, band, compression, predictor, header.littleEndian, counts, perPlane);
     let values: GridValues;
