@@ -82,7 +82,7 @@ describe('writeGeoTiff', () => {
   it('removes the temporary file when writing fails midway, with tiles in flight on worker threads', async () => {
     let calls = 0;
     class FailingLater extends Float32Array {
-      override subarray(begin?: number, end?: number): Float32Array {
+      override subarray(begin?: number, end?: number): Float32Array<ArrayBuffer> {
         if (++calls === 2) throw new Error('simulated failure in the second band');
         return super.subarray(begin, end);
       }
