@@ -46,9 +46,10 @@ export const ENCODER_SOURCE = String.raw`
 const LITTLE_HOST = new Uint8Array(new Uint16Array([1]).buffer)[0] === 1;
 let scratch = null;
 let planes = null;
+let rowCopy = null;
 function encodeTile(job, deflate) {
   const T = job.tile, bps = job.bps, rowBytes = T * bps, size = T * rowBytes;
-  if (scratch === null || scratch.length !== size) { scratch = new Uint8Array(size); planes = new Uint8Array(rowBytes); }
+  if (scratch === null || scratch.length !== size) { scratch = new Uint8Array(size); planes = new Uint8Array(rowBytes); rowCopy = new Uint32Array(T); }
   const out = scratch;
   out.fill(0);
   const src = new Uint8Array(job.buf);
@@ -72,14 +73,33 @@ function encodeTile(job, deflate) {
     }
     if (!LITTLE_HOST) swapToLittle(out, bps);
   } else if (job.predictor === 3) {
+    const u = new Uint32Array(out.buffer, 0, (T * T * bps) >> 2);
     for (let r = 0; r < job.rows; r++) {
       const o = r * rowBytes;
-      for (let i = 0; i < T; i++) {
-        for (let b = 0; b < bps; b++) {
-          const plane = LITTLE_HOST ? bps - 1 - b : b;
-          planes[plane * T + i] = out[o + i * bps + b];
+      // byte planes, most significant first
+      if (LITTLE_HOST && bps === 4) {
+        // float32 in one pass: each plane's byte minus the byte before it in the row of planes
+        rowCopy.set(u.subarray(r * T, r * T + T));
+        const last = rowCopy[T - 1];
+        let p3 = 0, p2 = last >>> 24, p1 = (last >>> 16) & 255, p0 = (last >>> 8) & 255;
+        for (let i = 0; i < T; i++) {
+          const v = rowCopy[i], b3 = v >>> 24, b2 = (v >>> 16) & 255, b1 = (v >>> 8) & 255, b0 = v & 255;
+          out[o + i] = b3 - p3; out[o + T + i] = b2 - p2; out[o + 2 * T + i] = b1 - p1; out[o + 3 * T + i] = b0 - p0;
+          p3 = b3; p2 = b2; p1 = b1; p0 = b0;
+        }
+        continue;
+      } else if (LITTLE_HOST && bps === 8) {
+        for (let i = 0, s = 2 * r * T; i < T; i++) {
+          const lo = u[s + 2 * i], hi = u[s + 2 * i + 1];
+          planes[i] = hi >>> 24; planes[T + i] = hi >>> 16; planes[2 * T + i] = hi >>> 8; planes[3 * T + i] = hi;
+          planes[4 * T + i] = lo >>> 24; planes[5 * T + i] = lo >>> 16; planes[6 * T + i] = lo >>> 8; planes[7 * T + i] = lo;
+        }
+      } else {
+        for (let i = 0; i < T; i++) {
+          for (let b = 0; b < bps; b++) planes[(LITTLE_HOST ? bps - 1 - b : b) * T + i] = out[o + i * bps + b];
         }
       }
+      // then each byte minus the one before it, along the whole row
       out[o] = planes[0];
       for (let i = 1; i < rowBytes; i++) out[o + i] = planes[i] - planes[i - 1];
     }
