@@ -69,8 +69,6 @@ export interface GeoTiffWriteOptions {
 export const TILE = 512;
 /** zlib level: chosen by measurement (docs/performance.md, bench/geotiff-write.mjs). */
 const DEFLATE_LEVEL = 1;
-/** Below this many bytes of values the tiles are compressed on the calling thread (starting workers costs more). */
-const WORKER_MIN_BYTES = 4 * 1024 * 1024;
 /** Band buffers in flight across every raster being written (bounds the copies and compressed bytes held). */
 const WINDOW_BYTES = 64 * 1024 * 1024;
 
@@ -438,7 +436,7 @@ export function cogMayExceed4GiB(levels: Level[], bytesPerSample: number, header
 }
 
 /** Band buffers in flight across all writers of this process. */
-const window = {
+const inFlight = {
   used: 0,
   waiting: new Set<() => void>(),
   /** Take `bytes` unless the window is full (one band is always let through). */
@@ -490,7 +488,8 @@ async function writeCog(path: string, raster: RasterToWrite, options: GeoTiffWri
   const level = options.level ?? DEFLATE_LEVEL;
   const strategy = (options.strategy ?? 'rle') === 'rle' ? zlib.Z_RLE : zlib.Z_DEFAULT_STRATEGY;
   const threads = options.threads ?? defaultThreads();
-  const encoder: TileEncoder = tileEncoder(values.byteLength < WORKER_MIN_BYTES ? 1 : threads);
+  // a raster of one tile is compressed on this thread: starting workers would cost more
+  const encoder: TileEncoder = tileEncoder(levels[0].tilesX * levels[0].tilesY > 1 ? threads : 1);
   const fill = fillValue(values, nodata);
 
   // Directories: the full image, then the overviews, largest first.
@@ -571,7 +570,7 @@ async function writeCog(path: string, raster: RasterToWrite, options: GeoTiffWri
         if (band.level > 0) {
           for (let tx = 0; tx < done.length; tx++) overviewTiles[band.level][ty * l.tilesX + tx] = done[tx];
           overviewsPending--;
-          window.give(band.cost);
+          inFlight.give(band.cost);
           checkOverviews();
         } else {
           mainDone[ty].resolve(done); // its window share is given back once written
@@ -579,7 +578,7 @@ async function writeCog(path: string, raster: RasterToWrite, options: GeoTiffWri
         settleOne();
       },
       (err) => {
-        window.give(band.cost);
+        inFlight.give(band.cost);
         if (band.level === 0) given[ty] = true;
         fail(err);
         settleOne();
@@ -609,9 +608,9 @@ async function writeCog(path: string, raster: RasterToWrite, options: GeoTiffWri
         overviewsProduced = true;
         checkOverviews();
       }
-      if (!window.take(band.cost)) {
+      if (!inFlight.take(band.cost)) {
         stash = band;
-        window.waiting.add(pump);
+        inFlight.waiting.add(pump);
         return;
       }
       submit(band);
@@ -649,7 +648,7 @@ async function writeCog(path: string, raster: RasterToWrite, options: GeoTiffWri
       }
       await writeAll(fh, done, at);
       given[ty] = true;
-      window.give(mainCost[ty]);
+      inFlight.give(mainCost[ty]);
     }
     if (!big && pos > 0xffffffff) throw new Error(`${path}: the compressed raster passed 4 GiB in a classic TIFF`);
     const head = new Uint8Array(dataStart);
@@ -661,13 +660,13 @@ async function writeCog(path: string, raster: RasterToWrite, options: GeoTiffWri
     await rename(tmp, path);
   } catch (err) {
     fail(err);
-    window.waiting.delete(pump);
+    inFlight.waiting.delete(pump);
     // let every job in flight finish before giving up, so nothing runs on after the failure
     if (outstanding > 0) {
       drained = deferred<void>();
       await drained.promise;
     }
-    for (let ty = 0; ty < given.length; ty++) if (!given[ty] && mainCost[ty] > 0) window.give(mainCost[ty]);
+    for (let ty = 0; ty < given.length; ty++) if (!given[ty] && mainCost[ty] > 0) inFlight.give(mainCost[ty]);
     if (fh) await fh.close().catch(() => undefined);
     if (tmp) await unlink(tmp).catch(() => undefined);
     throw writeFailure(path, err);

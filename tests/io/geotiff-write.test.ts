@@ -87,7 +87,7 @@ describe('writeGeoTiff', () => {
         return super.subarray(begin, end);
       }
     }
-    const w = 1100, h = 1030; // > 4 MB: encoded by the worker pool, full-resolution bands copied to shared memory
+    const w = 1100, h = 1030; // several tiles: encoded by the worker pool, full-resolution bands copied to shared memory
     const values = new FailingLater(w * h).map((_, i) => i % 1000);
     const target = join(dir, 'failed-later.tif');
     await expect(
