@@ -134,7 +134,6 @@ parentPort.on('message', (m) => {
 `;
 
 type EncodeFn = (job: TileJob, deflate: typeof deflateSync) => Uint8Array;
-// eslint-disable-next-line @typescript-eslint/no-implied-eval
 const encodeHere = new Function(`${ENCODER_SOURCE}\nreturn encodeTile;`)() as EncodeFn;
 
 /** Encode one tile on the calling thread. */

@@ -182,6 +182,22 @@ describe.skipIf(!hasGdal)(`GDAL reads sill's Cloud Optimized GeoTIFFs${skipNote(
   }
 });
 
+describe("sill's reader", () => {
+  it('reads back the BigTIFF and a raster of partial tiles exactly', async () => {
+    for (const name of ['bigtiff-f32-700x600.tif', 'level-f64-1100x1030.tif']) {
+      const c = cases[name];
+      const path = join(dir, `reader-${name}`);
+      await writeGeoTiff(path, c.raster, { overviews: c.mode, bigTiff: c.bigTiff });
+      if (c.bigTiff) expect(readFileSync(path).readUInt16LE(2)).toBe(43); // the BigTIFF version number
+      const g = await readGeoTiff(path);
+      const nd = c.raster.nodata;
+      const want = Array.from(c.raster.values, (v) => (v !== v || (nd !== null && v === nd) ? NaN : v));
+      expect(mismatches(g.values, want), name).toEqual([]);
+      expect(g.transform).toEqual(c.raster.transform);
+    }
+  });
+});
+
 describe('COG bytes do not depend on the threads', () => {
   it('1, 2 and 3 threads, and values already in shared memory, give the same file', async () => {
     const c = cases['depth-f32-1536x1024.tif'].raster;
