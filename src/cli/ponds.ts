@@ -94,7 +94,7 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   let written: string[] = [];
   if (out) {
     progress.stage('writing files');
-    written = await writePondsFiles(out, result, report, { project, stageId, stageStep, progress, render });
+    written = await writePondsFiles(out, result, report, { project, stageId, stageStep, progress, render, threads });
   }
   progress.done();
   if (opts.json) await printChunks(reportJsonChunks(report, false));
@@ -109,26 +109,29 @@ interface WriteOptions {
   stageStep?: number;
   progress?: Progress;
   render?: ReportRequest | null;
+  /** Threads that compress the rasters (default: the number of cores). */
+  threads?: number;
 }
 
 /** The files `ponds -o DIR` always writes (--wgs84, --stage-volume and --report add theirs). */
 export const PONDS_FILES = ['filled.tif', 'depth.tif', 'labels.tif', 'depressions.geojson', 'depressions.csv', 'report.json'];
 
 export async function writePondsFiles(out: OutputFolder, result: PondsResult, report: PondsReport, w: WriteOptions = { project: null }): Promise<string[]> {
+  let rasters: Promise<void>[] = [];
   try {
     const g = result.grid;
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
     const R = result.rasters;
     const valueNodata = g.nodata !== null && Number.isFinite(g.nodata) ? g.nodata : NaN;
-    w.progress?.stage('writing filled.tif');
-    await writeGeoTiff(out.path('filled.tif'), { ...base, values: R.filled, nodata: valueNodata });
-    await out.checkpoint();
-    w.progress?.stage('writing depth.tif');
-    await writeGeoTiff(out.path('depth.tif'), { ...base, values: R.depth, nodata: -9999 });
-    await out.checkpoint();
-    w.progress?.stage('writing labels.tif');
+    // The rasters are compressed by worker threads while this thread writes the catalogues.
+    w.progress?.stage('writing filled.tif, depth.tif and labels.tif');
     const labels = report.labelLevel === 'top' ? topLabels(R.labels, result.hierarchy) : R.labels;
-    await writeGeoTiff(out.path('labels.tif'), { ...base, values: labels, nodata: -1 });
+    rasters = [
+      writeGeoTiff(out.path('filled.tif'), { ...base, values: R.filled, nodata: valueNodata }, { overviews: 'average', threads: w.threads }),
+      writeGeoTiff(out.path('depth.tif'), { ...base, values: R.depth, nodata: -9999 }, { overviews: 'average', threads: w.threads }),
+      writeGeoTiff(out.path('labels.tif'), { ...base, values: labels, nodata: -1 }, { overviews: 'nearest', threads: w.threads }),
+    ];
+    for (const r of rasters) r.catch(() => undefined); // awaited below
 
     await out.checkpoint();
     w.progress?.stage('tracing outlines');
@@ -159,8 +162,10 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     await out.checkpoint();
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'filled.tif', 'depth.tif', 'labels.tif'], (ctx) => buildPondsHtml(result, report, ctx));
+    await Promise.all(rasters);
     return await out.commit();
   } catch (e) {
+    await Promise.allSettled(rasters); // every raster writer has finished (and removed its temporary file)
     throw out.fail(e);
   }
 }

@@ -111,7 +111,7 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
   let written: string[] = [];
   if (out) {
     progress.stage('writing files');
-    written = await writeRunoffFiles(out, result, report, { stageId, stageStep, progress, render });
+    written = await writeRunoffFiles(out, result, report, { stageId, stageStep, progress, render, threads });
     progress.done();
   }
   if (opts.json) await printChunks(runoffJsonChunks(report, false));
@@ -125,21 +125,26 @@ interface WriteOptions {
   stageStep?: number;
   progress?: Progress;
   render?: ReportRequest | null;
+  /** Threads that compress the rasters (default: the number of cores). */
+  threads?: number;
 }
 
 /** The files `runoff -o DIR` always writes (--stage-volume and --report add theirs). */
 export const RUNOFF_FILES = ['water-level.tif', 'water-depth.tif', 'ponds.geojson', 'runoff.csv', 'report.json'];
 
 export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, report: RunoffReport, w: WriteOptions = {}): Promise<string[]> {
+  let rasters: Promise<void>[] = [];
   try {
     const g = result.grid;
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
     const R = result.rasters;
-    w.progress?.stage('writing water-level.tif');
-    await writeGeoTiff(out.path('water-level.tif'), { ...base, values: R.level, nodata: -9999 });
-    await out.checkpoint();
-    w.progress?.stage('writing water-depth.tif');
-    await writeGeoTiff(out.path('water-depth.tif'), { ...base, values: R.depth, nodata: -9999 });
+    // The rasters are compressed by worker threads while this thread writes the catalogues.
+    w.progress?.stage('writing water-level.tif and water-depth.tif');
+    rasters = [
+      writeGeoTiff(out.path('water-level.tif'), { ...base, values: R.level, nodata: -9999 }, { overviews: 'average', threads: w.threads }),
+      writeGeoTiff(out.path('water-depth.tif'), { ...base, values: R.depth, nodata: -9999 }, { overviews: 'average', threads: w.threads }),
+    ];
+    for (const r of rasters) r.catch(() => undefined); // awaited below
 
     await out.checkpoint();
     w.progress?.stage('tracing pond outlines');
@@ -169,8 +174,10 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     await out.checkpoint();
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'runoff.csv', 'ponds.geojson', 'water-level.tif', 'water-depth.tif'], (ctx) => buildRunoffHtml(result, report, ctx));
+    await Promise.all(rasters);
     return await out.commit();
   } catch (e) {
+    await Promise.allSettled(rasters); // every raster writer has finished (and removed its temporary file)
     throw out.fail(e);
   }
 }

@@ -1,5 +1,5 @@
 export { readGeoTiff, type GeoTiffReadOptions } from './geotiff-read.js';
-export { writeGeoTiff, type RasterToWrite, type RasterValues } from './geotiff-write.js';
+export { writeGeoTiff, type RasterToWrite, type RasterValues, type GeoTiffWriteOptions } from './geotiff-write.js';
 export { parseTextSurface, readTextSurface, LATTICE_TOLERANCE, LATTICE_MAX_FILL, type TextSurfaceOptions } from './text.js';
 export { readNpy, type NpyReadOptions } from './npy.js';
 export { loadSurface, detectFormat, type LoadOptions, type SurfaceFormat } from './load.js';

@@ -2,9 +2,8 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { existsSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { spawnSync } from 'node:child_process';
-import { writeGeoTiff, type RasterToWrite } from '../../src/io/geotiff-write.js';
+import { writeGeoTiff, cogLevels, cogMayExceed4GiB, type RasterToWrite } from '../../src/io/geotiff-write.js';
 import { readGeoTiff } from '../../src/io/geotiff-read.js';
-import { InputError } from '../../src/errors.js';
 import { hasGdal, mismatches, PYTHON, tempDir } from './helpers.js';
 
 const { dir, cleanup } = tempDir();
@@ -44,29 +43,31 @@ function expectedValues(r: RasterToWrite): number[] {
 describe('writeGeoTiff', () => {
   const rasters = samples();
 
-  it('round-trips values, transform, CRS and nodata through readGeoTiff', async () => {
-    for (const [name, r] of Object.entries(rasters)) {
-      const path = join(dir, name);
-      await writeGeoTiff(path, r);
-      const g = await readGeoTiff(path);
-      // readGeoTiff itself agrees with GDAL on every fixture layout (geotiff-read.test.ts)
-      expect([g.width, g.height]).toEqual([r.width, r.height]);
-      expect(g.transform).toEqual(r.transform);
-      expect(g.crs?.epsg).toBe(r.crs?.epsg);
-      if (r.crs) expect(g.crs?.geographic).toBe(r.crs.geographic === true);
-      expect(g.nodata).toEqual(r.nodata);
-      expect(mismatches(g.values, expectedValues(r)), name).toEqual([]);
-    }
-  });
+  for (const layout of ['cog', 'strips'] as const) {
+    it(`round-trips values, transform, CRS and nodata through readGeoTiff (${layout})`, async () => {
+      for (const [name, r] of Object.entries(rasters)) {
+        const path = join(dir, `${layout}-${name}`);
+        await writeGeoTiff(path, r, { layout });
+        const g = await readGeoTiff(path);
+        // readGeoTiff itself agrees with GDAL on every fixture layout (geotiff-read.test.ts)
+        expect([g.width, g.height]).toEqual([r.width, r.height]);
+        expect(g.transform).toEqual(r.transform);
+        expect(g.crs?.epsg).toBe(r.crs?.epsg);
+        if (r.crs) expect(g.crs?.geographic).toBe(r.crs.geographic === true);
+        expect(g.nodata).toEqual(r.nodata);
+        expect(mismatches(g.values, expectedValues(r)), name).toEqual([]);
+      }
+    });
+  }
 
   it('leaves no temporary file behind', () => {
     expect(readdirSync(dir).filter((f) => f.endsWith('.tmp'))).toEqual([]);
   });
 
-  it('removes the temporary file and writes nothing when writing fails midway', async () => {
+  it('removes the temporary file and writes nothing when writing fails at the start', async () => {
     class Failing extends Float32Array {
-      override subarray(): never {
-        throw new Error('simulated failure while writing values');
+      override get buffer(): never {
+        throw new Error('simulated failure while reading values');
       }
     }
     const values = new Failing(12);
@@ -78,23 +79,48 @@ describe('writeGeoTiff', () => {
     expect(readdirSync(dir).filter((f) => f.includes('failed.tif'))).toEqual([]);
   });
 
+  it('removes the temporary file when writing fails midway, with tiles in flight on worker threads', async () => {
+    let calls = 0;
+    class FailingLater extends Float32Array {
+      override subarray(begin?: number, end?: number): Float32Array<ArrayBuffer> {
+        if (++calls === 2) throw new Error('simulated failure in the second band');
+        return super.subarray(begin, end);
+      }
+    }
+    const w = 1100, h = 1030; // several tiles: encoded by the worker pool, full-resolution bands copied to shared memory
+    const values = new FailingLater(w * h).map((_, i) => i % 1000);
+    const target = join(dir, 'failed-later.tif');
+    await expect(
+      writeGeoTiff(target, { width: w, height: h, values, transform: [0, 1, 0, 3, 0, -1], crs: null, nodata: null }, { threads: 2 }),
+    ).rejects.toThrow('simulated failure in the second band');
+    expect(calls).toBe(2);
+    expect(existsSync(target)).toBe(false);
+    expect(readdirSync(dir).filter((f) => f.includes('failed-later.tif'))).toEqual([]);
+  });
+
   it('reports a folder that cannot be written to', async () => {
     const r = rasters['u8.tif'];
     await expect(writeGeoTiff(join(dir, 'no', 'such', 'folder', 'x.tif'), r)).rejects.toThrow(/cannot write .*x\.tif: /);
   });
 
-  it('refuses rasters that need more than a classic TIFF (4 GiB)', async () => {
-    class Huge extends Float64Array {
-      override get length(): number {
-        return 30000 * 30000;
-      }
-    }
-    const err = await writeGeoTiff(join(dir, 'huge.tif'), {
-      width: 30000, height: 30000, values: new Huge(1), transform: [0, 1, 0, 0, 0, -1], crs: null, nodata: null,
-    }).catch((e) => e);
-    expect(err).toBeInstanceOf(InputError);
-    expect(err.message).toMatch(/more than a classic TIFF can hold/);
-    expect(existsSync(join(dir, 'huge.tif'))).toBe(false);
+  it('plans a BigTIFF when the compressed file may pass 4 GiB', () => {
+    // zlib's worst case for incompressible data is a little above the input size: a raster whose
+    // raw tiles come near 4 GiB must be a BigTIFF; one well below must not.
+    const header = 4096;
+    expect(cogMayExceed4GiB(cogLevels(30000, 30000, true), 8, header)).toBe(true); // 7.2 GB of float64
+    expect(cogMayExceed4GiB(cogLevels(32000, 32000, true), 4, header)).toBe(true); // 4.1 GB of float32 + overviews
+    expect(cogMayExceed4GiB(cogLevels(25000, 25000, true), 4, header)).toBe(false); // 2.5 GB + 0.9 GB of overviews (padded tiles)
+    expect(cogMayExceed4GiB(cogLevels(31000, 31000, false), 4, header)).toBe(false); // 3.9 GB, no overviews
+    expect(cogMayExceed4GiB(cogLevels(10000, 10000, true), 4, header)).toBe(false);
+  });
+
+  it('lays out the overviews: halving (rounded up) until one tile holds the image', () => {
+    const sizes = (w: number, h: number) => cogLevels(w, h, true).map((l) => [l.width, l.height]);
+    expect(sizes(2000, 2000)).toEqual([[2000, 2000], [1000, 1000], [500, 500]]);
+    expect(sizes(1100, 1030)).toEqual([[1100, 1030], [550, 515], [275, 258]]);
+    expect(sizes(512, 512)).toEqual([[512, 512]]);
+    expect(sizes(513, 3)).toEqual([[513, 3], [257, 2]]);
+    expect(cogLevels(4000, 4000, false)).toHaveLength(1);
   });
 
   it('refuses malformed rasters', async () => {
@@ -133,10 +159,10 @@ print(json.dumps(out))
 describe.skipIf(!hasGdal)(
   `GDAL reads files written by writeGeoTiff${hasGdal ? '' : ' (skipped: /usr/bin/python3 with osgeo.gdal is not installed)'}`,
   () => {
-    it('with the same transform, EPSG code, nodata and values', async () => {
+    it.each(['cog', 'strips'] as const)('with the same transform, EPSG code, nodata and values (%s)', async (layout) => {
       const rasters = samples();
-      const paths = Object.keys(rasters).map((n) => join(dir, `gdal-${n}`));
-      await Promise.all(Object.values(rasters).map((r, i) => writeGeoTiff(paths[i], r)));
+      const paths = Object.keys(rasters).map((n) => join(dir, `gdal-${layout}-${n}`));
+      await Promise.all(Object.values(rasters).map((r, i) => writeGeoTiff(paths[i], r, { layout })));
       const run = spawnSync(PYTHON, ['-c', GDAL_READ, ...paths], { encoding: 'utf8' });
       expect(run.status, run.stderr).toBe(0);
       const seen = JSON.parse(run.stdout);
