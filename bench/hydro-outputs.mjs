@@ -11,11 +11,12 @@
  * float64 white-noise grid in degrees, a spectral terrain when /usr/bin/python3 has NumPy, the
  * demo DEM), then runs each command line of RUNS on each input it applies to and keeps, per run,
  * the output folder, stdout (the --json document or the summary), stderr and the exit status.
- * `compare` lists every file that differs or exists on one side only, and exits 1 if any does.
+ * `compare` lists every file that differs or exists on one side only (the save folders' own paths,
+ * which reports and summaries name, and the report page's time of making replaced by placeholders), and exits 1 if any does.
  */
 import { spawnSync } from 'node:child_process';
 import { mkdirSync, readdirSync, readFileSync, writeFileSync, existsSync, statSync, rmSync } from 'node:fs';
-import { join, dirname, relative } from 'node:path';
+import { join, dirname, relative, resolve } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { fractalTerrain, makeRandom } from './lib/terrain.mjs';
 
@@ -128,7 +129,10 @@ if (mode === 'save') {
   for (const f of all) {
     const pa = join(a, 'runs', f), pb = join(b, 'runs', f);
     if (!existsSync(pa) || !existsSync(pb)) { console.log(`only in ${existsSync(pa) ? 'before' : 'after'}: ${f}`); bad++; continue; }
-    const x = readFileSync(pa), y = readFileSync(pb);
+    // the two save folders' own paths appear in reports and summaries: put a placeholder for them
+    // and the report page's time of making
+    const norm = (buf, root) => Buffer.from(buf.toString('latin1').split(resolve(root)).join('<save folder>').replace(/\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d\.\d{3}Z/g, '<time>'), 'latin1');
+    const x = norm(readFileSync(pa), a), y = norm(readFileSync(pb), b);
     if (x.equals(y)) { same++; continue; }
     let k = 0;
     while (k < x.length && k < y.length && x[k] === y[k]) k++;

@@ -1,22 +1,24 @@
 /** `sill ponds IN`: depression hierarchy, spill levels, pour points, volumes; filled/depth/label rasters. */
 import { Option, type Command } from 'commander';
 import { InputError } from '../errors.js';
-import { pondsReport, pondsCsvColumns, type PondsReport, type DepressionRecord } from '../report/ponds.js';
+import { pondsReport, pondsCsvColumns, type PondsReport } from '../report/ponds.js';
+import { childrenText, topK, type DepressionColumns } from '../report/hydro-common.js';
 import type { PondsResult } from '../hydro/ponds.js';
 import { topLabels } from '../hydro/rasters.js';
-import { depressionOutlines, type DepressionOutline } from '../hydro/vectors.js';
+import { traceDepressionOutlines, type PolygonCoords } from '../hydro/vectors.js';
 import { toWgs84 } from '../hydro/reproject.js';
 import { stageVolume } from '../hydro/stage.js';
 import { writeGeoTiff } from '../io/index.js';
-import { pointFeature, type Feature } from '../io/tables.js';
-import type { OutputFolder } from '../io/outdir.js';
-import { addCommonOptions, parseNumber, Progress, say, fmt, fmtCoord, openOutput } from './common.js';
+import { collectionHead } from '../io/tables.js';
+import { TextSink, FeatureCollectionWriter, featureJson, pointJson, polygonsJson, formatNumber as jn } from '../io/stream.js';
+import { OutputFolder } from '../io/outdir.js';
+import { addCommonOptions, parseNumber, Progress, say, fmt, fmtCoord } from './common.js';
 import {
-  parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printChunks, writeChunks, listJsonChunks, csvChunks,
-  collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
+  parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printReport, writeReportFile, writeIdCsv,
+  stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
-import { reportRequest, addReport, reportSummary, reportNames, flagsOf, PONDS_FLAGS, type ReportRequest } from './report-option.js';
+import { reportRequest, addReport, reportSummary, flagsOf, PONDS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildPondsReport as buildPondsHtml } from '../render/html/ponds.js';
 
 export interface PondsCliOptions extends HydroCliOptions {
@@ -71,9 +73,6 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   const { zFactor, stageId, stageStep } = parseZAndStage(opts);
   const render = reportRequest('ponds', [input], { ...opts }, flagsOf({ ...opts }, PONDS_FLAGS));
   if (opts.wgs84 && !opts.out) throw new InputError('--wgs84 writes depressions-wgs84.geojson: give an output folder with -o/--out');
-  const out = openOutput(opts, 'ponds', [
-    ...PONDS_FILES, ...(opts.wgs84 ? ['depressions-wgs84.geojson'] : []), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render),
-  ], [input]);
 
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
@@ -88,12 +87,12 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   // check --wgs84 before writing anything
   const project = opts.wgs84 ? toWgs84(result.grid.crs, input) : null;
   let written: string[] = [];
-  if (out) {
+  if (opts.out) {
     progress.stage('writing files');
-    written = await writePondsFiles(out, result, report, { project, stageId, stageStep, progress, render });
+    written = await writePondsFiles(opts.out, result, report, { project, stageId, stageStep, progress, render });
   }
   progress.done();
-  if (opts.json) await printChunks(reportJsonChunks(report, false));
+  if (opts.json) printReport(report);
   say(opts, pondsSummary(report, opts.out, written));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
@@ -107,10 +106,8 @@ interface WriteOptions {
   render?: ReportRequest | null;
 }
 
-/** The files `ponds -o DIR` always writes (--wgs84, --stage-volume and --report add theirs). */
-export const PONDS_FILES = ['filled.tif', 'depth.tif', 'labels.tif', 'depressions.geojson', 'depressions.csv', 'report.json'];
-
-export async function writePondsFiles(out: OutputFolder, result: PondsResult, report: PondsReport, w: WriteOptions = { project: null }): Promise<string[]> {
+export async function writePondsFiles(dir: string, result: PondsResult, report: PondsReport, w: WriteOptions = { project: null }): Promise<string[]> {
+  const out = new OutputFolder(dir);
   try {
     const g = result.grid;
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
@@ -118,20 +115,12 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     const valueNodata = g.nodata !== null && Number.isFinite(g.nodata) ? g.nodata : NaN;
     w.progress?.stage('writing filled.tif');
     await writeGeoTiff(out.path('filled.tif'), { ...base, values: R.filled, nodata: valueNodata });
-    await out.checkpoint();
     w.progress?.stage('writing depth.tif');
     await writeGeoTiff(out.path('depth.tif'), { ...base, values: R.depth, nodata: -9999 });
-    await out.checkpoint();
     w.progress?.stage('writing labels.tif');
     const labels = report.labelLevel === 'top' ? topLabels(R.labels, result.hierarchy) : R.labels;
     await writeGeoTiff(out.path('labels.tif'), { ...base, values: labels, nodata: -1 });
 
-    await out.checkpoint();
-    w.progress?.stage('tracing outlines');
-    const outlines = depressionOutlines(g, R.labels, result.hierarchy);
-    report.outlines = outlinesEntry(outlines,
-      (omitted) => `${omitted} nested merged depressions have no polygon in depressions.geojson (null geometry): tracing every level of this deep hierarchy would scan the grid too many times; the top-level and leaf depressions and the largest nested ones are traced — use --min-depth, --min-area or --min-volume to simplify the hierarchy`,
-      'every depression has its polygon');
     const tokens = result.areas.units.tokens;
     const meta = {
       name: 'depressions',
@@ -139,67 +128,77 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
       units: report.units,
       caution: report.caution,
     };
-    await out.checkpoint();
-    w.progress?.stage('writing depressions.geojson');
-    writeChunks(out.path('depressions.geojson'), featureChunks(report, outlines, null, g.crs, meta));
-    if (w.project) writeChunks(out.path('depressions-wgs84.geojson'), featureChunks(report, outlines, w.project, null, { ...meta, name: 'depressions-wgs84' }));
-    await out.checkpoint();
+    w.progress?.stage('tracing outlines, writing depressions.geojson');
+    const counts = writeDepressionsGeojson(out.path('depressions.geojson'), w.project ? out.path('depressions-wgs84.geojson') : null, result, report.depressions.columns, w.project, meta);
+    report.outlines = outlinesEntry(counts,
+      (omitted) => `${omitted} nested merged depressions have no polygon in depressions.geojson (null geometry): tracing every level of this deep hierarchy would scan the grid too many times; the top-level and leaf depressions and the largest nested ones are traced — use --min-depth, --min-area or --min-volume to simplify the hierarchy`,
+      'every depression has its polygon');
     w.progress?.stage('writing depressions.csv');
-    writeChunks(out.path('depressions.csv'), csvChunks(report.depressions, pondsCsvColumns(tokens)));
+    writeIdCsv(out.path('depressions.csv'), report.depressions.length, pondsCsvColumns(result, report.depressions.columns, tokens));
     if (w.stageId !== undefined) {
       out.write(`stage-volume-${w.stageId}.csv`, stageCsv(stageVolume(result, w.stageId, w.stageStep), tokens));
     }
-    await out.checkpoint();
     w.progress?.stage('writing report.json');
-    writeChunks(out.path('report.json'), reportJsonChunks(report, true));
-    await out.checkpoint();
+    writeReportFile(out.path('report.json'), report);
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'filled.tif', 'depth.tif', 'labels.tif'], (ctx) => buildPondsHtml(result, report, ctx));
-    return await out.commit();
+    return out.commit();
   } catch (e) {
-    throw out.fail(e);
+    out.abort();
+    throw e;
   }
 }
 
-function depressionProps(d: DepressionRecord): Record<string, unknown> {
-  return {
-    kind: 'depression', id: d.id, parent: d.parent, level: d.level, type: d.kind, children: d.children.join(' '),
-    pitValue: d.pitValue, spillValue: d.spillValue, into: d.into, cells: d.cells, area: d.area, volume: d.volume,
-    maxDepth: d.maxDepth, meanDepth: d.meanDepth, pourCol: d.pour.col, pourRow: d.pour.row,
-  };
+/** The properties of depression `d`'s polygon feature as JSON text, from the columns. */
+function depressionPropsJson(result: PondsResult, cols: DepressionColumns, d: number): string {
+  const H = result.hierarchy, W = result.grid.width;
+  const p = H.parent[d], into = H.into[d], pass = H.spillCell[d], row = Math.floor(pass / W);
+  return `{"kind":"depression","id":${d},"parent":${p === 0 ? 'null' : p},"level":${H.level[d]},"type":${H.childStart[d + 1] === H.childStart[d] ? '"leaf"' : '"merged"'}` +
+    `,"children":"${childrenText(H, d, ' ')}","pitValue":${jn(cols.pitValue[d])},"spillValue":${jn(cols.spillValue[d])},"into":${into === 0 ? '"outside"' : into}` +
+    `,"cells":${jn(H.wetCells[d])},"area":${jn(H.area[d])},"volume":${jn(H.volume[d])},"maxDepth":${jn(cols.maxDepth[d])},"meanDepth":${jn(H.meanDepth[d])}` +
+    `,"pourCol":${pass - row * W},"pourRow":${row}}`;
 }
 
-/** The report as JSON text in pieces: every key, then the depressions one record a line. */
-export function reportJsonChunks(report: PondsReport, pretty: boolean): Generator<string> {
-  return listJsonChunks(report, ['depressions'], pretty);
+/** A traced outline's geometry: null when it was left out, else its polygons (an empty MultiPolygon for none). */
+function outlineGeometry(polygons: PolygonCoords[] | null, project: ((x: number, y: number) => [number, number]) | null): string {
+  if (polygons === null) return 'null';
+  return polygons.length === 0 ? '{"type":"MultiPolygon","coordinates":[]}' : polygonsJson(polygons, project);
 }
 
 /**
- * depressions.geojson in pieces, in the layout of featureCollection (src/io/tables.ts): the
- * collection's members, then one feature at a time — a polygon per depression (null geometry when
- * its outline was left out), then a point per pour point.
+ * depressions.geojson (and, with `project`, depressions-wgs84.geojson alongside), streamed: the
+ * collection's members, a polygon per depression as its outline is traced (null geometry when it
+ * was left out), then a point per pour point. Returns the tracing's counts.
  */
-function featureChunks(report: PondsReport, outlines: DepressionOutline[], project: ((x: number, y: number) => [number, number]) | null, crs: PondsResult['grid']['crs'], meta: Record<string, unknown>): Generator<string> {
-  const P = project ?? ((x: number, y: number): [number, number] => [x, y]);
-  const features = function* (): Generator<Feature> {
-    for (const o of outlines) {
-      const d = report.depressions[o.id - 1];
-      const coords = o.polygons.map((poly) => poly.map((ring) => ring.map(([x, y]) => P(x, y))));
-      yield {
-        type: 'Feature', id: d.id,
-        geometry: o.omitted ? null : coords.length === 1 ? { type: 'Polygon', coordinates: coords[0] } : { type: 'MultiPolygon', coordinates: coords },
-        properties: depressionProps(d),
-      };
+function writeDepressionsGeojson(path: string, wgsPath: string | null, result: PondsResult, cols: DepressionColumns,
+  project: ((x: number, y: number) => [number, number]) | null, meta: Record<string, unknown>): { traced: number; omitted: number } {
+  const g = result.grid, H = result.hierarchy, W = g.width;
+  const sink = TextSink.file(path);
+  const wgs = wgsPath && project ? TextSink.file(wgsPath) : null;
+  try {
+    const fc = new FeatureCollectionWriter(sink, collectionHead(g.crs, meta));
+    const fw = wgs ? new FeatureCollectionWriter(wgs, collectionHead(null, { ...meta, name: 'depressions-wgs84' })) : null;
+    const counts = traceDepressionOutlines(g, result.rasters.labels, H, (d, polygons) => {
+      const props = depressionPropsJson(result, cols, d);
+      fc.feature(featureJson(d, outlineGeometry(polygons, null), props));
+      fw?.feature(featureJson(d, outlineGeometry(polygons, project), props));
+    });
+    for (let d = 1; d <= H.count; d++) {
+      const pass = H.spillCell[d], row = Math.floor(pass / W), col = pass - row * W;
+      const x = g.x(col, row), y = g.y(col, row);
+      const into = H.into[d];
+      const props = `{"kind":"pour point","id":${d},"spillValue":${jn(cols.spillValue[d])},"into":${into === 0 ? '"outside"' : into},"pourCol":${col},"pourRow":${row}` +
+        `,"toCol":${cols.toCol[d]},"toRow":${cols.toRow[d]},"toOutside":${cols.toOutside[d] === 1 ? 'true' : 'false'}}`;
+      fc.feature(featureJson(undefined, pointJson(x, y), props));
+      if (fw && project) { const [px, py] = project(x, y); fw.feature(featureJson(undefined, pointJson(px, py), props)); }
     }
-    for (const d of report.depressions) {
-      const [x, y] = P(d.pour.x, d.pour.y);
-      yield pointFeature(x, y, {
-        kind: 'pour point', id: d.id, spillValue: d.spillValue, into: d.into, pourCol: d.pour.col, pourRow: d.pour.row,
-        toCol: d.pour.to.col, toRow: d.pour.to.row, toOutside: d.pour.to.outside,
-      });
-    }
-  };
-  return collectionChunks(crs, meta, features());
+    fc.end();
+    fw?.end();
+    return counts;
+  } finally {
+    sink.close();
+    wgs?.close();
+  }
 }
 
 export function pondsSummary(r: PondsReport, outDir?: string, files: string[] = []): string {
@@ -223,7 +222,8 @@ export function pondsSummary(r: PondsReport, outDir?: string, files: string[] = 
   lines.push(`units        elevations and depths in ${u.elevation}, areas in ${u.area}, volumes in ${u.volume}; horizontal: ${u.horizontal}`);
   for (const note of u.notes) lines.push(`             ${note}`);
   const geo = !!s.crs?.geographic;
-  const top = [...r.depressions].sort((a, b) => b.volume - a.volume || a.id - b.id).slice(0, 5);
+  // the five largest by a bounded selection over the volume column (ties: the smaller id)
+  const top = topK(r.depressions.columns.volume, 1, r.depressions.length + 1, 5).map((id) => r.depressions.at(id - 1));
   if (top.length) {
     lines.push('largest:');
     for (const d of top) {
@@ -234,3 +234,4 @@ export function pondsSummary(r: PondsReport, outDir?: string, files: string[] = 
   lines.push(...summaryTail(r, outDir, files));
   return lines.join('\n');
 }
+

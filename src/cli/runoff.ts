@@ -1,23 +1,22 @@
 /** `sill runoff IN --depth D`: route a runoff depth through the depression hierarchy (fill, spill, merge). */
 import { Option, type Command } from 'commander';
 import { InputError } from '../errors.js';
-import { runoffReport, runoffCsvColumns, type RunoffReport, type PondRecord } from '../report/runoff.js';
+import { runoffReport, runoffCsvColumns, type RunoffReport } from '../report/runoff.js';
 import type { RunoffResult } from '../hydro/runoff.js';
 import { runoffStageVolume } from '../hydro/runoff.js';
 import { parseDepth, depthUnit, DEPTH_UNITS } from '../hydro/runoff-input.js';
-import { bodyOutlines } from '../hydro/runoff-vectors.js';
-import type { DepressionOutline } from '../hydro/vectors.js';
+import { traceBodyOutlines } from '../hydro/runoff-vectors.js';
 import { writeGeoTiff, loadSurface } from '../io/index.js';
-import type { Feature } from '../io/tables.js';
-import type { OutputFolder } from '../io/outdir.js';
+import { featureJson, polygonsJson, formatNumber as jn } from '../io/stream.js';
+import { OutputFolder } from '../io/outdir.js';
 import type { Grid } from '../surface/grid.js';
-import { addCommonOptions, parseNumber, Progress, say, fmt, openOutput } from './common.js';
+import { addCommonOptions, parseNumber, Progress, say, fmt } from './common.js';
 import {
-  parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printChunks, writeChunks, listJsonChunks, csvChunks,
-  collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
+  parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printReport, writeReportFile, writeIdCsv, withCollection,
+  stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
-import { reportRequest, addReport, reportSummary, reportNames, flagsOf, type FlagSpec, type ReportRequest } from './report-option.js';
+import { reportRequest, addReport, reportSummary, flagsOf, type FlagSpec, type ReportRequest } from './report-option.js';
 import { buildRunoffHtml } from '../render/html/runoff.js';
 
 export interface RunoffCliOptions extends HydroCliOptions {
@@ -84,8 +83,6 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
   }
   const { zFactor, stageId, stageStep } = parseZAndStage(opts);
   const render = reportRequest('runoff', [input], { ...opts }, flagsOf({ ...opts }, RUNOFF_FLAGS));
-  const out = openOutput(opts, 'runoff', [...RUNOFF_FILES, ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render)],
-    [input, opts.depthRaster, opts.initialLevel]);
 
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
@@ -104,12 +101,12 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
   progress.done();
   for (const w of report.warnings) process.stderr.write(`sill: warning: ${w}\n`);
   let written: string[] = [];
-  if (out) {
+  if (opts.out) {
     progress.stage('writing files');
-    written = await writeRunoffFiles(out, result, report, { stageId, stageStep, progress, render });
+    written = await writeRunoffFiles(opts.out, result, report, { stageId, stageStep, progress, render });
     progress.done();
   }
-  if (opts.json) await printChunks(runoffJsonChunks(report, false));
+  if (opts.json) printReport(report);
   say(opts, runoffSummary(report, opts.out, written));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
@@ -122,77 +119,53 @@ interface WriteOptions {
   render?: ReportRequest | null;
 }
 
-/** The files `runoff -o DIR` always writes (--stage-volume and --report add theirs). */
-export const RUNOFF_FILES = ['water-level.tif', 'water-depth.tif', 'ponds.geojson', 'runoff.csv', 'report.json'];
-
-export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, report: RunoffReport, w: WriteOptions = {}): Promise<string[]> {
+export async function writeRunoffFiles(dir: string, result: RunoffResult, report: RunoffReport, w: WriteOptions = {}): Promise<string[]> {
+  const out = new OutputFolder(dir);
   try {
     const g = result.grid;
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
     const R = result.rasters;
     w.progress?.stage('writing water-level.tif');
     await writeGeoTiff(out.path('water-level.tif'), { ...base, values: R.level, nodata: -9999 });
-    await out.checkpoint();
     w.progress?.stage('writing water-depth.tif');
     await writeGeoTiff(out.path('water-depth.tif'), { ...base, values: R.depth, nodata: -9999 });
 
-    await out.checkpoint();
-    w.progress?.stage('tracing pond outlines');
-    const outlines = bodyOutlines(g, R.bodies, result.bodies.count, result.bodies.volume);
-    report.outlines = outlinesEntry(outlines,
-      (omitted) => `${omitted} of the smallest ponds have no polygon in ponds.geojson (null geometry): their bounding boxes would take the tracing past its budget of 8 × the grid's cells; water-depth.tif has every one`,
-      'every pond has its polygon');
     const tokens = result.areas.units.tokens;
-    await out.checkpoint();
-    w.progress?.stage('writing ponds.geojson');
-    writeChunks(out.path('ponds.geojson'), pondChunks(report, outlines, g.crs, {
+    w.progress?.stage('tracing pond outlines, writing ponds.geojson');
+    const meta = {
       name: 'ponds',
       description: `water standing after routing ${report.runoff.depthText ?? 'the runoff'} through the depressions: one polygon per pond (connected water under one level)`,
       units: report.units,
       water: report.water,
       caution: report.caution,
-    }));
-    await out.checkpoint();
+    };
+    const B = result.bodies;
+    let counts = { traced: 0, omitted: 0 };
+    withCollection(out.path('ponds.geojson'), g.crs, meta, (fc) => {
+      // one polygon per pond, written as it is traced
+      counts = traceBodyOutlines(g, R.bodies, B.count, B.volume, (b, polygons) => {
+        const props = `{"kind":"pond","id":${b},"volume":${jn(B.volume[b])},"level":${jn(B.level[b])},"area":${jn(B.area[b])},"cells":${jn(B.cells[b])}` +
+          `,"maxDepth":${jn(B.maxDepth[b])},"depression":${B.depression[b] > 0 ? B.depression[b] : 'null'},"full":${B.full[b] === 1 ? 'true' : 'false'}}`;
+        fc.feature(featureJson(b, polygons === null || polygons.length === 0 ? 'null' : polygonsJson(polygons), props));
+      });
+    });
+    report.outlines = outlinesEntry(counts,
+      (omitted) => `${omitted} of the smallest ponds have no polygon in ponds.geojson (null geometry): their bounding boxes would take the tracing past its budget of 8 × the grid's cells; water-depth.tif has every one`,
+      'every pond has its polygon');
     w.progress?.stage('writing runoff.csv');
-    writeChunks(out.path('runoff.csv'), csvChunks(report.depressions, runoffCsvColumns(tokens)));
+    writeIdCsv(out.path('runoff.csv'), report.depressions.length, runoffCsvColumns(result, report.depressions.columns, tokens));
     if (w.stageId !== undefined) {
       out.write(`stage-volume-${w.stageId}.csv`, stageCsv(runoffStageVolume(result, w.stageId, w.stageStep), tokens));
     }
-    await out.checkpoint();
     w.progress?.stage('writing report.json');
-    writeChunks(out.path('report.json'), runoffJsonChunks(report, true));
-    await out.checkpoint();
+    writeReportFile(out.path('report.json'), report);
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'runoff.csv', 'ponds.geojson', 'water-level.tif', 'water-depth.tif'], (ctx) => buildRunoffHtml(result, report, ctx));
-    return await out.commit();
+    return out.commit();
   } catch (e) {
-    throw out.fail(e);
+    out.abort();
+    throw e;
   }
-}
-
-/** The report as JSON text in pieces: every key, then the depressions and the ponds one record a line. */
-export function runoffJsonChunks(report: RunoffReport, pretty: boolean): Generator<string> {
-  return listJsonChunks(report, ['depressions', 'ponds'], pretty);
-}
-
-function pondProps(p: PondRecord): Record<string, unknown> {
-  return { kind: 'pond', id: p.id, volume: p.volume, level: p.level, area: p.area, cells: p.cells, maxDepth: p.maxDepth, depression: p.depression, full: p.full };
-}
-
-/** ponds.geojson in pieces, in the layout of featureCollection (src/io/tables.ts): one polygon per pond. */
-function pondChunks(report: RunoffReport, outlines: DepressionOutline[], crs: Grid['crs'], meta: Record<string, unknown>): Generator<string> {
-  const features = function* (): Generator<Feature> {
-    for (const o of outlines) {
-      const p = report.ponds[o.id - 1];
-      yield {
-        type: 'Feature', id: p.id,
-        geometry: o.omitted || o.polygons.length === 0 ? null
-          : o.polygons.length === 1 ? { type: 'Polygon', coordinates: o.polygons[0] } : { type: 'MultiPolygon', coordinates: o.polygons },
-        properties: pondProps(p),
-      };
-    }
-  };
-  return collectionChunks(crs, meta, features());
 }
 
 const pct = (x: number) => `${fmt(100 * x, 3)} %`;
@@ -216,7 +189,7 @@ export function runoffSummary(r: RunoffReport, outDir?: string, files: string[] 
   if (c.closedRegions > 0) lines.push(`no outlet    ${c.closedRegions} walled-in region${c.closedRegions === 1 ? '' : 's'} hold${c.closedRegions === 1 ? 's' : ''} ${fmt(r.totals.closedRegionWater)} ${v}`);
   lines.push(`units        elevations and levels in ${u.elevation}, areas in ${u.area}, volumes in ${v}; horizontal: ${u.horizontal}`);
   for (const note of u.notes) lines.push(`             ${note}`);
-  const top = r.ponds.slice(0, 5);
+  const top = Array.from({ length: Math.min(5, r.ponds.length) }, (_, i) => r.ponds.at(i)); // ponds are numbered largest first
   if (top.length) {
     lines.push('largest ponds:');
     for (const p of top) {

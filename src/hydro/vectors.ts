@@ -11,6 +11,7 @@
 import { contours, type Contours } from 'd3-contour';
 import type { Grid } from '../surface/grid.js';
 import type { Hierarchy } from './hierarchy.js';
+import { sortOrder } from '../morse/order.js';
 
 export type Ring = [number, number][];
 export type PolygonCoords = Ring[];
@@ -139,37 +140,50 @@ export function cornerRing(ring: number[][]): Ring {
 
 /**
  * Outline of every depression at its spill level (its wet cells, nested depressions included),
- * within a budget of scanned cells (see OutlineOptions).
+ * within a budget of scanned cells (see OutlineOptions), handed to `visit` one depression at a
+ * time in id order: its polygons, or null when it was left out by the budget. Nothing is kept
+ * between depressions. Returns how many were traced and left out.
  * @param labels innermost depression id per cell (0 none, −1 nodata)
  */
-export function depressionOutlines(grid: Grid, labels: Int32Array, hier: Hierarchy, opts: OutlineOptions = {}): DepressionOutline[] {
+export function traceDepressionOutlines(grid: Grid, labels: Int32Array, hier: Hierarchy, visit: (id: number, polygons: PolygonCoords[] | null) => void, opts: OutlineOptions = {}): { traced: number; omitted: number } {
   const W = grid.width;
   const box = depressionBoxes(labels, W, hier);
-  const cost = (d: number): number => boxCells(box, d);
   const trace = new Uint8Array(hier.count + 1);
   let budget = opts.budget ?? 8 * labels.length;
-  const nested: number[] = [];
+  let nNested = 0;
   for (let d = 1; d <= hier.count; d++) {
     const leaf = hier.childStart[d + 1] === hier.childStart[d];
-    if (hier.parent[d] === 0 || leaf) { trace[d] = 1; budget -= cost(d); } else nested.push(d);
+    if (hier.parent[d] === 0 || leaf) { trace[d] = 1; budget -= boxCells(box, d); } else nNested++;
   }
-  nested.sort((a, b) => hier.volume[b] - hier.volume[a] || a - b);
-  for (const d of nested) {
-    const c = cost(d);
+  // nested merged depressions, largest volume first (ties: smaller id), while the budget lasts
+  const nested = new Int32Array(nNested), negVolume = new Float64Array(nNested);
+  for (let d = 1, q = 0; d <= hier.count; d++) {
+    if (trace[d]) continue;
+    nested[q] = d;
+    negVolume[q++] = 0 - hier.volume[d];
+  }
+  const byVolume = sortOrder(negVolume);
+  for (let q = 0; q < byVolume.length; q++) {
+    const d = nested[byVolume[q]];
+    const c = boxCells(box, d);
     if (c > budget) continue;
     trace[d] = 1;
     budget -= c;
   }
   const { tin, tout } = hier;
   const gen = contours().smooth(false).thresholds([0.5]);
-  const out: DepressionOutline[] = [];
+  let traced = 0, omitted = 0;
+  let mask = new Uint8Array(0);
   for (let d = 1; d <= hier.count; d++) {
     const b = 4 * d;
     const c0 = box[b], r0 = box[b + 1], c1 = box[b + 2], r1 = box[b + 3];
-    if (!trace[d]) { out.push({ id: d, polygons: [], omitted: true }); continue; }
-    if (c1 < 0) { out.push({ id: d, polygons: [] }); continue; }
+    if (!trace[d]) { omitted++; visit(d, null); continue; }
+    traced++;
+    if (c1 < 0) { visit(d, []); continue; }
     const bw = c1 - c0 + 1, bh = r1 - r0 + 1;
-    const mask = new Uint8Array(bw * bh);
+    // one mask buffer, grown when needed (d3-contour reads only its first bw × bh entries)
+    if (mask.length < bw * bh) mask = new Uint8Array(Math.max(bw * bh, 2 * mask.length));
+    else mask.fill(0, 0, bw * bh);
     const lo = tin[d], hi = tout[d];
     for (let r = 0; r < bh; r++) {
       const row = (r0 + r) * W + c0;
@@ -178,7 +192,14 @@ export function depressionOutlines(grid: Grid, labels: Int32Array, hier: Hierarc
         if (e > 0 && tin[e] >= lo && tin[e] < hi) mask[r * bw + c] = 1;
       }
     }
-    out.push({ id: d, polygons: maskPolygons(gen, mask, bw, bh, c0, r0, grid.transform) });
+    visit(d, maskPolygons(gen, mask, bw, bh, c0, r0, grid.transform));
   }
+  return { traced, omitted };
+}
+
+/** Every depression's outline as a list (see traceDepressionOutlines; for a few depressions — the writers stream). */
+export function depressionOutlines(grid: Grid, labels: Int32Array, hier: Hierarchy, opts: OutlineOptions = {}): DepressionOutline[] {
+  const out: DepressionOutline[] = [];
+  traceDepressionOutlines(grid, labels, hier, (id, polygons) => out.push(polygons === null ? { id, polygons: [], omitted: true } : { id, polygons }), opts);
   return out;
 }

@@ -1,0 +1,96 @@
+/**
+ * The ponds and runoff reports as columns: each record's JSON text, written straight from the
+ * columns, is JSON.stringify of the record view built from the same columns (the language's own
+ * serialiser is the outside reference); the whole report streamed by writeJson equals
+ * JSON.stringify of the report with its lists materialised; the summary's bounded selection
+ * picks what a full sort picks (Array.prototype.sort, the reference).
+ */
+import { describe, it, expect } from 'vitest';
+import fc from 'fast-check';
+import { Grid } from '../../src/surface/grid.js';
+import { pondsReport } from '../../src/report/ponds.js';
+import { runoffReport } from '../../src/report/runoff.js';
+import { topK, topKBy } from '../../src/report/hydro-common.js';
+import { TextSink, writeJson } from '../../src/io/stream.js';
+import { gridArb } from './arbitraries.js';
+import { mkdtempSync, openSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+
+/** The report as JSON through writeJson: a sink on a temporary file, read back. */
+function streamed(value: unknown, indent: number): string {
+  const dir = mkdtempSync(join(tmpdir(), 'sill-columns-'));
+  try {
+    const path = join(dir, 'out.json');
+    const sink = new TextSink(openSync(path, 'w'), true, 97);
+    writeJson(sink, value, indent);
+    sink.close();
+    return readFileSync(path, 'utf8');
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+}
+
+/** A variant of the grid with float32 values (the reports clean float32 values). */
+const asFloat32 = (g: Grid): Grid => new Grid({ width: g.width, height: g.height, values: Float32Array.from(g.values), transform: g.transform, crs: g.crs });
+
+describe('depression and pond records from columns', () => {
+  it('each record\'s JSON text is JSON.stringify of its record view; the streamed report equals JSON.stringify (ponds)', () => {
+    fc.assert(fc.property(gridArb, fc.boolean(), fc.constantFrom(0, 0.5), ({ g, conn, outlet }, f32, minDepth) => {
+      const grid = f32 ? asFloat32(g) : g;
+      const { report } = pondsReport(grid, { connectivity: conn, nodataOutlet: outlet, euler: false, minDepth });
+      const deps = report.depressions;
+      for (let i = 0; i < deps.length; i++) expect(deps.options.json!(i)).toBe(JSON.stringify(deps.at(i)));
+      expect(streamed(report, 1)).toBe(streamedReference(report, 1));
+      expect(streamed(report, 0)).toBe(JSON.stringify(report));
+    }), { numRuns: 120 });
+  });
+
+  it('the same for runoff: depression records with their water, and the ponds', () => {
+    fc.assert(fc.property(gridArb, fc.boolean(), fc.constantFrom(0.001, 0.3, 5), ({ g, conn, outlet }, f32, depth) => {
+      const grid = f32 ? asFloat32(g) : g;
+      const { report } = runoffReport(grid, { connectivity: conn, nodataOutlet: outlet, euler: false, depth });
+      for (let i = 0; i < report.depressions.length; i++) expect(report.depressions.options.json!(i)).toBe(JSON.stringify(report.depressions.at(i)));
+      for (let i = 0; i < report.ponds.length; i++) expect(report.ponds.options.json!(i)).toBe(JSON.stringify(report.ponds.at(i)));
+      expect(streamed(report, 0)).toBe(JSON.stringify(report));
+      expect(streamed(report, 1)).toBe(streamedReference(report, 1));
+    }), { numRuns: 120 });
+  });
+});
+
+/**
+ * The indented layout report.json has always had: JSON.stringify(…, null, 1) of everything but
+ * the lists, then each list one compact record a line (as the writer before the columns made it).
+ */
+function streamedReference(report: object, indent: number): string {
+  const lists = Object.entries(report).filter(([, v]) => v !== null && typeof v === 'object' && typeof (v as { toArray?: unknown }).toArray === 'function').map(([k]) => k);
+  const rest: Record<string, unknown> = { ...report };
+  for (const k of lists) delete rest[k];
+  const head = JSON.stringify(rest, null, indent);
+  let out = head.slice(0, head.lastIndexOf('}')).replace(/\s+$/, '');
+  for (const k of lists) {
+    const rows = (report as Record<string, { toArray(): unknown[] }>)[k].toArray();
+    out += `,\n "${k}": [`;
+    rows.forEach((r, i) => { out += (i ? ',' : '') + '\n  ' + JSON.stringify(r); });
+    out += rows.length ? '\n ]' : ']';
+  }
+  return out + '\n}';
+}
+
+describe('top-k by a bounded selection', () => {
+  it('equals the first k of a full sort (largest first, ties by the smaller index)', () => {
+    fc.assert(fc.property(fc.array(fc.constantFrom(0, 1, 2, 2.5, 7, 1e9, NaN), { maxLength: 60 }), fc.integer({ min: 0, max: 12 }), (vals, k) => {
+      const a = Float64Array.from([NaN, ...vals]);
+      const want = Array.from({ length: vals.length }, (_, i) => i + 1).filter((i) => a[i] === a[i]).sort((x, y) => a[y] - a[x] || x - y).slice(0, k);
+      expect(topK(a, 1, a.length, k)).toEqual(want);
+    }));
+  });
+
+  it('with a composite order (two keys, then the index)', () => {
+    fc.assert(fc.property(fc.array(fc.tuple(fc.integer({ min: 0, max: 3 }), fc.integer({ min: 0, max: 3 })), { maxLength: 50 }), fc.integer({ min: 1, max: 9 }), (pairs, k) => {
+      const weaker = (i: number, j: number) => pairs[i][0] !== pairs[j][0] ? pairs[i][0] < pairs[j][0] : pairs[i][1] !== pairs[j][1] ? pairs[i][1] < pairs[j][1] : i > j;
+      const want = pairs.map((_, i) => i).sort((i, j) => pairs[j][0] - pairs[i][0] || pairs[j][1] - pairs[i][1] || i - j).slice(0, k);
+      expect(topKBy(0, pairs.length, k, weaker)).toEqual(want);
+    }));
+  });
+});
