@@ -56,10 +56,34 @@ export interface HydroResultCore {
 export function cleanValue(v: number, float32: boolean): number {
   if (!float32 || !Number.isFinite(v)) return v;
   for (let p = 6; p <= 9; p++) {
-    const x = Number(v.toPrecision(p));
+    const x = roundToDigits(v, p);
     if (Math.fround(x) === v) return x;
   }
   return v;
+}
+
+const POW10 = Array.from({ length: 23 }, (_, k) => 10 ** k);
+
+/**
+ * Number(v.toPrecision(p)) for a float32 value v, without the string: when v · 10^k (k = p − 1 −
+ * the decimal exponent of v, 0 ≤ k ≤ 12) is exact in a double — a float32 has 24 significant bits
+ * and 10^k = 2^k · 5^k adds at most 28 — rounding it half up (as toPrecision does) and dividing by
+ * 10^k (a correctly rounded division of two exact integers) gives the same double as parsing the
+ * decimal. Other cases go through toPrecision.
+ */
+function roundToDigits(v: number, p: number): number {
+  const a = v < 0 ? -v : v;
+  if (a === 0) return v;
+  let e = Math.floor(Math.log10(a));
+  if (e < -22 || e > 22) return Number(v.toPrecision(p));
+  if (POW10[Math.abs(e)] > a && e >= 0) e--;
+  else if (e < 0 && 1 / POW10[-e] > a) e--;
+  if (e + 1 <= 22 && e + 1 >= 0 && POW10[e + 1] <= a) e++;
+  const k = p - 1 - e;
+  if (k < 0 || k > 12) return Number(v.toPrecision(p));
+  const m = Math.floor(a * POW10[k] + 0.5);
+  const x = m / POW10[k];
+  return v < 0 ? -x : x;
 }
 
 /** a − b of two clean decimals, rounded to the decimals they are written with (0.03, not 0.0300140380859375). */

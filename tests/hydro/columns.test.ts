@@ -10,7 +10,7 @@ import fc from 'fast-check';
 import { Grid } from '../../src/surface/grid.js';
 import { pondsReport } from '../../src/report/ponds.js';
 import { runoffReport } from '../../src/report/runoff.js';
-import { topK, topKBy } from '../../src/report/hydro-common.js';
+import { topK, topKBy, cleanValue } from '../../src/report/hydro-common.js';
 import { TextSink, writeJson } from '../../src/io/stream.js';
 import { gridArb } from './arbitraries.js';
 import { mkdtempSync, openSync, readFileSync, rmSync } from 'node:fs';
@@ -92,5 +92,30 @@ describe('top-k by a bounded selection', () => {
       const want = pairs.map((_, i) => i).sort((i, j) => pairs[j][0] - pairs[i][0] || pairs[j][1] - pairs[i][1] || i - j).slice(0, k);
       expect(topKBy(0, pairs.length, k, weaker)).toEqual(want);
     }));
+  });
+});
+
+describe('cleanValue', () => {
+  /** The definition: the shortest of 6…9 significant digits (Number.prototype.toPrecision, the language's own rounding) that reads back as the float32. */
+  const reference = (v: number): number => {
+    if (!Number.isFinite(v)) return v;
+    for (let p = 6; p <= 9; p++) { const x = Number(v.toPrecision(p)); if (Math.fround(x) === v) return x; }
+    return v;
+  };
+  const f32 = new Float32Array(1), u32 = new Uint32Array(f32.buffer);
+  it('equals the toPrecision definition for every kind of float32 (raw bit patterns: subnormals, ±0, extremes)', () => {
+    fc.assert(fc.property(fc.integer({ min: 0, max: 2 ** 32 - 1 }), (bits) => {
+      u32[0] = bits;
+      const v = f32[0];
+      expect(Object.is(cleanValue(v, true), reference(v))).toBe(true);
+    }), { numRuns: 20000 });
+  });
+  it('and for terrain-like values near decimal boundaries', () => {
+    fc.assert(fc.property(fc.integer({ min: -2e8, max: 2e8 }), fc.constantFrom(1, 10, 100, 1000, 1e4), fc.integer({ min: -2, max: 2 }), (m, d, ulps) => {
+      u32[0] = 0; f32[0] = m / d;
+      u32[0] += ulps;
+      const v = f32[0];
+      expect(Object.is(cleanValue(v, true), reference(v))).toBe(true);
+    }), { numRuns: 20000 });
   });
 });
