@@ -70,9 +70,16 @@ export function writeReportFile(path: string, report: object): void {
   });
 }
 
-/** A CSV table of ids 1..n, one accessor of the id per column. */
-export function writeIdCsv(path: string, n: number, columns: readonly [string, (id: number) => unknown][]): void {
-  withFileSink(path, (sink) => writeCsv(sink, n, columns.map(([h, f]) => [h, (i: number) => f(i + 1)] as const)));
+/**
+ * A CSV table of ids 1..n: the header of `columns`, then each row's text from `row(id)` when given
+ * (a writer straight from the columns), else from the columns' accessors of the id.
+ */
+export function writeIdCsv(path: string, n: number, columns: readonly [string, (id: number) => unknown][], row?: (id: number) => string): void {
+  withFileSink(path, (sink) => {
+    if (!row) { writeCsv(sink, n, columns.map(([h, f]) => [h, (i: number) => f(i + 1)] as const)); return; }
+    writeCsv(sink, 0, columns);
+    for (let id = 1; id <= n; id++) sink.write(row(id));
+  });
 }
 
 /** A GeoJSON feature collection streamed into `path`; `write` adds the features (a second file may be written alongside). */

@@ -1,11 +1,11 @@
 /** `sill ponds IN`: depression hierarchy, spill levels, pour points, volumes; filled/depth/label rasters. */
 import { Option, type Command } from 'commander';
 import { InputError } from '../errors.js';
-import { pondsReport, pondsCsvColumns, type PondsReport } from '../report/ponds.js';
+import { pondsReport, pondsCsvColumns, pondsCsvRow, type PondsReport } from '../report/ponds.js';
 import { childrenText, topK, type DepressionColumns } from '../report/hydro-common.js';
 import type { PondsResult } from '../hydro/ponds.js';
 import { topLabels } from '../hydro/rasters.js';
-import { traceDepressionOutlines, type PolygonCoords } from '../hydro/vectors.js';
+import { traceDepressionOutlines, type FlatPolygon } from '../hydro/vectors.js';
 import { toWgs84 } from '../hydro/reproject.js';
 import { stageVolume } from '../hydro/stage.js';
 import { writeGeoTiff } from '../io/index.js';
@@ -134,7 +134,8 @@ export async function writePondsFiles(dir: string, result: PondsResult, report: 
       (omitted) => `${omitted} nested merged depressions have no polygon in depressions.geojson (null geometry): tracing every level of this deep hierarchy would scan the grid too many times; the top-level and leaf depressions and the largest nested ones are traced — use --min-depth, --min-area or --min-volume to simplify the hierarchy`,
       'every depression has its polygon');
     w.progress?.stage('writing depressions.csv');
-    writeIdCsv(out.path('depressions.csv'), report.depressions.length, pondsCsvColumns(result, report.depressions.columns, tokens));
+    const cols = report.depressions.columns;
+    writeIdCsv(out.path('depressions.csv'), report.depressions.length, pondsCsvColumns(result, cols, tokens), (d) => pondsCsvRow(result, cols, d));
     if (w.stageId !== undefined) {
       out.write(`stage-volume-${w.stageId}.csv`, stageCsv(stageVolume(result, w.stageId, w.stageStep), tokens));
     }
@@ -160,7 +161,7 @@ function depressionPropsJson(result: PondsResult, cols: DepressionColumns, d: nu
 }
 
 /** A traced outline's geometry: null when it was left out, else its polygons (an empty MultiPolygon for none). */
-function outlineGeometry(polygons: PolygonCoords[] | null, project: ((x: number, y: number) => [number, number]) | null): string {
+function outlineGeometry(polygons: FlatPolygon[] | null, project: ((x: number, y: number) => [number, number]) | null): string {
   if (polygons === null) return 'null';
   return polygons.length === 0 ? '{"type":"MultiPolygon","coordinates":[]}' : polygonsJson(polygons, project);
 }

@@ -1,7 +1,7 @@
 /** `sill runoff IN --depth D`: route a runoff depth through the depression hierarchy (fill, spill, merge). */
 import { Option, type Command } from 'commander';
 import { InputError } from '../errors.js';
-import { runoffReport, runoffCsvColumns, type RunoffReport } from '../report/runoff.js';
+import { runoffReport, runoffCsvColumns, runoffCsvRow, type RunoffReport } from '../report/runoff.js';
 import type { RunoffResult } from '../hydro/runoff.js';
 import { runoffStageVolume } from '../hydro/runoff.js';
 import { parseDepth, depthUnit, DEPTH_UNITS } from '../hydro/runoff-input.js';
@@ -153,7 +153,8 @@ export async function writeRunoffFiles(dir: string, result: RunoffResult, report
       (omitted) => `${omitted} of the smallest ponds have no polygon in ponds.geojson (null geometry): their bounding boxes would take the tracing past its budget of 8 × the grid's cells; water-depth.tif has every one`,
       'every pond has its polygon');
     w.progress?.stage('writing runoff.csv');
-    writeIdCsv(out.path('runoff.csv'), report.depressions.length, runoffCsvColumns(result, report.depressions.columns, tokens));
+    const cols = report.depressions.columns;
+    writeIdCsv(out.path('runoff.csv'), report.depressions.length, runoffCsvColumns(result, cols, tokens), (d) => runoffCsvRow(result, cols, d));
     if (w.stageId !== undefined) {
       out.write(`stage-volume-${w.stageId}.csv`, stageCsv(runoffStageVolume(result, w.stageId, w.stageStep), tokens));
     }

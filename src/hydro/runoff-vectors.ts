@@ -7,7 +7,7 @@
  */
 import { contours } from 'd3-contour';
 import type { Grid } from '../surface/grid.js';
-import { labelBoxes, boxCells, maskPolygons, type DepressionOutline, type PolygonCoords } from './vectors.js';
+import { labelBoxes, boxCells, maskRings, flatToPairs, type DepressionOutline, type FlatPolygon } from './vectors.js';
 import { sortOrder } from '../morse/order.js';
 
 /**
@@ -17,7 +17,7 @@ import { sortOrder } from '../morse/order.js';
  * @param volume body id → volume (ranking for the budget)
  * @param budget most cells scanned over the boxes (default 8 × the grid's cells)
  */
-export function traceBodyOutlines(grid: Grid, labels: Int32Array, count: number, volume: Float64Array, visit: (id: number, polygons: PolygonCoords[] | null) => void, budget = 8 * labels.length): { traced: number; omitted: number } {
+export function traceBodyOutlines(grid: Grid, labels: Int32Array, count: number, volume: Float64Array, visit: (id: number, polygons: FlatPolygon[] | null) => void, budget = 8 * labels.length): { traced: number; omitted: number } {
   const W = grid.width;
   const box = labelBoxes(labels, W, count);
   // largest volume first (ties: smaller id)
@@ -49,7 +49,7 @@ export function traceBodyOutlines(grid: Grid, labels: Int32Array, count: number,
       const row = (r0 + r) * W + c0;
       for (let c = 0; c < bw; c++) if (labels[row + c] === b) mask[r * bw + c] = 1;
     }
-    visit(b, maskPolygons(gen, mask, bw, bh, c0, r0, grid.transform));
+    visit(b, maskRings(gen, mask, bw, bh, c0, r0, grid.transform));
   }
   return { traced, omitted };
 }
@@ -57,6 +57,6 @@ export function traceBodyOutlines(grid: Grid, labels: Int32Array, count: number,
 /** Every pond's outline as a list (see traceBodyOutlines; the writers stream). */
 export function bodyOutlines(grid: Grid, labels: Int32Array, count: number, volume: Float64Array, budget = 8 * labels.length): DepressionOutline[] {
   const out: DepressionOutline[] = [];
-  traceBodyOutlines(grid, labels, count, volume, (id, polygons) => out.push(polygons === null ? { id, polygons: [], omitted: true } : { id, polygons }), budget);
+  traceBodyOutlines(grid, labels, count, volume, (id, polygons) => out.push(polygons === null ? { id, polygons: [], omitted: true } : { id, polygons: polygons.map(flatToPairs) }), budget);
   return out;
 }

@@ -339,24 +339,30 @@ export function pointJson(x: number, y: number): string {
 }
 
 /**
- * Polygons (each a list of rings of [x, y]) as a GeoJSON geometry's JSON text: null for none, a
- * Polygon for one, a MultiPolygon for several; `project` maps each vertex first.
+ * Polygons (each a list of rings, a ring as flat coordinates x0, y0, x1, y1, …) as a GeoJSON
+ * geometry's JSON text: null for none, a Polygon for one, a MultiPolygon for several; `project`
+ * maps each vertex first.
  */
-export function polygonsJson(polygons: readonly (readonly (readonly (readonly [number, number])[])[])[], project: ((x: number, y: number) => [number, number]) | null = null): string {
+export function polygonsJson(polygons: readonly (readonly ArrayLike<number>[])[], project: ((x: number, y: number) => [number, number]) | null = null): string {
   if (polygons.length === 0) return 'null';
-  const ring = (r: readonly (readonly [number, number])[]): string => {
+  const ring = (r: ArrayLike<number>): string => {
     let s = '[';
-    for (let k = 0; k < r.length; k++) {
-      let x = r[k][0], y = r[k][1];
+    for (let k = 0; k + 1 < r.length; k += 2) {
+      let x = r[k], y = r[k + 1];
       if (project) [x, y] = project(x, y);
       s += (k ? ',[' : '[') + jn(x) + ',' + jn(y) + ']';
     }
     return s + ']';
   };
-  const poly = (p: readonly (readonly (readonly [number, number])[])[]): string => '[' + p.map(ring).join(',') + ']';
-  return polygons.length === 1
-    ? `{"type":"Polygon","coordinates":${poly(polygons[0])}}`
-    : `{"type":"MultiPolygon","coordinates":[${polygons.map(poly).join(',')}]}`;
+  const poly = (p: readonly ArrayLike<number>[]): string => {
+    let s = '[';
+    for (let q = 0; q < p.length; q++) s += (q ? ',' : '') + ring(p[q]);
+    return s + ']';
+  };
+  if (polygons.length === 1) return `{"type":"Polygon","coordinates":${poly(polygons[0])}}`;
+  let s = '{"type":"MultiPolygon","coordinates":[';
+  for (let q = 0; q < polygons.length; q++) s += (q ? ',' : '') + poly(polygons[q]);
+  return s + ']}';
 }
 
 /** Write into a new file at `path` through a sink, closing it whatever happens. */

@@ -142,3 +142,18 @@ export function pondsCsvColumns(result: PondsResult, cols: DepressionColumns, to
     [`mean_depth_${z}`, (d) => H.meanDepth[d]],
   ];
 }
+
+/**
+ * Row `d` of depressions.csv as text (with its newline), straight from the columns: the same line
+ * writeCsv makes from pondsCsvColumns (a test holds them equal), without a call per cell.
+ */
+export function pondsCsvRow(result: PondsResult, cols: DepressionColumns, d: number): string {
+  const H = result.hierarchy, g = result.grid, W = g.width;
+  const pit = H.pit[d], pr = Math.floor(pit / W), pc = pit - pr * W;
+  const pass = H.spillCell[d], sr = Math.floor(pass / W), sc = pass - sr * W;
+  const p = H.parent[d], into = H.into[d];
+  const c = (x: number) => formatNumber(x, '');
+  return `${d},${p === 0 ? '' : p},${H.level[d]},${H.childStart[d + 1] === H.childStart[d] ? 'leaf' : 'merged'},${childrenText(H, d, ' ')}` +
+    `,${c(cols.pitValue[d])},${pc},${pr},${c(g.x(pc, pr))},${c(g.y(pc, pr))},${c(cols.spillValue[d])},${sc},${sr},${c(g.x(sc, sr))},${c(g.y(sc, sr))}` +
+    `,${cols.toCol[d]},${cols.toRow[d]},${into === 0 ? 'outside' : into},${c(H.wetCells[d])},${c(H.area[d])},${c(H.volume[d])},${c(cols.maxDepth[d])},${c(H.meanDepth[d])}\n`;
+}

@@ -248,3 +248,17 @@ export function runoffCsvColumns(result: RunoffResult, cols: DepressionColumns, 
     ['pour_y', (d) => g.y(col(H.spillCell[d]), row(H.spillCell[d]))],
   ];
 }
+
+/** Row `d` of runoff.csv as text (with its newline), straight from the columns: the line writeCsv makes from runoffCsvColumns. */
+export function runoffCsvRow(result: RunoffResult, cols: DepressionColumns, d: number): string {
+  const H = result.hierarchy, g = result.grid, W = g.width, Rt = result.route;
+  const k = H.node[d];
+  const pit = H.pit[d], pr = Math.floor(pit / W), pc = pit - pr * W;
+  const pass = H.spillCell[d], sr = Math.floor(pass / W), sc = pass - sr * W;
+  const p = H.parent[d], into = H.into[d];
+  const lev = waterLevelOf(result, d);
+  const c = (x: number) => formatNumber(x, '');
+  return `${d},${p === 0 ? '' : p},${H.level[d]},${H.childStart[d + 1] === H.childStart[d] ? 'leaf' : 'merged'},${c(cols.pitValue[d])},${c(cols.spillValue[d])}` +
+    `,${into === 0 ? 'outside' : into},${c(H.volume[d])},${c(Rt.received[k])},${c(Rt.stored[k])},${c(Rt.passedOn[k])},${lev === null ? '' : c(lev)},${waterState(result, d)}` +
+    `,${c(fillFractionOf(result, k))},${c(result.wetCells[k])},${c(result.wetArea[k])},${c(result.maxWaterDepth[k])},${pc},${pr},${sc},${sr},${c(g.x(sc, sr))},${c(g.y(sc, sr))}\n`;
+}

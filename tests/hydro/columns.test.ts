@@ -8,8 +8,9 @@
 import { describe, it, expect } from 'vitest';
 import fc from 'fast-check';
 import { Grid } from '../../src/surface/grid.js';
-import { pondsReport } from '../../src/report/ponds.js';
-import { runoffReport } from '../../src/report/runoff.js';
+import { pondsReport, pondsCsvColumns, pondsCsvRow } from '../../src/report/ponds.js';
+import { runoffReport, runoffCsvColumns, runoffCsvRow } from '../../src/report/runoff.js';
+import { csvCell } from '../../src/io/stream.js';
 import { topK, topKBy, cleanValue } from '../../src/report/hydro-common.js';
 import { TextSink, writeJson } from '../../src/io/stream.js';
 import { gridArb } from './arbitraries.js';
@@ -76,6 +77,22 @@ function streamedReference(report: object, indent: number): string {
   }
   return out + '\n}';
 }
+
+describe('CSV rows straight from the columns', () => {
+  const tokens = { elevation: 'm', area: 'm2', volume: 'm3' };
+  const line = (columns: [string, (d: number) => unknown][], d: number) => columns.map(([, f]) => csvCell(f(d))).join(',') + '\n';
+  it('each row of depressions.csv and runoff.csv equals the line made cell by cell from the column accessors', () => {
+    fc.assert(fc.property(gridArb, fc.boolean(), ({ g, conn, outlet }, f32) => {
+      const grid = f32 ? asFloat32(g) : g;
+      const p = pondsReport(grid, { connectivity: conn, nodataOutlet: outlet, euler: false });
+      const pc = pondsCsvColumns(p.result, p.report.depressions.columns, tokens);
+      for (let d = 1; d <= p.report.depressions.length; d++) expect(pondsCsvRow(p.result, p.report.depressions.columns, d)).toBe(line(pc, d));
+      const r = runoffReport(grid, { connectivity: conn, nodataOutlet: outlet, euler: false, depth: 0.2 });
+      const rc = runoffCsvColumns(r.result, r.report.depressions.columns, tokens);
+      for (let d = 1; d <= r.report.depressions.length; d++) expect(runoffCsvRow(r.result, r.report.depressions.columns, d)).toBe(line(rc, d));
+    }), { numRuns: 100 });
+  });
+});
 
 describe('top-k by a bounded selection', () => {
   it('equals the first k of a full sort (largest first, ties by the smaller index)', () => {
