@@ -88,15 +88,42 @@ function roundToDigits(v: number, p: number): number {
 
 /** a − b of two clean decimals, rounded to the decimals they are written with (0.03, not 0.0300140380859375). */
 export function cleanDifference(a: number, b: number): number {
-  const dec = (x: number) => {
-    const s = String(x);
-    if (/e/i.test(s)) return -1;
-    const k = s.indexOf('.');
-    return k < 0 ? 0 : s.length - k - 1;
-  };
-  const da = dec(a), db = dec(b);
+  const da = decimalsOf(a), db = decimalsOf(b);
   if (da < 0 || db < 0) return a - b;
-  return Number((a - b).toFixed(Math.max(da, db)));
+  return toFixedNumber(a - b, Math.max(da, db));
+}
+
+/** The fractional digits of String(x), or −1 when it is written with an exponent. */
+function decimalsOf(x: number): number {
+  const a = x < 0 ? -x : x;
+  if (a >= 1e-6 && a < 1e15) {
+    // the first k at which x is the double nearest to a decimal with k fractional digits is the
+    // length of its shortest round-trip text's fraction (a shorter decimal would be that text)
+    if (Math.floor(a) === a) return 0;
+    for (let k = 1; k <= 12; k++) {
+      const m = Math.round(a * POW10[k]);
+      if (m < 9007199254740992 && m / POW10[k] === a) return k;
+    }
+  }
+  const s = String(x);
+  if (/e/i.test(s)) return -1;
+  const k = s.indexOf('.');
+  return k < 0 ? 0 : s.length - k - 1;
+}
+
+/**
+ * Number(x.toFixed(d)) without the string where the rounding is unambiguous: x · 10^d below 10^9
+ * (its rounding error far below 10^−6) and within 10^−6 of an integer, as a difference of two
+ * d-decimal values is; otherwise toFixed.
+ */
+function toFixedNumber(x: number, d: number): number {
+  if (x === 0) return 0; // toFixed writes −0 as "0"
+  const a = x < 0 ? -x : x;
+  if (d <= 22 && a < 1e15) {
+    const y = a * POW10[d], m = Math.round(y);
+    if (y < 1e9 && Math.abs(y - m) < 1e-6) { const r = m / POW10[d]; return x < 0 ? -r : r; }
+  }
+  return Number(x.toFixed(d));
 }
 
 export function cellRef(g: Grid, i: number): CellRef {

@@ -11,7 +11,7 @@ import { Grid } from '../../src/surface/grid.js';
 import { pondsReport, pondsCsvColumns, pondsCsvRow } from '../../src/report/ponds.js';
 import { runoffReport, runoffCsvColumns, runoffCsvRow } from '../../src/report/runoff.js';
 import { csvCell } from '../../src/io/stream.js';
-import { topK, topKBy, cleanValue } from '../../src/report/hydro-common.js';
+import { topK, topKBy, cleanValue, cleanDifference } from '../../src/report/hydro-common.js';
 import { TextSink, writeJson } from '../../src/io/stream.js';
 import { gridArb } from './arbitraries.js';
 import { mkdtempSync, openSync, readFileSync, rmSync } from 'node:fs';
@@ -134,5 +134,22 @@ describe('cleanValue', () => {
       const v = f32[0];
       expect(Object.is(cleanValue(v, true), reference(v))).toBe(true);
     }), { numRuns: 20000 });
+  });
+});
+
+describe('cleanDifference', () => {
+  /** The definition: a − b rounded by toFixed to the fractional digits of the longer of String(a), String(b) (as is, when one has an exponent). */
+  const reference = (a: number, b: number): number => {
+    const dec = (x: number) => { const t = String(x); if (/e/i.test(t)) return -1; const k = t.indexOf('.'); return k < 0 ? 0 : t.length - k - 1; };
+    const da = dec(a), db = dec(b);
+    return da < 0 || db < 0 ? a - b : Number((a - b).toFixed(Math.max(da, db)));
+  };
+  const f32 = new Float32Array(1), u32 = new Uint32Array(f32.buffer);
+  const clean32 = fc.integer({ min: 0, max: 2 ** 32 - 1 }).map((bits) => { u32[0] = bits; return cleanValue(f32[0], true); }).filter(Number.isFinite);
+  const decimal = fc.tuple(fc.integer({ min: -1e9, max: 1e9 }), fc.integer({ min: 0, max: 12 })).map(([m, k]) => m / 10 ** k);
+  it('equals the toFixed definition on clean float32 values, decimals and any doubles', () => {
+    for (const arb of [clean32, decimal, fc.double({ noNaN: true, noDefaultInfinity: true })]) {
+      fc.assert(fc.property(arb, arb, (a, b) => { expect(Object.is(cleanDifference(a, b), reference(a, b))).toBe(true); }), { numRuns: 20000 });
+    }
   });
 });
