@@ -10,7 +10,7 @@ import { toWgs84 } from '../hydro/reproject.js';
 import { stageVolume } from '../hydro/stage.js';
 import { writeGeoTiff } from '../io/index.js';
 import { collectionHead } from '../io/tables.js';
-import { TextSink, FeatureCollectionWriter, featureJson, pointJson, polygonsJson, formatNumber as jn } from '../io/stream.js';
+import { TextSink, FeatureCollectionWriter, featureJson, pointJson, writePolygons, formatNumber as jn } from '../io/stream.js';
 import { OutputFolder } from '../io/outdir.js';
 import { addCommonOptions, parseNumber, Progress, say, fmt, fmtCoord } from './common.js';
 import {
@@ -160,10 +160,11 @@ function depressionPropsJson(result: PondsResult, cols: DepressionColumns, d: nu
     `,"pourCol":${pass - row * W},"pourRow":${row}}`;
 }
 
-/** A traced outline's geometry: null when it was left out, else its polygons (an empty MultiPolygon for none). */
-function outlineGeometry(polygons: FlatPolygon[] | null, project: ((x: number, y: number) => [number, number]) | null): string {
-  if (polygons === null) return 'null';
-  return polygons.length === 0 ? '{"type":"MultiPolygon","coordinates":[]}' : polygonsJson(polygons, project);
+/** A traced outline's geometry, written into the sink: null when it was left out, else its polygons (an empty MultiPolygon for none). */
+function writeOutline(sink: TextSink, polygons: FlatPolygon[] | null, project: ((x: number, y: number) => [number, number]) | null): void {
+  if (polygons === null) sink.write('null');
+  else if (polygons.length === 0) sink.write('{"type":"MultiPolygon","coordinates":[]}');
+  else writePolygons(sink, polygons, project);
 }
 
 /**
@@ -181,8 +182,8 @@ function writeDepressionsGeojson(path: string, wgsPath: string | null, result: P
     const fw = wgs ? new FeatureCollectionWriter(wgs, collectionHead(null, { ...meta, name: 'depressions-wgs84' })) : null;
     const counts = traceDepressionOutlines(g, result.rasters.labels, H, (d, polygons) => {
       const props = depressionPropsJson(result, cols, d);
-      fc.feature(featureJson(d, outlineGeometry(polygons, null), props));
-      fw?.feature(featureJson(d, outlineGeometry(polygons, project), props));
+      fc.featureWith(d, (k) => writeOutline(k, polygons, null), props);
+      fw?.featureWith(d, (k) => writeOutline(k, polygons, project), props);
     });
     for (let d = 1; d <= H.count; d++) {
       const pass = H.spillCell[d], row = Math.floor(pass / W), col = pass - row * W;

@@ -7,7 +7,7 @@ import { runoffStageVolume } from '../hydro/runoff.js';
 import { parseDepth, depthUnit, DEPTH_UNITS } from '../hydro/runoff-input.js';
 import { traceBodyOutlines } from '../hydro/runoff-vectors.js';
 import { writeGeoTiff, loadSurface } from '../io/index.js';
-import { featureJson, polygonsJson, formatNumber as jn } from '../io/stream.js';
+import { writePolygons, formatNumber as jn } from '../io/stream.js';
 import { OutputFolder } from '../io/outdir.js';
 import type { Grid } from '../surface/grid.js';
 import { addCommonOptions, parseNumber, Progress, say, fmt } from './common.js';
@@ -146,7 +146,7 @@ export async function writeRunoffFiles(dir: string, result: RunoffResult, report
       counts = traceBodyOutlines(g, R.bodies, B.count, B.volume, (b, polygons) => {
         const props = `{"kind":"pond","id":${b},"volume":${jn(B.volume[b])},"level":${jn(B.level[b])},"area":${jn(B.area[b])},"cells":${jn(B.cells[b])}` +
           `,"maxDepth":${jn(B.maxDepth[b])},"depression":${B.depression[b] > 0 ? B.depression[b] : 'null'},"full":${B.full[b] === 1 ? 'true' : 'false'}}`;
-        fc.feature(featureJson(b, polygons === null || polygons.length === 0 ? 'null' : polygonsJson(polygons), props));
+        fc.featureWith(b, (k) => { if (polygons === null || polygons.length === 0) k.write('null'); else writePolygons(k, polygons); }, props);
       });
     });
     report.outlines = outlinesEntry(counts,

@@ -321,6 +321,18 @@ export class FeatureCollectionWriter {
     this.first = false;
   }
 
+  /**
+   * One feature whose geometry is written by `geometry` into the sink (so that a geometry of
+   * millions of vertices is never one string): the same text as feature(featureJson(…)).
+   */
+  featureWith(id: number | undefined, geometry: (sink: TextSink) => void, properties: string): void {
+    const lead = id === undefined ? '{"type":"Feature","geometry":' : `{"type":"Feature","id":${jn(id)},"geometry":`;
+    this.sink.write(this.first ? lead : ',' + lead);
+    this.first = false;
+    geometry(this.sink);
+    this.sink.write(`,"properties":${properties}}`);
+  }
+
   end(): void {
     this.sink.write(']}\n');
   }
@@ -344,25 +356,38 @@ export function pointJson(x: number, y: number): string {
  * maps each vertex first.
  */
 export function polygonsJson(polygons: readonly (readonly ArrayLike<number>[])[], project: ((x: number, y: number) => [number, number]) | null = null): string {
-  if (polygons.length === 0) return 'null';
-  const ring = (r: ArrayLike<number>): string => {
+  const parts: string[] = [];
+  writePolygons({ write: (t: string) => { parts.push(t); } }, polygons, project);
+  return parts.join('');
+}
+
+/** The same geometry written piece by piece into `sink` (a ring's vertices in pieces of 4096). */
+export function writePolygons(sink: { write(s: string): void }, polygons: readonly (readonly ArrayLike<number>[])[], project: ((x: number, y: number) => [number, number]) | null = null): void {
+  if (polygons.length === 0) { sink.write('null'); return; }
+  const ring = (r: ArrayLike<number>): void => {
     let s = '[';
     for (let k = 0; k + 1 < r.length; k += 2) {
       let x = r[k], y = r[k + 1];
       if (project) [x, y] = project(x, y);
       s += (k ? ',[' : '[') + jn(x) + ',' + jn(y) + ']';
+      if ((k & 8190) === 8190) { sink.write(s); s = ''; }
     }
-    return s + ']';
+    sink.write(s + ']');
   };
-  const poly = (p: readonly ArrayLike<number>[]): string => {
-    let s = '[';
-    for (let q = 0; q < p.length; q++) s += (q ? ',' : '') + ring(p[q]);
-    return s + ']';
+  const poly = (p: readonly ArrayLike<number>[]): void => {
+    sink.write('[');
+    for (let q = 0; q < p.length; q++) { if (q) sink.write(','); ring(p[q]); }
+    sink.write(']');
   };
-  if (polygons.length === 1) return `{"type":"Polygon","coordinates":${poly(polygons[0])}}`;
-  let s = '{"type":"MultiPolygon","coordinates":[';
-  for (let q = 0; q < polygons.length; q++) s += (q ? ',' : '') + poly(polygons[q]);
-  return s + ']}';
+  if (polygons.length === 1) {
+    sink.write('{"type":"Polygon","coordinates":');
+    poly(polygons[0]);
+    sink.write('}');
+    return;
+  }
+  sink.write('{"type":"MultiPolygon","coordinates":[');
+  for (let q = 0; q < polygons.length; q++) { if (q) sink.write(','); poly(polygons[q]); }
+  sink.write(']}');
 }
 
 /** Write into a new file at `path` through a sink, closing it whatever happens. */

@@ -8,7 +8,7 @@ import fc from 'fast-check';
 import { mkdtempSync, openSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { TextSink, formatNumber, writeJson, Rows, compactRows, writeCsv, withFileSink, FeatureCollectionWriter, featureJson, pointJson, polygonsJson } from '../../src/io/stream.js';
+import { TextSink, formatNumber, writeJson, Rows, compactRows, writeCsv, withFileSink, FeatureCollectionWriter, featureJson, pointJson, polygonsJson, writePolygons } from '../../src/io/stream.js';
 
 /** Collects what a sink would write (a sink on a temporary file, read back). */
 function capture(f: (s: TextSink) => void, chunk = 7): string {
@@ -141,5 +141,19 @@ describe('GeoJSON from columns', () => {
     });
     expect(text).toBe(JSON.stringify({ ...members, features: feats }) + '\n');
     expect(capture((s) => { const w = new FeatureCollectionWriter(s, members); w.end(); })).toBe(JSON.stringify({ ...members, features: [] }) + '\n');
+    // a geometry written piece by piece (a ring of 10 000 vertices crosses the writer's pieces)
+    const big = Float64Array.from({ length: 20002 }, (_, i) => (i % 2 ? -i / 7 : i * 1.5 + 0.25));
+    big[20000] = big[0]; big[20001] = big[1];
+    const pieces = capture((s) => {
+      const w = new FeatureCollectionWriter(s, members);
+      w.featureWith(7, (k) => writePolygons(k, [[big], [big.subarray(0, 8)]]), '{"a":1}');
+      w.featureWith(undefined, (k) => writePolygons(k, []), '{}');
+      w.end();
+    });
+    const pairs = (r: Float64Array) => Array.from({ length: r.length / 2 }, (_, i) => [r[2 * i], r[2 * i + 1]]);
+    expect(pieces).toBe(JSON.stringify({ ...members, features: [
+      { type: 'Feature', id: 7, geometry: { type: 'MultiPolygon', coordinates: [[pairs(big)], [pairs(big.subarray(0, 8))]] }, properties: { a: 1 } },
+      { type: 'Feature', geometry: null, properties: {} },
+    ] }) + '\n');
   });
 });
