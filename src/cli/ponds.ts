@@ -11,14 +11,14 @@ import { stageVolume } from '../hydro/stage.js';
 import { writeGeoTiff } from '../io/index.js';
 import { collectionHead } from '../io/tables.js';
 import { TextSink, FeatureCollectionWriter, featureJson, pointJson, writePolygons, formatNumber as jn } from '../io/stream.js';
-import { OutputFolder } from '../io/outdir.js';
-import { addCommonOptions, parseNumber, Progress, say, fmt, fmtCoord } from './common.js';
+import type { OutputFolder } from '../io/outdir.js';
+import { addCommonOptions, parseNumber, Progress, say, fmt, fmtCoord, openOutput } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printReport, writeReportFile, writeIdCsv,
   stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
-import { reportRequest, addReport, reportSummary, flagsOf, PONDS_FLAGS, type ReportRequest } from './report-option.js';
+import { reportRequest, addReport, reportSummary, reportNames, flagsOf, PONDS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildPondsReport as buildPondsHtml } from '../render/html/ponds.js';
 
 export interface PondsCliOptions extends HydroCliOptions {
@@ -73,6 +73,9 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   const { zFactor, stageId, stageStep } = parseZAndStage(opts);
   const render = reportRequest('ponds', [input], { ...opts }, flagsOf({ ...opts }, PONDS_FLAGS));
   if (opts.wgs84 && !opts.out) throw new InputError('--wgs84 writes depressions-wgs84.geojson: give an output folder with -o/--out');
+  const out = openOutput(opts, 'ponds', [
+    ...PONDS_FILES, ...(opts.wgs84 ? ['depressions-wgs84.geojson'] : []), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render),
+  ], [input]);
 
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
@@ -87,9 +90,9 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   // check --wgs84 before writing anything
   const project = opts.wgs84 ? toWgs84(result.grid.crs, input) : null;
   let written: string[] = [];
-  if (opts.out) {
+  if (out) {
     progress.stage('writing files');
-    written = await writePondsFiles(opts.out, result, report, { project, stageId, stageStep, progress, render });
+    written = await writePondsFiles(out, result, report, { project, stageId, stageStep, progress, render });
   }
   progress.done();
   if (opts.json) printReport(report);
@@ -106,8 +109,10 @@ interface WriteOptions {
   render?: ReportRequest | null;
 }
 
-export async function writePondsFiles(dir: string, result: PondsResult, report: PondsReport, w: WriteOptions = { project: null }): Promise<string[]> {
-  const out = new OutputFolder(dir);
+/** The files `ponds -o DIR` always writes (--wgs84, --stage-volume and --report add theirs). */
+export const PONDS_FILES = ['filled.tif', 'depth.tif', 'labels.tif', 'depressions.geojson', 'depressions.csv', 'report.json'];
+
+export async function writePondsFiles(out: OutputFolder, result: PondsResult, report: PondsReport, w: WriteOptions = { project: null }): Promise<string[]> {
   try {
     const g = result.grid;
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
@@ -115,11 +120,14 @@ export async function writePondsFiles(dir: string, result: PondsResult, report: 
     const valueNodata = g.nodata !== null && Number.isFinite(g.nodata) ? g.nodata : NaN;
     w.progress?.stage('writing filled.tif');
     await writeGeoTiff(out.path('filled.tif'), { ...base, values: R.filled, nodata: valueNodata });
+    await out.checkpoint();
     w.progress?.stage('writing depth.tif');
     await writeGeoTiff(out.path('depth.tif'), { ...base, values: R.depth, nodata: -9999 });
+    await out.checkpoint();
     w.progress?.stage('writing labels.tif');
     const labels = report.labelLevel === 'top' ? topLabels(R.labels, result.hierarchy) : R.labels;
     await writeGeoTiff(out.path('labels.tif'), { ...base, values: labels, nodata: -1 });
+    await out.checkpoint();
 
     const tokens = result.areas.units.tokens;
     const meta = {
@@ -133,20 +141,22 @@ export async function writePondsFiles(dir: string, result: PondsResult, report: 
     report.outlines = outlinesEntry(counts,
       (omitted) => `${omitted} nested merged depressions have no polygon in depressions.geojson (null geometry): tracing every level of this deep hierarchy would scan the grid too many times; the top-level and leaf depressions and the largest nested ones are traced — use --min-depth, --min-area or --min-volume to simplify the hierarchy`,
       'every depression has its polygon');
+    await out.checkpoint();
     w.progress?.stage('writing depressions.csv');
     const cols = report.depressions.columns;
     writeIdCsv(out.path('depressions.csv'), report.depressions.length, pondsCsvColumns(result, cols, tokens), (d) => pondsCsvRow(result, cols, d));
     if (w.stageId !== undefined) {
       out.write(`stage-volume-${w.stageId}.csv`, stageCsv(stageVolume(result, w.stageId, w.stageStep), tokens));
     }
+    await out.checkpoint();
     w.progress?.stage('writing report.json');
     writeReportFile(out.path('report.json'), report);
+    await out.checkpoint();
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'filled.tif', 'depth.tif', 'labels.tif'], (ctx) => buildPondsHtml(result, report, ctx));
-    return out.commit();
+    return await out.commit();
   } catch (e) {
-    out.abort();
-    throw e;
+    throw out.fail(e);
   }
 }
 

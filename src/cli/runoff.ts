@@ -8,15 +8,15 @@ import { parseDepth, depthUnit, DEPTH_UNITS } from '../hydro/runoff-input.js';
 import { traceBodyOutlines } from '../hydro/runoff-vectors.js';
 import { writeGeoTiff, loadSurface } from '../io/index.js';
 import { writePolygons, formatNumber as jn } from '../io/stream.js';
-import { OutputFolder } from '../io/outdir.js';
+import type { OutputFolder } from '../io/outdir.js';
 import type { Grid } from '../surface/grid.js';
-import { addCommonOptions, parseNumber, Progress, say, fmt } from './common.js';
+import { addCommonOptions, parseNumber, Progress, say, fmt, openOutput } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printReport, writeReportFile, writeIdCsv, withCollection,
   stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
-import { reportRequest, addReport, reportSummary, flagsOf, type FlagSpec, type ReportRequest } from './report-option.js';
+import { reportRequest, addReport, reportSummary, reportNames, flagsOf, type FlagSpec, type ReportRequest } from './report-option.js';
 import { buildRunoffHtml } from '../render/html/runoff.js';
 
 export interface RunoffCliOptions extends HydroCliOptions {
@@ -83,6 +83,8 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
   }
   const { zFactor, stageId, stageStep } = parseZAndStage(opts);
   const render = reportRequest('runoff', [input], { ...opts }, flagsOf({ ...opts }, RUNOFF_FLAGS));
+  const out = openOutput(opts, 'runoff', [...RUNOFF_FILES, ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render)],
+    [input, opts.depthRaster, opts.initialLevel]);
 
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
@@ -101,9 +103,9 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
   progress.done();
   for (const w of report.warnings) process.stderr.write(`sill: warning: ${w}\n`);
   let written: string[] = [];
-  if (opts.out) {
+  if (out) {
     progress.stage('writing files');
-    written = await writeRunoffFiles(opts.out, result, report, { stageId, stageStep, progress, render });
+    written = await writeRunoffFiles(out, result, report, { stageId, stageStep, progress, render });
     progress.done();
   }
   if (opts.json) printReport(report);
@@ -119,16 +121,20 @@ interface WriteOptions {
   render?: ReportRequest | null;
 }
 
-export async function writeRunoffFiles(dir: string, result: RunoffResult, report: RunoffReport, w: WriteOptions = {}): Promise<string[]> {
-  const out = new OutputFolder(dir);
+/** The files `runoff -o DIR` always writes (--stage-volume and --report add theirs). */
+export const RUNOFF_FILES = ['water-level.tif', 'water-depth.tif', 'ponds.geojson', 'runoff.csv', 'report.json'];
+
+export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, report: RunoffReport, w: WriteOptions = {}): Promise<string[]> {
   try {
     const g = result.grid;
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
     const R = result.rasters;
     w.progress?.stage('writing water-level.tif');
     await writeGeoTiff(out.path('water-level.tif'), { ...base, values: R.level, nodata: -9999 });
+    await out.checkpoint();
     w.progress?.stage('writing water-depth.tif');
     await writeGeoTiff(out.path('water-depth.tif'), { ...base, values: R.depth, nodata: -9999 });
+    await out.checkpoint();
 
     const tokens = result.areas.units.tokens;
     w.progress?.stage('tracing pond outlines, writing ponds.geojson');
@@ -152,20 +158,22 @@ export async function writeRunoffFiles(dir: string, result: RunoffResult, report
     report.outlines = outlinesEntry(counts,
       (omitted) => `${omitted} of the smallest ponds have no polygon in ponds.geojson (null geometry): their bounding boxes would take the tracing past its budget of 8 × the grid's cells; water-depth.tif has every one`,
       'every pond has its polygon');
+    await out.checkpoint();
     w.progress?.stage('writing runoff.csv');
     const cols = report.depressions.columns;
     writeIdCsv(out.path('runoff.csv'), report.depressions.length, runoffCsvColumns(result, cols, tokens), (d) => runoffCsvRow(result, cols, d));
     if (w.stageId !== undefined) {
       out.write(`stage-volume-${w.stageId}.csv`, stageCsv(runoffStageVolume(result, w.stageId, w.stageStep), tokens));
     }
+    await out.checkpoint();
     w.progress?.stage('writing report.json');
     writeReportFile(out.path('report.json'), report);
+    await out.checkpoint();
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'runoff.csv', 'ponds.geojson', 'water-level.tif', 'water-depth.tif'], (ctx) => buildRunoffHtml(result, report, ctx));
-    return out.commit();
+    return await out.commit();
   } catch (e) {
-    out.abort();
-    throw e;
+    throw out.fail(e);
   }
 }
 
