@@ -1,14 +1,12 @@
 /** What `sill ponds` and `sill runoff` share on the command line: option checks, streamed output files, the summary's common lines. */
-import { openSync, writeSync, closeSync } from 'node:fs';
-import { once } from 'node:events';
 import { InputError, SelfCheckError } from '../errors.js';
 import type { Grid } from '../surface/grid.js';
 import type { Connectivity } from '../surface/complex.js';
 import type { StageRow } from '../hydro/stage.js';
-import type { DepressionOutline } from '../hydro/vectors.js';
 import type { PondsUnits } from '../hydro/areas.js';
 import type { SurfaceInfo, EulerInfo } from '../report/common.js';
-import { toCsv, featureCollection, type Feature } from '../io/tables.js';
+import { toCsv, collectionHead } from '../io/tables.js';
+import { TextSink, writeJson, writeCsv, withFileSink, FeatureCollectionWriter } from '../io/stream.js';
 import { parseBoundary, parseConnectivity, parseNumber, THRESHOLD, type CommonOptions } from './common.js';
 
 export interface HydroCliOptions extends CommonOptions {
@@ -45,7 +43,7 @@ export function parseZAndStage(opts: HydroCliOptions): { zFactor?: number; stage
 }
 
 /** After the analysis: the Euler relation holds, and the --stage-volume id names a depression (`table` lists them). */
-export function checkHydroReport(report: { euler: EulerInfo | null; depressions: readonly unknown[] }, stageId: number | undefined, table: string): void {
+export function checkHydroReport(report: { euler: EulerInfo | null; depressions: { length: number } }, stageId: number | undefined, table: string): void {
   if (report.euler && !report.euler.holds) {
     throw eulerFailure(report.euler);
   }
@@ -74,62 +72,41 @@ export function checkBalance(w: { input: number; ponded: number; outflow: number
   }
 }
 
-/** Text pieces to stdout, waiting when it is full (a large report can be longer than one string may be). */
-export async function printChunks(chunks: Iterable<string>): Promise<void> {
-  for (const chunk of chunks) {
-    if (!process.stdout.write(chunk)) await once(process.stdout, 'drain');
-  }
+/** A report as JSON on stdout (compact, then a newline), streamed from its columns. */
+export function printReport(report: object): void {
+  const sink = new TextSink(1);
+  writeJson(sink, report, 0);
+  sink.write('\n');
+  sink.close();
 }
 
-/** Write text pieces to a file through a 1 MB buffer (no single string holds the whole file). */
-export function writeChunks(path: string, chunks: Iterable<string>): void {
-  const fd = openSync(path, 'w');
-  try {
-    let buf: string[] = [], size = 0;
-    for (const c of chunks) {
-      buf.push(c);
-      size += c.length;
-      if (size >= 1 << 20) { writeSync(fd, buf.join('')); buf = []; size = 0; }
-    }
-    if (buf.length) writeSync(fd, buf.join(''));
-  } finally {
-    closeSync(fd);
-  }
+/** A report as report.json (indented by one space, lists one record a line), streamed from its columns. */
+export function writeReportFile(path: string, report: object): void {
+  withFileSink(path, (sink) => {
+    writeJson(sink, report, 1);
+    sink.write('\n');
+  });
 }
 
-/** A report as JSON text in pieces: every other key, then each of the `lists` one record a line. */
-export function* listJsonChunks(report: object, lists: readonly string[], pretty: boolean): Generator<string> {
-  const rest: Record<string, unknown> = { ...report };
-  for (const name of lists) delete rest[name];
-  const head = pretty ? JSON.stringify(rest, null, 1) : JSON.stringify(rest);
-  yield head.slice(0, head.lastIndexOf('}')).replace(/\s+$/, '');
-  for (const name of lists) {
-    const rows = (report as Record<string, readonly unknown[]>)[name];
-    yield pretty ? `,\n "${name}": [` : `,"${name}":[`;
-    for (let k = 0; k < rows.length; k++) yield (k ? ',' : '') + (pretty ? '\n  ' : '') + JSON.stringify(rows[k]);
-    yield pretty && rows.length ? '\n ]' : ']';
-  }
-  yield pretty ? '\n}\n' : '}\n';
+/**
+ * A CSV table of ids 1..n: the header of `columns`, then each row's text from `row(id)` when given
+ * (a writer straight from the columns), else from the columns' accessors of the id.
+ */
+export function writeIdCsv(path: string, n: number, columns: readonly [string, (id: number) => unknown][], row?: (id: number) => string): void {
+  withFileSink(path, (sink) => {
+    if (!row) { writeCsv(sink, n, columns.map(([h, f]) => [h, (i: number) => f(i + 1)] as const)); return; }
+    writeCsv(sink, 0, columns);
+    for (let id = 1; id <= n; id++) sink.write(row(id));
+  });
 }
 
-/** CSV text in pieces of 10 000 rows (one header). */
-export function* csvChunks<T>(rows: readonly T[], columns: readonly [string, (r: T) => unknown][]): Generator<string> {
-  for (let k = 0; k < Math.max(1, rows.length); k += 10000) {
-    const text = toCsv(rows.slice(k, k + 10000), columns);
-    yield k === 0 ? text : text.slice(text.indexOf('\n') + 1);
-  }
-}
-
-/** A GeoJSON feature collection in pieces, in the layout of featureCollection (src/io/tables.ts), one feature at a time. */
-export function* collectionChunks(crs: Grid['crs'], meta: Record<string, unknown>, features: Iterable<Feature>): Generator<string> {
-  const empty = featureCollection([], crs, meta);
-  yield empty.slice(0, empty.lastIndexOf('[') + 1);
-  let first = true;
-  for (const f of features) {
-    yield (first ? '' : ',') + JSON.stringify(f);
-    first = false;
-  }
-  yield ']}\n';
+/** A GeoJSON feature collection streamed into `path`; `write` adds the features (a second file may be written alongside). */
+export function withCollection(path: string, crs: Grid['crs'], meta: Record<string, unknown>, write: (fc: FeatureCollectionWriter) => void): void {
+  withFileSink(path, (sink) => {
+    const fc = new FeatureCollectionWriter(sink, collectionHead(crs, meta));
+    write(fc);
+    fc.end();
+  });
 }
 
 /** The stage-volume table as CSV (units in the headers). */
@@ -143,9 +120,9 @@ export function stageCsv(table: StageRow[], tokens: PondsUnits['tokens']): strin
 }
 
 /** The report's `outlines` entry: how many were traced, and `omittedNote(n)` when n were left out. */
-export function outlinesEntry(outlines: DepressionOutline[], omittedNote: (n: number) => string, allNote: string): { traced: number; omitted: number; note: string } {
-  const omitted = outlines.reduce((k, o) => k + (o.omitted ? 1 : 0), 0);
-  return { traced: outlines.length - omitted, omitted, note: omitted > 0 ? omittedNote(omitted) : allNote };
+export function outlinesEntry(counts: { traced: number; omitted: number }, omittedNote: (n: number) => string, allNote: string): { traced: number; omitted: number; note: string } {
+  const { traced, omitted } = counts;
+  return { traced, omitted, note: omitted > 0 ? omittedNote(omitted) : allNote };
 }
 
 interface SummaryHead {

@@ -1,19 +1,21 @@
 /** `sill ponds IN`: depression hierarchy, spill levels, pour points, volumes; filled/depth/label rasters. */
 import { Option, type Command } from 'commander';
 import { InputError } from '../errors.js';
-import { pondsReport, pondsCsvColumns, type PondsReport, type DepressionRecord } from '../report/ponds.js';
+import { pondsReport, pondsCsvColumns, pondsCsvRow, type PondsReport } from '../report/ponds.js';
+import { childrenText, topK, type DepressionColumns } from '../report/hydro-common.js';
 import type { PondsResult } from '../hydro/ponds.js';
 import { topLabels } from '../hydro/rasters.js';
-import { depressionOutlines, type DepressionOutline } from '../hydro/vectors.js';
+import { traceDepressionOutlines, type FlatPolygon } from '../hydro/vectors.js';
 import { toWgs84 } from '../hydro/reproject.js';
 import { stageVolume } from '../hydro/stage.js';
 import { writeGeoTiff } from '../io/index.js';
-import { pointFeature, type Feature } from '../io/tables.js';
+import { collectionHead } from '../io/tables.js';
+import { TextSink, FeatureCollectionWriter, featureJson, pointJson, writePolygons, formatNumber as jn } from '../io/stream.js';
 import type { OutputFolder } from '../io/outdir.js';
 import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, AREA_THRESHOLD, type NumberLimits } from './common.js';
 import {
-  parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printChunks, writeChunks, listJsonChunks, csvChunks,
-  collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
+  parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printReport, writeReportFile, writeIdCsv,
+  stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
 import { checkCellBudget, featureBudget } from './budget.js';
@@ -97,7 +99,7 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
     written = await writePondsFiles(out, result, report, { project, stageId, stageStep, progress, render, threads });
   }
   progress.done();
-  if (opts.json) await printChunks(reportJsonChunks(report, false));
+  if (opts.json) printReport(report);
   say(opts, pondsSummary(report, opts.out, written));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
@@ -134,11 +136,7 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     for (const r of rasters) r.catch(() => undefined); // awaited below
 
     await out.checkpoint();
-    w.progress?.stage('tracing outlines');
-    const outlines = depressionOutlines(g, R.labels, result.hierarchy);
-    report.outlines = outlinesEntry(outlines,
-      (omitted) => `${omitted} nested merged depressions have no polygon in depressions.geojson (null geometry): tracing every level of this deep hierarchy would scan the grid too many times; the top-level and leaf depressions and the largest nested ones are traced — use --min-depth, --min-area or --min-volume to simplify the hierarchy`,
-      'every depression has its polygon');
+
     const tokens = result.areas.units.tokens;
     const meta = {
       name: 'depressions',
@@ -146,19 +144,21 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
       units: report.units,
       caution: report.caution,
     };
-    await out.checkpoint();
-    w.progress?.stage('writing depressions.geojson');
-    writeChunks(out.path('depressions.geojson'), featureChunks(report, outlines, null, g.crs, meta));
-    if (w.project) writeChunks(out.path('depressions-wgs84.geojson'), featureChunks(report, outlines, w.project, null, { ...meta, name: 'depressions-wgs84' }));
+    w.progress?.stage('tracing outlines, writing depressions.geojson');
+    const counts = writeDepressionsGeojson(out.path('depressions.geojson'), w.project ? out.path('depressions-wgs84.geojson') : null, result, report.depressions.columns, w.project, meta);
+    report.outlines = outlinesEntry(counts,
+      (omitted) => `${omitted} nested merged depressions have no polygon in depressions.geojson (null geometry): tracing every level of this deep hierarchy would scan the grid too many times; the top-level and leaf depressions and the largest nested ones are traced — use --min-depth, --min-area or --min-volume to simplify the hierarchy`,
+      'every depression has its polygon');
     await out.checkpoint();
     w.progress?.stage('writing depressions.csv');
-    writeChunks(out.path('depressions.csv'), csvChunks(report.depressions, pondsCsvColumns(tokens)));
+    const cols = report.depressions.columns;
+    writeIdCsv(out.path('depressions.csv'), report.depressions.length, pondsCsvColumns(result, cols, tokens), (d) => pondsCsvRow(result, cols, d));
     if (w.stageId !== undefined) {
       out.write(`stage-volume-${w.stageId}.csv`, stageCsv(stageVolume(result, w.stageId, w.stageStep), tokens));
     }
     await out.checkpoint();
     w.progress?.stage('writing report.json');
-    writeChunks(out.path('report.json'), reportJsonChunks(report, true));
+    writeReportFile(out.path('report.json'), report);
     await out.checkpoint();
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'filled.tif', 'depth.tif', 'labels.tif'], (ctx) => buildPondsHtml(result, report, ctx));
@@ -170,45 +170,57 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
   }
 }
 
-function depressionProps(d: DepressionRecord): Record<string, unknown> {
-  return {
-    kind: 'depression', id: d.id, parent: d.parent, level: d.level, type: d.kind, children: d.children.join(' '),
-    pitValue: d.pitValue, spillValue: d.spillValue, into: d.into, cells: d.cells, area: d.area, volume: d.volume,
-    maxDepth: d.maxDepth, meanDepth: d.meanDepth, pourCol: d.pour.col, pourRow: d.pour.row,
-  };
+/** The properties of depression `d`'s polygon feature as JSON text, from the columns. */
+function depressionPropsJson(result: PondsResult, cols: DepressionColumns, d: number): string {
+  const H = result.hierarchy, W = result.grid.width;
+  const p = H.parent[d], into = H.into[d], pass = H.spillCell[d], row = Math.floor(pass / W);
+  return `{"kind":"depression","id":${d},"parent":${p === 0 ? 'null' : p},"level":${H.level[d]},"type":${H.childStart[d + 1] === H.childStart[d] ? '"leaf"' : '"merged"'}` +
+    `,"children":"${childrenText(H, d, ' ')}","pitValue":${jn(cols.pitValue[d])},"spillValue":${jn(cols.spillValue[d])},"into":${into === 0 ? '"outside"' : into}` +
+    `,"cells":${jn(H.wetCells[d])},"area":${jn(H.area[d])},"volume":${jn(H.volume[d])},"maxDepth":${jn(cols.maxDepth[d])},"meanDepth":${jn(H.meanDepth[d])}` +
+    `,"pourCol":${pass - row * W},"pourRow":${row}}`;
 }
 
-/** The report as JSON text in pieces: every key, then the depressions one record a line. */
-export function reportJsonChunks(report: PondsReport, pretty: boolean): Generator<string> {
-  return listJsonChunks(report, ['depressions'], pretty);
+/** A traced outline's geometry, written into the sink: null when it was left out, else its polygons (an empty MultiPolygon for none). */
+function writeOutline(sink: TextSink, polygons: FlatPolygon[] | null, project: ((x: number, y: number) => [number, number]) | null): void {
+  if (polygons === null) sink.write('null');
+  else if (polygons.length === 0) sink.write('{"type":"MultiPolygon","coordinates":[]}');
+  else writePolygons(sink, polygons, project);
 }
 
 /**
- * depressions.geojson in pieces, in the layout of featureCollection (src/io/tables.ts): the
- * collection's members, then one feature at a time — a polygon per depression (null geometry when
- * its outline was left out), then a point per pour point.
+ * depressions.geojson (and, with `project`, depressions-wgs84.geojson alongside), streamed: the
+ * collection's members, a polygon per depression as its outline is traced (null geometry when it
+ * was left out), then a point per pour point. Returns the tracing's counts.
  */
-function featureChunks(report: PondsReport, outlines: DepressionOutline[], project: ((x: number, y: number) => [number, number]) | null, crs: PondsResult['grid']['crs'], meta: Record<string, unknown>): Generator<string> {
-  const P = project ?? ((x: number, y: number): [number, number] => [x, y]);
-  const features = function* (): Generator<Feature> {
-    for (const o of outlines) {
-      const d = report.depressions[o.id - 1];
-      const coords = o.polygons.map((poly) => poly.map((ring) => ring.map(([x, y]) => P(x, y))));
-      yield {
-        type: 'Feature', id: d.id,
-        geometry: o.omitted ? null : coords.length === 1 ? { type: 'Polygon', coordinates: coords[0] } : { type: 'MultiPolygon', coordinates: coords },
-        properties: depressionProps(d),
-      };
+function writeDepressionsGeojson(path: string, wgsPath: string | null, result: PondsResult, cols: DepressionColumns,
+  project: ((x: number, y: number) => [number, number]) | null, meta: Record<string, unknown>): { traced: number; omitted: number } {
+  const g = result.grid, H = result.hierarchy, W = g.width;
+  const sink = TextSink.file(path);
+  const wgs = wgsPath && project ? TextSink.file(wgsPath) : null;
+  try {
+    const fc = new FeatureCollectionWriter(sink, collectionHead(g.crs, meta));
+    const fw = wgs ? new FeatureCollectionWriter(wgs, collectionHead(null, { ...meta, name: 'depressions-wgs84' })) : null;
+    const counts = traceDepressionOutlines(g, result.rasters.labels, H, (d, polygons) => {
+      const props = depressionPropsJson(result, cols, d);
+      fc.featureWith(d, (k) => writeOutline(k, polygons, null), props);
+      fw?.featureWith(d, (k) => writeOutline(k, polygons, project), props);
+    });
+    for (let d = 1; d <= H.count; d++) {
+      const pass = H.spillCell[d], row = Math.floor(pass / W), col = pass - row * W;
+      const x = g.x(col, row), y = g.y(col, row);
+      const into = H.into[d];
+      const props = `{"kind":"pour point","id":${d},"spillValue":${jn(cols.spillValue[d])},"into":${into === 0 ? '"outside"' : into},"pourCol":${col},"pourRow":${row}` +
+        `,"toCol":${cols.toCol[d]},"toRow":${cols.toRow[d]},"toOutside":${cols.toOutside[d] === 1 ? 'true' : 'false'}}`;
+      fc.feature(featureJson(undefined, pointJson(x, y), props));
+      if (fw && project) { const [px, py] = project(x, y); fw.feature(featureJson(undefined, pointJson(px, py), props)); }
     }
-    for (const d of report.depressions) {
-      const [x, y] = P(d.pour.x, d.pour.y);
-      yield pointFeature(x, y, {
-        kind: 'pour point', id: d.id, spillValue: d.spillValue, into: d.into, pourCol: d.pour.col, pourRow: d.pour.row,
-        toCol: d.pour.to.col, toRow: d.pour.to.row, toOutside: d.pour.to.outside,
-      });
-    }
-  };
-  return collectionChunks(crs, meta, features());
+    fc.end();
+    fw?.end();
+    return counts;
+  } finally {
+    sink.close();
+    wgs?.close();
+  }
 }
 
 export function pondsSummary(r: PondsReport, outDir?: string, files: string[] = []): string {
@@ -232,7 +244,8 @@ export function pondsSummary(r: PondsReport, outDir?: string, files: string[] = 
   lines.push(`units        elevations and depths in ${u.elevation}, areas in ${u.area}, volumes in ${u.volume}; horizontal: ${u.horizontal}`);
   for (const note of u.notes) lines.push(`             ${note}`);
   const geo = !!s.crs?.geographic;
-  const top = [...r.depressions].sort((a, b) => b.volume - a.volume || a.id - b.id).slice(0, 5);
+  // the five largest by a bounded selection over the volume column (ties: the smaller id)
+  const top = topK(r.depressions.columns.volume, 1, r.depressions.length + 1, 5).map((id) => r.depressions.at(id - 1));
   if (top.length) {
     lines.push('largest:');
     for (const d of top) {
@@ -243,3 +256,4 @@ export function pondsSummary(r: PondsReport, outDir?: string, files: string[] = 
   lines.push(...summaryTail(r, outDir, files));
   return lines.join('\n');
 }
+

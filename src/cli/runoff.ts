@@ -1,20 +1,19 @@
 /** `sill runoff IN --depth D`: route a runoff depth through the depression hierarchy (fill, spill, merge). */
 import { Option, type Command } from 'commander';
 import { InputError } from '../errors.js';
-import { runoffReport, runoffCsvColumns, type RunoffReport, type PondRecord } from '../report/runoff.js';
+import { runoffReport, runoffCsvColumns, runoffCsvRow, type RunoffReport } from '../report/runoff.js';
 import type { RunoffResult } from '../hydro/runoff.js';
 import { runoffStageVolume } from '../hydro/runoff.js';
 import { parseDepth, depthUnit, DEPTH_UNITS } from '../hydro/runoff-input.js';
-import { bodyOutlines } from '../hydro/runoff-vectors.js';
-import type { DepressionOutline } from '../hydro/vectors.js';
+import { traceBodyOutlines } from '../hydro/runoff-vectors.js';
 import { writeGeoTiff, loadSurface } from '../io/index.js';
-import type { Feature } from '../io/tables.js';
+import { writePolygons, formatNumber as jn } from '../io/stream.js';
 import type { OutputFolder } from '../io/outdir.js';
 import type { Grid } from '../surface/grid.js';
 import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, openOutput, THRESHOLD } from './common.js';
 import {
-  parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, checkBalance, printChunks, writeChunks, listJsonChunks, csvChunks,
-  collectionChunks, stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
+  parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, checkBalance, printReport, writeReportFile, writeIdCsv, withCollection,
+  stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
 import { checkCellBudget, featureBudget } from './budget.js';
@@ -114,7 +113,7 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
     written = await writeRunoffFiles(out, result, report, { stageId, stageStep, progress, render, threads });
     progress.done();
   }
-  if (opts.json) await printChunks(runoffJsonChunks(report, false));
+  if (opts.json) printReport(report);
   say(opts, runoffSummary(report, opts.out, written));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
@@ -146,31 +145,38 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     ];
     for (const r of rasters) r.catch(() => undefined); // awaited below
 
-    await out.checkpoint();
-    w.progress?.stage('tracing pond outlines');
-    const outlines = bodyOutlines(g, R.bodies, result.bodies.count, result.bodies.volume);
-    report.outlines = outlinesEntry(outlines,
-      (omitted) => `${omitted} of the smallest ponds have no polygon in ponds.geojson (null geometry): their bounding boxes would take the tracing past its budget of 8 × the grid's cells; water-depth.tif has every one`,
-      'every pond has its polygon');
     const tokens = result.areas.units.tokens;
-    await out.checkpoint();
-    w.progress?.stage('writing ponds.geojson');
-    writeChunks(out.path('ponds.geojson'), pondChunks(report, outlines, g.crs, {
+    w.progress?.stage('tracing pond outlines, writing ponds.geojson');
+    const meta = {
       name: 'ponds',
       description: `water standing after routing ${report.runoff.depthText ?? 'the runoff'} through the depressions: one polygon per pond (connected water under one level)`,
       units: report.units,
       water: report.water,
       caution: report.caution,
-    }));
+    };
+    const B = result.bodies;
+    let counts = { traced: 0, omitted: 0 };
+    withCollection(out.path('ponds.geojson'), g.crs, meta, (fc) => {
+      // one polygon per pond, written as it is traced
+      counts = traceBodyOutlines(g, R.bodies, B.count, B.volume, (b, polygons) => {
+        const props = `{"kind":"pond","id":${b},"volume":${jn(B.volume[b])},"level":${jn(B.level[b])},"area":${jn(B.area[b])},"cells":${jn(B.cells[b])}` +
+          `,"maxDepth":${jn(B.maxDepth[b])},"depression":${B.depression[b] > 0 ? B.depression[b] : 'null'},"full":${B.full[b] === 1 ? 'true' : 'false'}}`;
+        fc.featureWith(b, (k) => { if (polygons === null || polygons.length === 0) k.write('null'); else writePolygons(k, polygons); }, props);
+      });
+    });
+    report.outlines = outlinesEntry(counts,
+      (omitted) => `${omitted} of the smallest ponds have no polygon in ponds.geojson (null geometry): their bounding boxes would take the tracing past its budget of 8 × the grid's cells; water-depth.tif has every one`,
+      'every pond has its polygon');
     await out.checkpoint();
     w.progress?.stage('writing runoff.csv');
-    writeChunks(out.path('runoff.csv'), csvChunks(report.depressions, runoffCsvColumns(tokens)));
+    const cols = report.depressions.columns;
+    writeIdCsv(out.path('runoff.csv'), report.depressions.length, runoffCsvColumns(result, cols, tokens), (d) => runoffCsvRow(result, cols, d));
     if (w.stageId !== undefined) {
       out.write(`stage-volume-${w.stageId}.csv`, stageCsv(runoffStageVolume(result, w.stageId, w.stageStep), tokens));
     }
     await out.checkpoint();
     w.progress?.stage('writing report.json');
-    writeChunks(out.path('report.json'), runoffJsonChunks(report, true));
+    writeReportFile(out.path('report.json'), report);
     await out.checkpoint();
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'runoff.csv', 'ponds.geojson', 'water-level.tif', 'water-depth.tif'], (ctx) => buildRunoffHtml(result, report, ctx));
@@ -180,31 +186,6 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     await Promise.allSettled(rasters); // every raster writer has finished (and removed its temporary file)
     throw out.fail(e);
   }
-}
-
-/** The report as JSON text in pieces: every key, then the depressions and the ponds one record a line. */
-export function runoffJsonChunks(report: RunoffReport, pretty: boolean): Generator<string> {
-  return listJsonChunks(report, ['depressions', 'ponds'], pretty);
-}
-
-function pondProps(p: PondRecord): Record<string, unknown> {
-  return { kind: 'pond', id: p.id, volume: p.volume, level: p.level, area: p.area, cells: p.cells, maxDepth: p.maxDepth, depression: p.depression, full: p.full };
-}
-
-/** ponds.geojson in pieces, in the layout of featureCollection (src/io/tables.ts): one polygon per pond. */
-function pondChunks(report: RunoffReport, outlines: DepressionOutline[], crs: Grid['crs'], meta: Record<string, unknown>): Generator<string> {
-  const features = function* (): Generator<Feature> {
-    for (const o of outlines) {
-      const p = report.ponds[o.id - 1];
-      yield {
-        type: 'Feature', id: p.id,
-        geometry: o.omitted || o.polygons.length === 0 ? null
-          : o.polygons.length === 1 ? { type: 'Polygon', coordinates: o.polygons[0] } : { type: 'MultiPolygon', coordinates: o.polygons },
-        properties: pondProps(p),
-      };
-    }
-  };
-  return collectionChunks(crs, meta, features());
 }
 
 const pct = (x: number) => `${fmt(100 * x, 3)} %`;
@@ -228,7 +209,7 @@ export function runoffSummary(r: RunoffReport, outDir?: string, files: string[] 
   if (c.closedRegions > 0) lines.push(`no outlet    ${c.closedRegions} walled-in region${c.closedRegions === 1 ? '' : 's'} hold${c.closedRegions === 1 ? 's' : ''} ${fmt(r.totals.closedRegionWater)} ${v}`);
   lines.push(`units        elevations and levels in ${u.elevation}, areas in ${u.area}, volumes in ${v}; horizontal: ${u.horizontal}`);
   for (const note of u.notes) lines.push(`             ${note}`);
-  const top = r.ponds.slice(0, 5);
+  const top = Array.from({ length: Math.min(5, r.ponds.length) }, (_, i) => r.ponds.at(i)); // ponds are numbered largest first
   if (top.length) {
     lines.push('largest ponds:');
     for (const p of top) {

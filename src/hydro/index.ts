@@ -5,10 +5,10 @@ export { cellAreas, ellipsoidalCellArea, zoneArea, XY_UNITS, Z_UNITS, type CellA
 export { sweepDepressions, nodeSums, type DepressionSweep, type NodeSums } from './sweep.js';
 export { buildHierarchy, type Hierarchy, type HierarchyFilters, type RemovedSummary } from './hierarchy.js';
 export { pondRasters, topLabels, type PondRasters, type SpareMemory } from './rasters.js';
-export { depressionOutlines, depressionBoxes, ringArea, type DepressionOutline, type OutlineOptions } from './vectors.js';
+export { depressionOutlines, traceDepressionOutlines, depressionBoxes, ringArea, maskRings, type DepressionOutline, type OutlineOptions, type FlatPolygon, type FlatRing } from './vectors.js';
 export { stageVolume, type StageRow } from './stage.js';
 export { toWgs84, projDefinition } from './reproject.js';
 export { runoff, runoffStageVolume, type RunoffOptions, type RunoffResult, type RunoffWater, type RunoffInputInfo, type WaterBodies } from './runoff.js';
 export { fillSpillMerge, routingTree, flowDestinations, layerLevels, stepWeights, type RoutingTree, type RoutingResult } from './runoff-route.js';
 export { parseDepth, depthUnit, alignRaster, checkDepthRaster, DEPTH_UNITS, type AlignedRaster } from './runoff-input.js';
-export { bodyOutlines } from './runoff-vectors.js';
+export { bodyOutlines, traceBodyOutlines } from './runoff-vectors.js';

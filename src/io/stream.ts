@@ -96,7 +96,12 @@ export function formatNumber(x: number, nonFinite = 'null'): string {
  * `toJSON` materialises it (for callers who want plain arrays; the streamed writers never do).
  */
 export class Rows<T> implements Iterable<T> {
-  constructor(readonly length: number, readonly at: (i: number) => T, readonly options: { compact?: boolean } = {}) {}
+  /**
+   * `options.compact`: the JSON writer puts one record a line even inside indented output;
+   * `options.json(i)`: record i's compact JSON text, written straight from the columns (it must
+   * equal JSON.stringify(at(i)), −0 aside), so that writing never builds the record.
+   */
+  constructor(readonly length: number, readonly at: (i: number) => T, readonly options: RowsOptions = {}) {}
 
   *[Symbol.iterator](): Iterator<T> {
     for (let i = 0; i < this.length; i++) yield this.at(i);
@@ -114,14 +119,32 @@ export class Rows<T> implements Iterable<T> {
     return out;
   }
 
+  /** The first record for which `f` holds (records are built one at a time), or undefined. */
+  find(f: (r: T, i: number) => boolean): T | undefined {
+    for (let i = 0; i < this.length; i++) { const r = this.at(i); if (f(r, i)) return r; }
+    return undefined;
+  }
+
+  /** The records for which `f` holds, as an array (for the few a caller looks at). */
+  filter(f: (r: T, i: number) => boolean): T[] {
+    const out: T[] = [];
+    for (let i = 0; i < this.length; i++) { const r = this.at(i); if (f(r, i)) out.push(r); }
+    return out;
+  }
+
   toJSON(): T[] {
     return this.toArray();
   }
 }
 
+export interface RowsOptions {
+  compact?: boolean;
+  json?: (i: number) => string;
+}
+
 /** Rows that the JSON writer puts one compact record a line even inside indented output. */
-export function compactRows<T>(length: number, at: (i: number) => T): Rows<T> {
-  return new Rows(length, at, { compact: true });
+export function compactRows<T>(length: number, at: (i: number) => T, json?: (i: number) => string): Rows<T> {
+  return new Rows(length, at, { compact: true, json });
 }
 
 /**
@@ -154,6 +177,17 @@ function writeValue(sink: TextSink, value: unknown, gap: string, ind: string): b
 }
 
 function writeRows(sink: TextSink, rows: Rows<unknown>, gap: string, ind: string): void {
+  const json = rows.options.json;
+  if (json && (rows.options.compact || !gap)) {
+    const n = rows.length;
+    if (n === 0) { sink.write('[]'); return; }
+    const inner = ind + gap;
+    const sep = gap ? ',\n' + inner : ',';
+    sink.write(gap ? '[\n' + inner : '[');
+    for (let i = 0; i < n; i++) sink.write(i ? sep + json(i) : json(i));
+    sink.write(gap ? '\n' + ind + ']' : ']');
+    return;
+  }
   writeArray(sink, rows.length, rows.at, gap, ind, !!rows.options.compact);
 }
 
@@ -260,6 +294,100 @@ export function writeCsv(sink: TextSink, n: number, columns: readonly (readonly 
 /** CSV from a list of records: `columns` maps each header to an accessor of a record (writeCsv over the list). */
 export function writeCsvRecords<T>(sink: TextSink, rows: readonly T[], columns: readonly (readonly [string, (r: T) => unknown])[]): void {
   writeCsv(sink, rows.length, columns.map(([h, f]) => [h, (i: number) => f(rows[i])] as const));
+}
+
+/** A JSON string literal (JSON.stringify of a string). */
+export const jsonString = (s: string): string => JSON.stringify(s);
+
+/** A JSON number or null: formatNumber, kept short to call from record writers. */
+export const jn = (x: number): string => formatNumber(x);
+
+/**
+ * A GeoJSON FeatureCollection written feature by feature: `members` are the collection's other
+ * members (type first, as JSON.stringify would write them), then `features` one at a time as
+ * their JSON text, in the layout of JSON.stringify (no spaces) and a final newline.
+ */
+export class FeatureCollectionWriter {
+  private first = true;
+
+  constructor(readonly sink: TextSink, members: Record<string, unknown>) {
+    const head = JSON.stringify({ ...members, features: [] });
+    sink.write(head.slice(0, head.length - 2));
+  }
+
+  /** One feature, given as its JSON text. */
+  feature(text: string): void {
+    this.sink.write(this.first ? text : ',' + text);
+    this.first = false;
+  }
+
+  /**
+   * One feature whose geometry is written by `geometry` into the sink (so that a geometry of
+   * millions of vertices is never one string): the same text as feature(featureJson(…)).
+   */
+  featureWith(id: number | undefined, geometry: (sink: TextSink) => void, properties: string): void {
+    const lead = id === undefined ? '{"type":"Feature","geometry":' : `{"type":"Feature","id":${jn(id)},"geometry":`;
+    this.sink.write(this.first ? lead : ',' + lead);
+    this.first = false;
+    geometry(this.sink);
+    this.sink.write(`,"properties":${properties}}`);
+  }
+
+  end(): void {
+    this.sink.write(']}\n');
+  }
+}
+
+/** A feature's JSON text: `{"type":"Feature","id":…,"geometry":…,"properties":…}` (id left out when undefined). */
+export function featureJson(id: number | undefined, geometry: string, properties: string): string {
+  return id === undefined
+    ? `{"type":"Feature","geometry":${geometry},"properties":${properties}}`
+    : `{"type":"Feature","id":${jn(id)},"geometry":${geometry},"properties":${properties}}`;
+}
+
+/** A GeoJSON Point geometry's JSON text. */
+export function pointJson(x: number, y: number): string {
+  return `{"type":"Point","coordinates":[${jn(x)},${jn(y)}]}`;
+}
+
+/**
+ * Polygons (each a list of rings, a ring as flat coordinates x0, y0, x1, y1, …) as a GeoJSON
+ * geometry's JSON text: null for none, a Polygon for one, a MultiPolygon for several; `project`
+ * maps each vertex first.
+ */
+export function polygonsJson(polygons: readonly (readonly ArrayLike<number>[])[], project: ((x: number, y: number) => [number, number]) | null = null): string {
+  const parts: string[] = [];
+  writePolygons({ write: (t: string) => { parts.push(t); } }, polygons, project);
+  return parts.join('');
+}
+
+/** The same geometry written piece by piece into `sink` (a ring's vertices in pieces of 4096). */
+export function writePolygons(sink: { write(s: string): void }, polygons: readonly (readonly ArrayLike<number>[])[], project: ((x: number, y: number) => [number, number]) | null = null): void {
+  if (polygons.length === 0) { sink.write('null'); return; }
+  const ring = (r: ArrayLike<number>): void => {
+    let s = '[';
+    for (let k = 0; k + 1 < r.length; k += 2) {
+      let x = r[k], y = r[k + 1];
+      if (project) [x, y] = project(x, y);
+      s += (k ? ',[' : '[') + jn(x) + ',' + jn(y) + ']';
+      if ((k & 8190) === 8190) { sink.write(s); s = ''; }
+    }
+    sink.write(s + ']');
+  };
+  const poly = (p: readonly ArrayLike<number>[]): void => {
+    sink.write('[');
+    for (let q = 0; q < p.length; q++) { if (q) sink.write(','); ring(p[q]); }
+    sink.write(']');
+  };
+  if (polygons.length === 1) {
+    sink.write('{"type":"Polygon","coordinates":');
+    poly(polygons[0]);
+    sink.write('}');
+    return;
+  }
+  sink.write('{"type":"MultiPolygon","coordinates":[');
+  for (let q = 0; q < polygons.length; q++) { if (q) sink.write(','); poly(polygons[q]); }
+  sink.write(']}');
 }
 
 /** Write into a new file at `path` through a sink, closing it whatever happens. */

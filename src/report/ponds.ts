@@ -3,10 +3,14 @@ import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
 import { ponds, type PondsOptions, type PondsResult } from '../hydro/ponds.js';
 import type { RemovedSummary } from '../hydro/hierarchy.js';
-import { num, type SurfaceInfo, type EulerInfo, type FeatureHook } from './common.js';
-import { depressionCore, reportHead, reportUnits, cellAreaRange, type DepressionCore } from './hydro-common.js';
+import { type SurfaceInfo, type EulerInfo, type FeatureHook } from './common.js';
+import { formatNumber } from '../io/stream.js';
+import {
+  depressionColumns, depressionCore, depressionCoreJson, childrenText, reportHead, reportUnits, cellAreaRange, DepressionRows,
+  type DepressionCore, type DepressionColumns,
+} from './hydro-common.js';
 
-export { cleanValue, cleanDifference, type CellRef, type PourRecord } from './hydro-common.js';
+export { cleanValue, cleanDifference, DepressionRows, type CellRef, type PourRecord } from './hydro-common.js';
 
 export const PONDS_CAUTION =
   'Screening information only: spill levels, pour points and volumes come from the DEM alone (its resolution, ' +
@@ -47,7 +51,8 @@ export interface PondsReport {
   labelLevel: 'leaf' | 'top';
   /** With -o: how many depressions have a polygon in depressions.geojson. */
   outlines?: { traced: number; omitted: number; note: string };
-  depressions: DepressionRecord[];
+  /** One record per depression, made on demand from the columns (`depressions.columns`). */
+  depressions: DepressionRows<DepressionRecord>;
 }
 
 export interface PondsRun {
@@ -67,14 +72,18 @@ export function pondsReport(surface: Grid | Mesh, opts: PondsReportOptions = {},
 
 export function buildPondsReport(result: PondsResult, input: string | null, labelLevel: 'leaf' | 'top' = 'leaf'): PondsReport {
   const H = result.hierarchy;
-  const depressions: DepressionRecord[] = [];
+  const cols = depressionColumns(result);
   let leaf = 0, merged = 0, topLevel = 0, volume = 0, area = 0;
   for (let id = 1; id <= H.count; id++) {
-    const d = depressionCore(result, id);
-    if (d.kind === 'leaf') leaf++; else merged++;
-    if (d.parent === null) { topLevel++; volume += H.volume[id]; area += H.area[id]; }
-    depressions.push({ ...d, meanDepth: H.meanDepth[id] });
+    if (H.childStart[id + 1] === H.childStart[id]) leaf++; else merged++;
+    if (H.parent[id] === 0) { topLevel++; volume += H.volume[id]; area += H.area[id]; }
   }
+  const depressions = new DepressionRows<DepressionRecord>(
+    H.count,
+    (i) => ({ ...depressionCore(result, cols, i + 1), meanDepth: H.meanDepth[i + 1] }),
+    (i) => depressionCoreJson(result, cols, i + 1) + `,"meanDepth":${formatNumber(H.meanDepth[i + 1])}}`,
+    cols,
+  );
   const zf = result.areas.zFactor;
   const o = result.options;
   return {
@@ -94,36 +103,58 @@ export function buildPondsReport(result: PondsResult, input: string | null, labe
       filledCells: result.rasters.filledCells,
     },
     labelLevel,
+    // set by the writer of -o (depressions.geojson); the depressions come last in the JSON
+    outlines: undefined,
     depressions,
   };
 }
 
-/** Units written into table headers: `area_m2`, `volume_m3`, `spill_value_m`, … */
-export function pondsCsvColumns(tokens: { elevation: string; area: string; volume: string }): [string, (d: DepressionRecord) => unknown][] {
+/**
+ * Columns of depressions.csv (units in the headers), each an accessor of depression id `d` reading
+ * the columns — no record is made.
+ */
+export function pondsCsvColumns(result: PondsResult, cols: DepressionColumns, tokens: { elevation: string; area: string; volume: string }): [string, (d: number) => unknown][] {
   const z = tokens.elevation, a = tokens.area, v = tokens.volume;
+  const H = result.hierarchy, g = result.grid, W = g.width;
+  const col = (i: number) => i % W, row = (i: number) => Math.floor(i / W);
   return [
-    ['id', (d) => d.id],
-    ['parent', (d) => d.parent ?? ''],
-    ['level', (d) => d.level],
-    ['kind', (d) => d.kind],
-    ['children', (d) => d.children.join(' ')],
-    [`pit_value_${z}`, (d) => num(d.pitValue)],
-    ['pit_col', (d) => d.pit.col],
-    ['pit_row', (d) => d.pit.row],
-    ['pit_x', (d) => d.pit.x],
-    ['pit_y', (d) => d.pit.y],
-    [`spill_value_${z}`, (d) => num(d.spillValue)],
-    ['pour_col', (d) => d.pour.col],
-    ['pour_row', (d) => d.pour.row],
-    ['pour_x', (d) => d.pour.x],
-    ['pour_y', (d) => d.pour.y],
-    ['pour_to_col', (d) => d.pour.to.col],
-    ['pour_to_row', (d) => d.pour.to.row],
-    ['into', (d) => d.into],
-    ['cells', (d) => d.cells],
-    [`area_${a}`, (d) => d.area],
-    [`volume_${v}`, (d) => d.volume],
-    [`max_depth_${z}`, (d) => d.maxDepth],
-    [`mean_depth_${z}`, (d) => d.meanDepth],
+    ['id', (d) => d],
+    ['parent', (d) => (H.parent[d] === 0 ? '' : H.parent[d])],
+    ['level', (d) => H.level[d]],
+    ['kind', (d) => (H.childStart[d + 1] === H.childStart[d] ? 'leaf' : 'merged')],
+    ['children', (d) => childrenText(H, d, ' ')],
+    [`pit_value_${z}`, (d) => cols.pitValue[d]],
+    ['pit_col', (d) => col(H.pit[d])],
+    ['pit_row', (d) => row(H.pit[d])],
+    ['pit_x', (d) => g.x(col(H.pit[d]), row(H.pit[d]))],
+    ['pit_y', (d) => g.y(col(H.pit[d]), row(H.pit[d]))],
+    [`spill_value_${z}`, (d) => cols.spillValue[d]],
+    ['pour_col', (d) => col(H.spillCell[d])],
+    ['pour_row', (d) => row(H.spillCell[d])],
+    ['pour_x', (d) => g.x(col(H.spillCell[d]), row(H.spillCell[d]))],
+    ['pour_y', (d) => g.y(col(H.spillCell[d]), row(H.spillCell[d]))],
+    ['pour_to_col', (d) => cols.toCol[d]],
+    ['pour_to_row', (d) => cols.toRow[d]],
+    ['into', (d) => (H.into[d] === 0 ? 'outside' : H.into[d])],
+    ['cells', (d) => H.wetCells[d]],
+    [`area_${a}`, (d) => H.area[d]],
+    [`volume_${v}`, (d) => H.volume[d]],
+    [`max_depth_${z}`, (d) => cols.maxDepth[d]],
+    [`mean_depth_${z}`, (d) => H.meanDepth[d]],
   ];
+}
+
+/**
+ * Row `d` of depressions.csv as text (with its newline), straight from the columns: the same line
+ * writeCsv makes from pondsCsvColumns (a test holds them equal), without a call per cell.
+ */
+export function pondsCsvRow(result: PondsResult, cols: DepressionColumns, d: number): string {
+  const H = result.hierarchy, g = result.grid, W = g.width;
+  const pit = H.pit[d], pr = Math.floor(pit / W), pc = pit - pr * W;
+  const pass = H.spillCell[d], sr = Math.floor(pass / W), sc = pass - sr * W;
+  const p = H.parent[d], into = H.into[d];
+  const c = (x: number) => formatNumber(x, '');
+  return `${d},${p === 0 ? '' : p},${H.level[d]},${H.childStart[d + 1] === H.childStart[d] ? 'leaf' : 'merged'},${childrenText(H, d, ' ')}` +
+    `,${c(cols.pitValue[d])},${pc},${pr},${c(g.x(pc, pr))},${c(g.y(pc, pr))},${c(cols.spillValue[d])},${sc},${sr},${c(g.x(sc, sr))},${c(g.y(sc, sr))}` +
+    `,${cols.toCol[d]},${cols.toRow[d]},${into === 0 ? 'outside' : into},${c(H.wetCells[d])},${c(H.area[d])},${c(H.volume[d])},${c(cols.maxDepth[d])},${c(H.meanDepth[d])}\n`;
 }

@@ -74,7 +74,7 @@ describe('depression hierarchy: identities (property tests)', () => {
         expect(Math.abs(vol - d.volume)).toBeLessThanOrEqual(1e-9 * Math.max(1, vol));
         expect(Math.abs(area - d.area)).toBeLessThanOrEqual(1e-9 * Math.max(1, area));
         expect(zmin).toBe(d.pitValue);
-        const kids = d.children.map((k) => report.depressions[k - 1]);
+        const kids = d.children.map((k) => report.depressions.at(k - 1));
         if (kids.length) {
           expect(kids.length).toBeGreaterThanOrEqual(2);
           expect(d.volume).toBeGreaterThanOrEqual(kids.reduce((s, k) => s + k.volume, 0) * (1 - 1e-12));
@@ -147,7 +147,7 @@ describe('depression hierarchy: identities (property tests)', () => {
     fc.assert(fc.property(gridArb, fc.double({ min: 0.5, max: 80, noNaN: true }), ({ g, conn, outlet }, V) => {
       const { result: r, report } = pondsReport(g, { connectivity: conn, nodataOutlet: outlet, euler: false, fillOnlyBelow: V });
       const byId = report.depressions;
-      const filledBy = byId.filter((d) => d.volume < V && (d.parent === null || byId[d.parent - 1].volume >= V));
+      const filledBy = byId.filter((d) => d.volume < V && (d.parent === null || byId.at(d.parent - 1).volume >= V));
       const want = filledBy.reduce((s, d) => s + d.volume, 0);
       near(report.totals.filledVolume, want);
       for (let i = 0; i < g.size; i++) {
@@ -174,7 +174,7 @@ describe('small cases by hand', () => {
     const g = gridOf(5, 5, v);
     const { report } = pondsReport(g, {});
     expect(report.depressions).toHaveLength(1);
-    const d = report.depressions[0];
+    const d = report.depressions.at(0);
     expect(d.pitValue).toBe(0);
     expect(d.spillValue).toBe(3);
     expect([d.pour.col, d.pour.row]).toEqual([4, 2]);

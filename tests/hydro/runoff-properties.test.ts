@@ -180,13 +180,13 @@ describe('runoff routing: properties over random DEMs and runoff fields', () => 
         if (d.state !== 'full') expect(d.passedOn).toBeLessThanOrEqual(tol);
         if (d.waterLevel !== null) {
           let top = d;
-          while (top.parent !== null) top = report.depressions[top.parent - 1];
+          while (top.parent !== null) top = report.depressions.at(top.parent - 1);
           expect(d.waterLevel).toBeGreaterThan(d.pitValue);
           expect(d.waterLevel).toBeLessThanOrEqual(top.spillValue);
         }
         // what a full depression passes on goes somewhere: into its neighbour, or (outermost ones) off the map
         if (d.parent === null) top += d.passedOn;
-        const kids = d.children.map((c) => report.depressions[c - 1]);
+        const kids = d.children.map((c) => report.depressions.at(c - 1));
         if (kids.length) expect(d.waterVolume).toBeGreaterThanOrEqual(kids.reduce((s, c) => s + c.waterVolume, 0) - tol);
       }
       expect(top).toBeLessThanOrEqual(r.water.outflow - r.water.outflowDirect + tol);

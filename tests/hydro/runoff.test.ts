@@ -220,7 +220,7 @@ describe('two bowls joined by a saddle: first fills, spills, both fill, merge (B
     const r = run(d);
     expect([state(r, id1), state(r, id2)]).toEqual(['full', 'partial']);
     const { report } = runoffReport(g, { depthRaster: new Grid({ width: W, height: Hh, values: rain.map((x) => x * d), transform: g.transform, crs: UTM }), euler: false });
-    const d1 = report.depressions[id1 - 1], d2 = report.depressions[id2 - 1];
+    const d1 = report.depressions.at(id1 - 1), d2 = report.depressions.at(id2 - 1);
     near(d1.received, d * A1);
     near(d1.waterVolume, C1);
     near(d1.passedOn, d * A1 - C1);
@@ -229,7 +229,7 @@ describe('two bowls joined by a saddle: first fills, spills, both fill, merge (B
     near(d2.waterVolume, d * A2 + d * A1 - C1);
     expect(d2.passedOn).toBe(0);
     near(floodBelow(g, pit2, d2.waterLevel!).volume, d2.waterVolume);
-    expect(report.depressions[idm - 1].waterLevel).toBeNull(); // two pools at different levels
+    expect(report.depressions.at(idm - 1).waterLevel).toBeNull(); // two pools at different levels
   });
 
   it('phase 3: both full, they merge and fill together: one level over both, above the saddle', () => {
@@ -373,7 +373,7 @@ describe('routing details of the method', () => {
       checkBalance(result);
       const D1 = pitAt(report, 5, 4), D2 = pitAt(report, 4, 6);
       expect(D1.parent).toBe(D2.parent);
-      const P = report.depressions[D1.parent! - 1];
+      const P = report.depressions.at(D1.parent! - 1);
       expect([D1.volume, D2.volume]).toEqual([6, 6]);
       for (const [d, want] of [[D1, d1], [D2, d2]] as const) {
         expect(d.received).toBeCloseTo(want[0], 12);

@@ -43,7 +43,7 @@ describe('depression outlines', () => {
         const outlines = depressionOutlines(g, result.rasters.labels, result.hierarchy);
         const cellArea = Math.abs(t[1] * t[5] - t[2] * t[4]);
         for (const o of outlines) {
-          const d = report.depressions[o.id - 1];
+          const d = report.depressions.at(o.id - 1);
           expect(polygonArea(o.polygons)).toBeCloseTo(d.cells * cellArea, 6);
           expect(d.area).toBeCloseTo(d.cells * cellArea, 9);
         }
@@ -103,7 +103,7 @@ describe('depression outlines', () => {
     expect(all.every((o) => !o.omitted && o.polygons.length === 1)).toBe(true);
     const few = depressionOutlines(g, result.rasters.labels, result.hierarchy, { budget: 0 });
     for (const o of few) {
-      const d = report.depressions[o.id - 1];
+      const d = report.depressions.at(o.id - 1);
       if (d.parent === null || d.children.length === 0) { expect(o.omitted).toBeFalsy(); expect(o.polygons).toHaveLength(1); }
       else { expect(o.omitted).toBe(true); expect(o.polygons).toEqual([]); }
     }

@@ -8,7 +8,7 @@ import fc from 'fast-check';
 import { mkdtempSync, openSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { TextSink, formatNumber, writeJson, Rows, compactRows, writeCsv, withFileSink } from '../../src/io/stream.js';
+import { TextSink, formatNumber, writeJson, Rows, compactRows, writeCsv, withFileSink, FeatureCollectionWriter, featureJson, pointJson, polygonsJson, writePolygons } from '../../src/io/stream.js';
 
 /** Collects what a sink would write (a sink on a temporary file, read back). */
 function capture(f: (s: TextSink) => void, chunk = 7): string {
@@ -109,5 +109,51 @@ describe('writeCsv', () => {
     } finally {
       rmSync(dir, { recursive: true, force: true });
     }
+  });
+});
+
+describe('GeoJSON from columns', () => {
+  const coord = fc.double({ noNaN: true, noDefaultInfinity: true }).map((x) => (Object.is(x, -0) ? 0 : x));
+  const ring = fc.array(fc.tuple(coord, coord), { minLength: 1, maxLength: 6 });
+  const polygons = fc.array(fc.array(ring, { minLength: 1, maxLength: 3 }), { maxLength: 3 });
+
+  it('geometries and features equal JSON.stringify of the objects they stand for (the reference)', () => {
+    fc.assert(fc.property(polygons, coord, coord, fc.option(fc.integer({ min: 0, max: 1e6 }), { nil: undefined }), (polys, x, y, id) => {
+      const want = polys.length === 0 ? null : polys.length === 1 ? { type: 'Polygon', coordinates: polys[0] } : { type: 'MultiPolygon', coordinates: polys };
+      const flat = polys.map((p) => p.map((r) => Float64Array.from(r.flat())));
+      expect(polygonsJson(flat)).toBe(JSON.stringify(want));
+      expect(pointJson(x, y)).toBe(JSON.stringify({ type: 'Point', coordinates: [x, y] }));
+      const props = { kind: 'pit', v: x };
+      const f = featureJson(id, pointJson(x, y), JSON.stringify(props));
+      expect(f).toBe(JSON.stringify({ type: 'Feature', ...(id !== undefined ? { id } : {}), geometry: { type: 'Point', coordinates: [x, y] }, properties: props }));
+      // a projection maps every vertex
+      expect(polygonsJson(flat, (a, b) => [b, a])).toBe(JSON.stringify(want && { ...want, coordinates: polys.length === 1 ? polys[0].map((r) => r.map(([a, b]) => [b, a])) : polys.map((p) => p.map((r) => r.map(([a, b]) => [b, a]))) }));
+    }));
+  });
+
+  it('a collection streamed feature by feature equals JSON.stringify of the whole collection', () => {
+    const members = { type: 'FeatureCollection', name: 'x', crs: { type: 'name', properties: { name: 'urn:ogc:def:crs:EPSG::32633' } } };
+    const feats = [0, 1, 2].map((i) => ({ type: 'Feature', id: i, geometry: { type: 'Point', coordinates: [i, i === 0 ? 0 : -i / 3] }, properties: { i } }));
+    const text = capture((s) => {
+      const fcw = new FeatureCollectionWriter(s, members);
+      for (const f of feats) fcw.feature(featureJson(f.id, pointJson(f.geometry.coordinates[0], f.geometry.coordinates[1]), JSON.stringify(f.properties)));
+      fcw.end();
+    });
+    expect(text).toBe(JSON.stringify({ ...members, features: feats }) + '\n');
+    expect(capture((s) => { const w = new FeatureCollectionWriter(s, members); w.end(); })).toBe(JSON.stringify({ ...members, features: [] }) + '\n');
+    // a geometry written piece by piece (a ring of 10 000 vertices crosses the writer's pieces)
+    const big = Float64Array.from({ length: 20002 }, (_, i) => (i % 2 ? -i / 7 : i * 1.5 + 0.25));
+    big[20000] = big[0]; big[20001] = big[1];
+    const pieces = capture((s) => {
+      const w = new FeatureCollectionWriter(s, members);
+      w.featureWith(7, (k) => writePolygons(k, [[big], [big.subarray(0, 8)]]), '{"a":1}');
+      w.featureWith(undefined, (k) => writePolygons(k, []), '{}');
+      w.end();
+    });
+    const pairs = (r: Float64Array) => Array.from({ length: r.length / 2 }, (_, i) => [r[2 * i], r[2 * i + 1]]);
+    expect(pieces).toBe(JSON.stringify({ ...members, features: [
+      { type: 'Feature', id: 7, geometry: { type: 'MultiPolygon', coordinates: [[pairs(big)], [pairs(big.subarray(0, 8))]] }, properties: { a: 1 } },
+      { type: 'Feature', geometry: null, properties: {} },
+    ] }) + '\n');
   });
 });

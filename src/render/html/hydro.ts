@@ -34,16 +34,29 @@ export function pourAngle(d: { pour: { col: number; row: number; to: { col: numb
   return (Math.atan2(d.pour.to.row - d.pour.row, d.pour.to.col - d.pour.col) * 180) / Math.PI;
 }
 
-/** Indices into `deps` ordered deepest nesting level first (children before their parents). */
-export function childrenFirstOf(deps: readonly { level: number }[]): Int32Array {
+/** Record indices ordered deepest nesting level first (children before their parents), from the nesting level of each record. */
+export function childrenFirstOf(levels: ArrayLike<number>): Int32Array {
+  const n = levels.length;
   let maxLevel = 0;
-  for (const d of deps) if (d.level > maxLevel) maxLevel = d.level;
+  for (let i = 0; i < n; i++) if (levels[i] > maxLevel) maxLevel = levels[i];
   const start = new Int32Array(maxLevel + 2);
-  for (const d of deps) start[maxLevel - d.level + 1]++;
+  for (let i = 0; i < n; i++) start[maxLevel - levels[i] + 1]++;
   for (let l = 1; l <= maxLevel + 1; l++) start[l] += start[l - 1];
-  const out = new Int32Array(deps.length);
-  deps.forEach((d, i) => { out[start[maxLevel - d.level]++] = i; });
+  const out = new Int32Array(n);
+  for (let i = 0; i < n; i++) out[start[maxLevel - levels[i]]++] = i;
   return out;
+}
+
+/** The depression tree as columns indexed by id (entry 0 unused): a hierarchy with the report's spill values. */
+export interface DepressionTreeColumns {
+  count: number;
+  /** id → parent id (0: top level). */
+  parent: Int32Array;
+  /** id → children, CSR: childStart[id]..childStart[id + 1]. */
+  childStart: Int32Array;
+  level: Int32Array;
+  spillValue: ArrayLike<number>;
+  volume: ArrayLike<number>;
 }
 
 export interface WaterDisplay {
@@ -95,23 +108,26 @@ export function waterHover(w: WaterDisplay, zu: string, label: string, prefix: s
 
 /**
  * The spill-level tree reduced to its largest innermost depressions (by volume, at most
- * `maxLeaves`): the reduction, each depression's floor where its children merge, and the leaf count.
+ * `maxLeaves`): the reduction (of record indices, id − 1), each depression's floor where its
+ * children merge (by id), and the leaf count. Reads the columns only.
  */
-export function spillTree(
-  deps: readonly { id: number; parent: number | null; children: number[]; level: number; spillValue: number; volume: number }[],
-  maxLeaves: number,
-): { red: ReturnType<typeof reduceSweepTree>; childSpill: Float64Array; leafCount: number } {
-  const N = deps.length;
+export function spillTree(t: DepressionTreeColumns, maxLeaves: number): { red: ReturnType<typeof reduceSweepTree>; childSpill: Float64Array; leafCount: number } {
+  const N = t.count;
   const childSpill = new Float64Array(N + 1).fill(-Infinity);
-  for (const d of deps) if (d.parent !== null && d.spillValue > childSpill[d.parent]) childSpill[d.parent] = d.spillValue;
+  for (let id = 1; id <= N; id++) { const p = t.parent[id]; if (p !== 0 && t.spillValue[id] > childSpill[p]) childSpill[p] = t.spillValue[id]; }
   // keep the largest innermost depressions; contract the rest on typed arrays
-  const parentIx = Int32Array.from(deps, (d) => (d.parent === null ? -1 : d.parent - 1));
-  const kids = Int32Array.from(deps, (d) => d.children.length);
-  const leafRank = Float64Array.from(deps, (d) => (d.children.length ? NaN : d.volume));
+  const parentIx = new Int32Array(N), kids = new Int32Array(N), leafRank = new Float64Array(N);
+  let leafCount = 0;
+  for (let i = 0; i < N; i++) {
+    const id = i + 1;
+    parentIx[i] = t.parent[id] === 0 ? -1 : t.parent[id] - 1;
+    kids[i] = t.childStart[id + 1] - t.childStart[id];
+    leafRank[i] = kids[i] ? NaN : t.volume[id];
+    if (!kids[i]) leafCount++;
+  }
   const keepLeaf = new Uint8Array(N);
   for (const i of topIndices(leafRank, maxLeaves)) keepLeaf[i] = 1;
-  const leafCount = deps.reduce((m, d) => m + (d.children.length ? 0 : 1), 0);
-  const red = reduceSweepTree(parentIx, kids, (i) => keepLeaf[i] === 1, childrenFirstOf(deps));
+  const red = reduceSweepTree(parentIx, kids, (i) => keepLeaf[i] === 1, childrenFirstOf(t.level.subarray(1, N + 1)));
   return { red, childSpill, leafCount };
 }
 

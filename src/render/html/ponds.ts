@@ -17,7 +17,7 @@ import { n } from '../figures/svg.js';
 import type { ReportDoc, TableSpec, ReportContext, BuiltReport } from './model.js';
 import { displayNotes, readoutNote, TERRAIN_CAUTION } from './surface.js';
 import { axesLabels } from './survey.js';
-import { dkey, pourAngle, childrenFirstOf, waterDisplay, waterHover, spillTree, waterHeader, unitsRow, hydroToggles } from './hydro.js';
+import { dkey, pourAngle, childrenFirstOf, waterDisplay, waterHover, spillTree, waterHeader, unitsRow, hydroToggles, type DepressionTreeColumns } from './hydro.js';
 
 export { dkey, pourAngle } from './hydro.js';
 
@@ -44,8 +44,15 @@ export function outlinePath(o: DepressionOutline, t: PondsResult['grid']['transf
 }
 
 /** Indices into report.depressions ordered deepest nesting level first (children before their parents). */
-export function childrenFirst(report: PondsReport): Int32Array {
-  return childrenFirstOf(report.depressions);
+export function childrenFirst(result: PondsResult): Int32Array {
+  const H = result.hierarchy;
+  return childrenFirstOf(H.level.subarray(1, H.count + 1));
+}
+
+/** The tree columns of a ponds or runoff result: the hierarchy with the report's (cleaned) spill values. */
+export function treeColumns(result: PondsResult | { hierarchy: PondsResult['hierarchy'] }, report: { depressions: { columns: { spillValue: Float64Array } } }): DepressionTreeColumns {
+  const H = result.hierarchy;
+  return { count: H.count, parent: H.parent, childStart: H.childStart, level: H.level, spillValue: report.depressions.columns.spillValue, volume: H.volume };
 }
 
 /**
@@ -54,33 +61,33 @@ export function childrenFirst(report: PondsReport): Int32Array {
  */
 export function displayOutlines(result: PondsResult, report: PondsReport, displayLabels: Int32Array, dw: number, dh: number, factor: number, tol: number): MapShape[] {
   const H = result.hierarchy;
-  const deps = report.depressions;
-  const box = labelBoxes(displayLabels, dw, deps.length);
+  const N = H.count;
+  const box = labelBoxes(displayLabels, dw, N);
   // a parent's box holds its children's: deepest first
-  for (const i of childrenFirst(report)) {
-    const d = deps[i];
-    if (d.parent === null || box[4 * d.id + 2] < 0) continue;
-    const b = 4 * d.id, p = 4 * d.parent;
+  for (const i of childrenFirst(result)) {
+    const id = i + 1;
+    if (H.parent[id] === 0 || box[4 * id + 2] < 0) continue;
+    const b = 4 * id, p = 4 * H.parent[id];
     box[p] = Math.min(box[p], box[b]); box[p + 1] = Math.min(box[p + 1], box[b + 1]);
     box[p + 2] = Math.max(box[p + 2], box[b + 2]); box[p + 3] = Math.max(box[p + 3], box[b + 3]);
   }
   const shapes: MapShape[] = [];
   let points = 0, traced = 0;
   const scratch = new RegionScratch(dw, dh);
-  for (const i of topIndices(Float64Array.from(deps, (d) => d.volume), 4 * PONDS_LIMITS.outlines)) {
-    const d = deps[i];
+  for (const i of topIndices(H.volume.subarray(1, N + 1), 4 * PONDS_LIMITS.outlines)) {
+    const id = i + 1;
     if (shapes.length >= PONDS_LIMITS.outlines || points >= PONDS_LIMITS.outlinePoints || traced >= PONDS_LIMITS.tracedCells) break;
-    const b = 4 * d.id;
+    const b = 4 * id;
     if (box[b + 2] < 0) continue;
     traced += (box[b + 2] - box[b] + 3) * (box[b + 3] - box[b + 1] + 3);
-    const lo = H.tin[d.id], hi = H.tout[d.id];
+    const lo = H.tin[id], hi = H.tout[id];
     const o = traceRegion(displayLabels, dw, [box[b], box[b + 1], box[b + 2], box[b + 3]], (e) => e > 0 && H.tin[e] >= lo && H.tin[e] < hi, factor, tol, scratch);
     if (!o.d) continue;
     points += o.points;
-    shapes.push({ key: dkey(d.id), d: o.d, title: `depression #${d.id}` });
+    shapes.push({ key: dkey(id), d: o.d, title: `depression #${id}` });
   }
   // outer outlines first, nested ones drawn over them
-  return shapes.sort((a, b) => deps[Number(a.key.slice(1)) - 1].level - deps[Number(b.key.slice(1)) - 1].level);
+  return shapes.sort((a, b) => H.level[Number(a.key.slice(1))] - H.level[Number(b.key.slice(1))]);
 }
 
 export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: ReportContext): BuiltReport {
@@ -98,9 +105,11 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
   const f = sd.frame.factor;
 
   // depressions, largest first for the caps
+  // (records are made only for the depressions shown; the rest is read from the columns)
+  const H = result.hierarchy;
   const deps = report.depressions;
-  const volumes = Float64Array.from(deps, (d) => d.volume);
-  const byVolume = Array.from(topIndices(volumes, Math.max(PONDS_LIMITS.tableRows, PONDS_LIMITS.markers)), (i) => deps[i]);
+  const cols = deps.columns;
+  const byVolume = Array.from(topIndices(H.volume.subarray(1, H.count + 1), Math.max(PONDS_LIMITS.tableRows, PONDS_LIMITS.markers)), (i) => deps.at(i));
   const displayLabels = f === 1 ? R.labels : blockCentreSample(R.labels, g.width, g.height, f);
   const shapes = displayOutlines(result, report, displayLabels, sd.frame.dw, sd.frame.dh, f, wd.tol);
   const markers: MapMarker[] = [];
@@ -146,12 +155,12 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
   // spill-level tree: each depression from its floor (pit, or where its children merged) up to its spill level
   const N = deps.length;
   // keep the largest innermost depressions, then make node objects
-  const { red, childSpill, leafCount } = spillTree(deps, PONDS_LIMITS.treeLeaves);
+  const { red, childSpill, leafCount } = spillTree(treeColumns(result, report), PONDS_LIMITS.treeLeaves);
   const nodes: TreeNodeIn[] = Array.from(red.nodes, (i, q) => {
-    const d = deps[i];
+    const d = deps.at(i);
     const floor = d.children.length ? childSpill[d.id] : d.pitValue;
     return {
-      id: d.id, parent: red.parent[q] < 0 ? -1 : deps[red.parent[q]].id,
+      id: d.id, parent: red.parent[q] < 0 ? -1 : red.parent[q] + 1,
       value: floor, kind: d.children.length ? 'pass' as const : 'pit' as const, key: dkey(d.id),
       title: `#${d.id}: ${d.children.length ? `${d.children.length} depressions merge at ${fz(floor)}` : `pit ${fz(d.pitValue)}`} ${zu}; spills at ${fz(d.spillValue)} ${zu}; ${fmtNum(d.volume, 4)} ${vu}`,
       weight: d.volume, importance: d.volume,
@@ -168,16 +177,16 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
 
   // depth (spill − pit) of every reported depression as a persistence pair
   const thr = Math.max(report.filters.minDepth, report.filters.minPersistence);
-  const depth = Float64Array.from(deps, (d) => d.spillValue - d.pitValue);
+  const depth = new Float64Array(N);
+  for (let i = 0; i < N; i++) depth[i] = cols.spillValue[i + 1] - cols.pitValue[i + 1];
   const drawnIdx = topIndices(depth, 2500);
   const isDrawn = new Uint8Array(N);
   const points: DiagramPoint[] = Array.from(drawnIdx, (i) => {
     isDrawn[i] = 1;
-    const d = deps[i];
-    return { key: dkey(d.id), dim: 0 as const, birth: d.pitValue, death: d.spillValue, kept: true };
+    return { key: dkey(i + 1), dim: 0 as const, birth: cols.pitValue[i + 1], death: cols.spillValue[i + 1], kept: true };
   });
   const restB = new Float64Array(N - points.length), restD = new Float64Array(N - points.length);
-  for (let i = 0, q = 0; i < N; i++) if (!isDrawn[i]) { restB[q] = deps[i].pitValue; restD[q] = deps[i].spillValue; q++; }
+  for (let i = 0, q = 0; i < N; i++) if (!isDrawn[i]) { restB[q] = cols.pitValue[i + 1]; restD[q] = cols.spillValue[i + 1]; q++; }
   const rm = report.removed;
   const diagram = persistenceSvg({
     id: 'persistence', title: 'Depth of each depression: pit level against spill level',

@@ -12,6 +12,8 @@ import { traceRegion, RegionScratch } from '../figures/outline.js';
 import { treeSvg, type TreeNodeIn } from '../figures/tree.js';
 import { blockCentreSample } from '../figures/raster.js';
 import { fmtNum } from '../figures/scale.js';
+import { topKBy } from '../../report/hydro-common.js';
+import { treeColumns } from './ponds.js';
 import type { ReportDoc, TableSpec, ReportContext, BuiltReport } from './model.js';
 import { displayNotes, readoutNote } from './surface.js';
 import { axesLabels } from './survey.js';
@@ -24,14 +26,25 @@ export const RUNOFF_LIMITS = { outlines: 1500, outlinePoints: 250_000, tracedCel
 
 const STATE_WORD: Record<RunoffDepressionRecord['state'], string> = { full: 'full', partial: 'partly filled', dry: 'dry' };
 
-/** Depressions in the order the page ranks them: most water held first, then most received, then id. */
-export function runoffRanking(report: RunoffReport): RunoffDepressionRecord[] {
-  return [...report.depressions].sort((a, b) => b.waterVolume - a.waterVolume || b.received - a.received || a.id - b.id);
+/**
+ * The k depressions the page ranks first — most water held, then most received, then the smaller
+ * id — as records, by a partial selection over the routing's columns (no record for the rest).
+ */
+export function runoffRanking(result: RunoffResult, report: RunoffReport, k: number): RunoffDepressionRecord[] {
+  const H = result.hierarchy, st = result.route.stored, rc = result.route.received;
+  const weaker = (a: number, b: number): boolean => {
+    const sa = st[H.node[a]], sb = st[H.node[b]];
+    if (sa !== sb) return sa < sb;
+    const ra = rc[H.node[a]], rb = rc[H.node[b]];
+    return ra !== rb ? ra < rb : a > b;
+  };
+  return topKBy(1, H.count + 1, k, weaker).map((id) => report.depressions.at(id - 1));
 }
 
 /** Outlines of the largest ponds at display resolution, linked to the depression that holds them. */
 function pondOutlines(report: RunoffReport, displayBodies: Int32Array, dw: number, dh: number, factor: number, tol: number): MapShape[] {
   const box = labelBoxes(displayBodies, dw, report.ponds.length);
+  // (records are made one at a time, and only until the caps are reached)
   const shapes: MapShape[] = [];
   let points = 0, traced = 0;
   const scratch = new RegionScratch(dw, dh);
@@ -65,7 +78,7 @@ export function buildRunoffHtml(result: RunoffResult, report: RunoffReport, ctx:
   const f = sd.frame.factor;
 
   const deps = report.depressions;
-  const ranked = runoffRanking(report);
+  const ranked = runoffRanking(result, report, Math.max(RUNOFF_LIMITS.markedDepressions, RUNOFF_LIMITS.tableRows));
   const displayBodies = f === 1 ? R.bodies : blockCentreSample(R.bodies, g.width, g.height, f);
   const shapes = pondOutlines(report, displayBodies, sd.frame.dw, sd.frame.dh, f, wd.tol);
   const into = (d: RunoffDepressionRecord) => (d.into === 'outside' ? 'the outside' : `#${d.into}`);
@@ -96,7 +109,7 @@ export function buildRunoffHtml(result: RunoffResult, report: RunoffReport, ctx:
       ['wet area', `${fmtNum(d.wetArea, 6)} ${au}`],
     ];
   }
-  for (const p of report.ponds) if (p.depression === null) tips[`p${p.id}`] = [['', `pond ${p.id} in a walled-in region`], ['water', `${fmtNum(p.volume, 6)} ${vu}`], ['level', `${fz(p.level)} ${zu}`]];
+  for (let b = 1; b <= result.bodies.count; b++) if (result.bodies.depression[b] <= 0) { const p = report.ponds.at(b - 1); tips[`p${p.id}`] = [['', `pond ${p.id} in a walled-in region`], ['water', `${fmtNum(p.volume, 6)} ${vu}`], ['level', `${fz(p.level)} ${zu}`]]; }
 
   const w = report.water;
   const mapNotes = [...displayNotes(sd, g, contours, zu), ...layer.notes,
@@ -118,12 +131,12 @@ export function buildRunoffHtml(result: RunoffResult, report: RunoffReport, ctx:
   });
 
   // spill-level tree, as on the ponds page, with how full each depression is
-  const { red, childSpill, leafCount } = spillTree(deps, RUNOFF_LIMITS.treeLeaves);
+  const { red, childSpill, leafCount } = spillTree(treeColumns(result, report), RUNOFF_LIMITS.treeLeaves);
   const nodes: TreeNodeIn[] = Array.from(red.nodes, (i, q) => {
-    const d = deps[i];
+    const d = deps.at(i);
     const floor = d.children.length ? childSpill[d.id] : d.pitValue;
     return {
-      id: d.id, parent: red.parent[q] < 0 ? -1 : deps[red.parent[q]].id,
+      id: d.id, parent: red.parent[q] < 0 ? -1 : red.parent[q] + 1,
       value: floor, kind: d.children.length ? 'pass' as const : 'pit' as const, key: dkey(d.id),
       title: `#${d.id}: ${STATE_WORD[d.state]}, ${fmtNum(d.waterVolume, 4)} of ${fmtNum(d.volume, 4)} ${vu}${d.waterLevel !== null ? ` at ${fz(d.waterLevel)} ${zu}` : ''}; spills at ${fz(d.spillValue)} ${zu}`,
       weight: d.waterVolume, importance: d.volume,
