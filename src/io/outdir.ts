@@ -20,7 +20,7 @@ import {
   renameSync, rmSync, rmdirSync, statSync, unlinkSync, writeSync, writeFileSync, accessSync, chmodSync, chownSync, constants as fsc,
   type Stats,
 } from 'node:fs';
-import { dirname, join, relative, resolve, isAbsolute, sep } from 'node:path';
+import { basename, dirname, join, relative, resolve, isAbsolute, sep } from 'node:path';
 import { hostname } from 'node:os';
 import { randomBytes } from 'node:crypto';
 import { InputError } from '../errors.js';
@@ -205,9 +205,14 @@ export function checkFolder(given: string): { dir: string; exists: boolean } {
   return { dir: abs, exists: !!st };
 }
 
-/** Write a small file so that it is either absent or complete: a temporary name, then a rename. */
-function writeWhole(path: string, text: string): void {
-  const tmp = `${path}.${process.pid}.tmp`;
+/**
+ * Write a small file so that it is either absent or complete: a temporary name, then a rename. The
+ * temporary is made in `tmpDir` — the run's staging folder (on the same file system as `path`), so a
+ * kill before the rename leaves nothing but that staging folder, which the next run removes with it.
+ * `at` names the fault-injection step between the write and the rename.
+ */
+function writeWhole(path: string, text: string, tmpDir: string, at?: string): void {
+  const tmp = join(tmpDir, `${basename(path)}.${process.pid}.tmp`);
   const fd = openSync(tmp, 'w');
   try {
     writeSync(fd, text);
@@ -215,6 +220,7 @@ function writeWhole(path: string, text: string): void {
   } finally {
     closeSync(fd);
   }
+  if (at) step(at);
   renameSync(tmp, path);
 }
 
@@ -446,7 +452,9 @@ export class OutputFolder {
       return;
     }
     for (const n of entries) {
-      const tmp = /^\.sill-journal\.json\.(\d+)\.tmp$/.exec(n); // an intent record cut short before its rename
+      // an intent record cut short before its rename, as earlier builds of sill left it beside the
+      // results (now its temporary is inside the staging folder and goes with it)
+      const tmp = /^\.sill-journal\.json\.(\d+)\.tmp$/.exec(n);
       if (!(n.startsWith(STAGING_PREFIX) && isStale(n)) && !(tmp && isStale(`${STAGING_PREFIX}${HOST}-${tmp[1]}-0`))) continue;
       try { rmSync(join(where, n), { recursive: true, force: true }); } catch { /* not ours to remove (permissions): leave it */ }
     }
@@ -482,10 +490,12 @@ export class OutputFolder {
     const where = this.mode === 'journal' ? this.dir : dirname(this.dir);
     if (this.mode === 'create') this.createdFrom = makeFolders(where);
     const s = join(where, stagingName());
-    mkdirSync(s);
-    this.staging = s;
+    // the handler first: a SIGINT/SIGTERM from now on waits for it (it runs after this synchronous
+    // step, when the staging folder is known) instead of ending the process with the folder made
     active.add(this);
     listen(true);
+    mkdirSync(s);
+    this.staging = s;
     return s;
   }
 
@@ -522,7 +532,7 @@ export class OutputFolder {
         schema: 'sill/manifest@1', run: randomBytes(8).toString('hex'), command: this.plan.command, sillVersion: this.plan.version,
         time: new Date().toISOString(), files, folders,
       };
-      writeWhole(join(staging, MANIFEST), manifestText(manifest));
+      writeWhole(join(staging, MANIFEST), manifestText(manifest), staging);
       step('manifest');
       if (this.mode === 'create') {
         renameSync(staging, this.dir);
@@ -631,7 +641,9 @@ export class OutputFolder {
     const now = new Set(this.names);
     const remove = (this.previous?.files ?? []).map((f) => f.name).filter((n) => !now.has(n));
     const journal: Journal = { schema: 'sill/journal@1', staging: relative(this.dir, staging), remove, folders: this.previous?.folders ?? [] };
-    writeWhole(join(this.dir, JOURNAL), JSON.stringify(journal) + '\n');
+    // its temporary is written inside the staging folder (which is inside DIR here): a kill before the
+    // rename leaves DIR as it was plus that one staging folder, never a stray temporary beside the results
+    writeWhole(join(this.dir, JOURNAL), JSON.stringify(journal) + '\n', staging, 'journal-temp');
     step('journal');
     applyJournal(this.dir, journal);
   }
