@@ -176,7 +176,8 @@ describe('crash consistency of -o DIR (kills at many instants)', () => {
     const out = work(lane);
     const manifest = JSON.parse(readFileSync(join(out, MANIFEST), 'utf8')) as Manifest;
     const files = listFiles(out).filter((f) => f !== FOREIGN && !f.startsWith('.sill-staging-'));
-    expect(files).toEqual([MANIFEST, ...manifest.files.map((f) => f.name)].sort());
+    // compared as text, so that a failure shows every name (an array diff is cut short)
+    expect(files.join('\n')).toBe([MANIFEST, ...manifest.files.map((f) => f.name)].sort().join('\n'));
     for (const f of manifest.files) expect(statSync(join(out, f.name)).size).toBe(f.size);
     const got = digest(out);
     got.delete(FOREIGN);
@@ -284,7 +285,7 @@ describe('crash consistency of -o DIR (kills at many instants)', () => {
       const ino = reset(lane);
       // late in the writing phase, near the commit (the staging folder is inside DIR here)
       const k = await runAndKill(ponds(lane), overWriting(0.6 + (i + 0.5) / 10, work(lane)), 'SIGKILL', { SILL_EXCHANGE: 'none' });
-      if (process.env.CRASH_DEBUG) console.log('journal', i, k.stagedAt, k.ms, k.signal);
+      if (process.env.CRASH_DEBUG) console.log('journal', i, k.stagedAt, k.ms, k.signal, k.code, k.stderr, existsSync(join(work(lane), JOURNAL)), listFiles(work(lane)));
       if (!existsSync(join(work(lane), JOURNAL))) {
         // no journal: the old or the new result complete, and at most the staging folder beside it
         const state = checkConsistent(ino, lane);
