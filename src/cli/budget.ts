@@ -27,17 +27,19 @@ const BASE_BYTES = 80 * 2 ** 20;
 export const BYTES_PER_CELL: Record<BudgetCommand, number> = { survey: 27, ponds: 34, runoff: 40, barriers: 28 };
 
 /**
- * Bytes per feature with each kind of output (measured on noise, see above):
- * survey per critical point (its pairs included) 1.24 KB with --json, 1.75 KB with -o;
- * ponds per depression 1.84 KB with --json, 5.7 KB with -o (outlines and all files);
- * runoff per depression (its ponds included) 3.1 KB with --json; with -o taken as ponds' -o
- * figure plus the ponds (8 KB, estimated, not measured). A run with neither builds the same
- * records as --json, so it takes the --json figure.
+ * Bytes per feature with each kind of output, measured on noise as above after the results became
+ * typed columns with streamed outputs (2026-12-02, main after the columns work): the difference of
+ * the peaks at 1500² and 1000² divided by the difference in features — which also carries the
+ * 1.25 M extra cells, so the figures lean high — then a quarter added as a margin:
+ * survey per critical point 92 B with --json, 126 B with -o; ponds per depression 377 B with
+ * --json, 984 B with -o (outlines and all files); runoff per depression 616 B with --json, 573 B
+ * with -o (taken as 616). A run with neither builds no more than --json, so it takes that figure.
+ * (Before the columns the same runs measured 1.24 / 1.75 kB, 1.84 / 5.7 kB and 3.1 kB.)
  */
 const BYTES_PER_FEATURE: Record<Exclude<BudgetCommand, 'barriers'>, { json: number; out: number }> = {
-  survey: { json: 1270, out: 1800 },
-  ponds: { json: 1900, out: 5900 },
-  runoff: { json: 3200, out: 8000 },
+  survey: { json: 120, out: 160 },
+  ponds: { json: 480, out: 1250 },
+  runoff: { json: 780, out: 780 },
 };
 
 const FEATURE_NAMES: Record<Exclude<BudgetCommand, 'barriers'>, string> = {
