@@ -13,21 +13,11 @@ import { spawn } from 'node:child_process';
 import { createHash } from 'node:crypto';
 import { cpSync, existsSync, readFileSync, readdirSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { BIN, sill, tempDir, writeTerrainNpy } from './run.js';
+import { BIN, listFiles, sill, tempDir, writeTerrainNpy } from './run.js';
 import { OutputFolder, MANIFEST, JOURNAL, type Manifest } from '../../src/io/outdir.js';
 
 const FOREIGN = 'notes.txt';
 const OLD_OPTIONS = ['--min-depth', '0.02', '--stage-volume', '1', '--report'];
-
-function listFiles(dir: string, rel = ''): string[] {
-  const out: string[] = [];
-  for (const e of readdirSync(join(dir, rel), { withFileTypes: true })) {
-    const r = rel ? `${rel}/${e.name}` : e.name;
-    if (e.isDirectory()) out.push(...listFiles(dir, r));
-    else out.push(r);
-  }
-  return out.sort();
-}
 
 /** Hash of every file of a result folder, the manifest left out (its run id and time differ from run to run). */
 function digest(dir: string): Map<string, string> {

@@ -11,22 +11,11 @@ import {
 import { spawnSync, execFileSync } from 'node:child_process';
 import { hostname } from 'node:os';
 import { join } from 'node:path';
-import { sill, tempDir, writeTerrainNpy } from './run.js';
+import { listFiles, sill, tempDir, writeTerrainNpy } from './run.js';
 import { OutputFolder, MANIFEST, JOURNAL, type Manifest } from '../../src/io/outdir.js';
 
 const isRoot = process.getuid?.() === 0;
 const HOST = hostname().replace(/[^A-Za-z0-9.]/g, '_') || 'host';
-
-/** Every file under `dir` (relative names, sorted), folders left out. */
-function listFiles(dir: string, rel = ''): string[] {
-  const out: string[] = [];
-  for (const e of readdirSync(join(dir, rel), { withFileTypes: true })) {
-    const r = rel ? `${rel}/${e.name}` : e.name;
-    if (e.isDirectory()) out.push(...listFiles(dir, r));
-    else out.push(r);
-  }
-  return out.sort();
-}
 
 const manifestOf = (dir: string): Manifest => JSON.parse(readFileSync(join(dir, MANIFEST), 'utf8'));
 const oneLine = (s: string) => s.trim().split('\n');

@@ -2,7 +2,7 @@
 import { it, expect } from 'vitest';
 import { spawnSync } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
-import { existsSync, mkdtempSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, readdirSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 
@@ -46,4 +46,15 @@ export function itRejects(cases: [string, () => string[], RegExp][], dir: () => 
       expect(existsSync(out)).toBe(false);
     });
   }
+}
+
+/** Every file under `dir` (relative names, sorted), folders left out. */
+export function listFiles(dir: string, rel = ''): string[] {
+  const out: string[] = [];
+  for (const e of readdirSync(join(dir, rel), { withFileTypes: true })) {
+    const r = rel ? `${rel}/${e.name}` : e.name;
+    if (e.isDirectory()) out.push(...listFiles(dir, r));
+    else out.push(r);
+  }
+  return out.sort();
 }

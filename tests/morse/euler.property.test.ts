@@ -1,6 +1,7 @@
 import { describe, it, expect } from 'vitest';
 import fc from 'fast-check';
-import { Grid } from '../../src/surface/grid.js';
+import { smallGrids } from './arbitraries.js';
+import type { Grid } from '../../src/surface/grid.js';
 import { Mesh } from '../../src/surface/mesh.js';
 import { survey } from '../../src/morse/survey.js';
 import { buildMergeTree } from '../../src/morse/mergetree.js';
@@ -11,22 +12,7 @@ const BOUNDARIES: Boundary[] = ['open', 'closed', 'periodic', 'periodic-x', 'per
 const CONNS: Connectivity[] = [4, 6, 8];
 
 /** Random small grids with few distinct values (ties, plateaus) and some NaN cells. */
-const gridArb = fc
-  .record({
-    w: fc.integer({ min: 4, max: 9 }),
-    h: fc.integer({ min: 4, max: 9 }),
-    levels: fc.integer({ min: 1, max: 4 }),
-    holeRate: fc.constantFrom(0, 0, 0.1, 0.3),
-    seed: fc.integer(),
-  })
-  .map(({ w, h, levels, holeRate, seed }) => {
-    let s = seed >>> 0 || 1;
-    const rnd = () => ((s = (Math.imul(s, 1664525) + 1013904223) >>> 0) / 2 ** 32);
-    const values = new Float64Array(w * h);
-    for (let i = 0; i < w * h; i++) values[i] = rnd() < holeRate ? NaN : Math.floor(rnd() * levels);
-    if (!values.some((x) => x === x)) values[0] = 0;
-    return new Grid({ width: w, height: h, values });
-  });
+const gridArb = smallGrids({ maxSide: 9, minLevels: 1, maxLevels: 4, holeRates: [0, 0, 0.1, 0.3] });
 
 /**
  * Brute-force χ from the definition, independent of the library's block counting: list the

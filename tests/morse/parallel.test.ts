@@ -9,6 +9,7 @@
  */
 import { describe, it, expect } from 'vitest';
 import fc from 'fast-check';
+import { seededValues } from './arbitraries.js';
 import { readFileSync } from 'node:fs';
 import { Grid } from '../../src/surface/grid.js';
 import { buildComplex, GridComplex, type Boundary, type Connectivity } from '../../src/surface/complex.js';
@@ -46,14 +47,9 @@ const gridArb = fc
     f32: fc.boolean(),
     seed: fc.integer(),
   })
-  .map(({ w, h, levels, holeRate, f32, seed }) => {
-    let s = seed >>> 0 || 1;
-    const rnd = () => ((s = (Math.imul(s, 1664525) + 1013904223) >>> 0) / 2 ** 32);
-    const values = f32 ? new Float32Array(w * h) : new Float64Array(w * h);
-    for (let i = 0; i < w * h; i++) values[i] = rnd() < holeRate ? NaN : Math.floor(rnd() * levels) - 0.5 * levels;
-    if (!values.some((x) => x === x)) values[0] = 0;
-    return { w, h, values };
-  });
+  .map(({ w, h, levels, holeRate, f32, seed }) => ({
+    w, h, values: seededValues(w, h, levels, holeRate, seed, (n): Float32Array | Float64Array => (f32 ? new Float32Array(n) : new Float64Array(n)), 0.5 * levels),
+  }));
 
 describe('survey on two threads', () => {
   it('the worker module is built (npm run build), so the two-thread path is really taken', () => {

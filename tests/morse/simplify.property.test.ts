@@ -6,22 +6,13 @@
  */
 import { describe, it, expect } from 'vitest';
 import fc from 'fast-check';
-import { Grid } from '../../src/surface/grid.js';
+import { smallGrids } from './arbitraries.js';
 import { survey } from '../../src/morse/survey.js';
 import { buildMergeTree, simplifyMergeTree, type MergeTree } from '../../src/morse/mergetree.js';
 import { sortOrder } from '../../src/morse/order.js';
 import { buildComplex, type Boundary, type Connectivity } from '../../src/surface/complex.js';
 
-const gridArb = fc
-  .record({ w: fc.integer({ min: 4, max: 10 }), h: fc.integer({ min: 4, max: 10 }), levels: fc.integer({ min: 2, max: 9 }), holeRate: fc.constantFrom(0, 0, 0.15), seed: fc.integer() })
-  .map(({ w, h, levels, holeRate, seed }) => {
-    let s = seed >>> 0 || 1;
-    const rnd = () => ((s = (Math.imul(s, 1664525) + 1013904223) >>> 0) / 2 ** 32);
-    const values = new Float64Array(w * h);
-    for (let i = 0; i < w * h; i++) values[i] = rnd() < holeRate ? NaN : Math.floor(rnd() * levels);
-    if (!values.some((x) => x === x)) values[0] = 0;
-    return new Grid({ width: w, height: h, values });
-  });
+const gridArb = smallGrids({ maxSide: 10, minLevels: 2, maxLevels: 9, holeRates: [0, 0, 0.15] });
 
 const pairsOf = (t: MergeTree, v: ArrayLike<number>) =>
   Array.from(t.pairBirth, (b, k) => [b, t.pairDeath[k], Math.abs(v[t.pairDeath[k]] - v[b])] as const);
