@@ -7,7 +7,7 @@
  *   npm run build && node bench/hydro-cli.mjs [--size 2000] [--repeat 3] [--terrain fractal|spectral|noise]
  *       [--only ponds-json,ponds-out,runoff-out,floor,skimage] [--dist DIR] [--label NAME] [--keep DIR]
  *
- * Each measurement is one process run under /usr/bin/time -v: wall-clock time, user + system CPU
+ * Each measurement is one process run under /usr/bin/time: wall-clock time, user + system CPU
  * time and the kernel's peak resident set (Maximum resident set size). The jobs alternate round
  * by round so all see the same load; best wall and CPU of --repeat rounds, and the median of the
  * round-by-round ratios:
@@ -25,11 +25,12 @@
  */
 import { parseArgs } from 'node:util';
 import { spawnSync } from 'node:child_process';
-import { writeFileSync, readFileSync, mkdtempSync, rmSync, existsSync, openSync, closeSync, mkdirSync } from 'node:fs';
+import { writeFileSync, readFileSync, mkdtempSync, rmSync, existsSync, mkdirSync } from 'node:fs';
 import { tmpdir, cpus, loadavg } from 'node:os';
 import { join, dirname, resolve } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { fractalTerrain, makeRandom } from './lib/terrain.mjs';
+import { timeProcess } from './lib/util.mjs';
 
 const HERE = dirname(fileURLToPath(import.meta.url));
 const PY = '/usr/bin/python3';
@@ -53,17 +54,11 @@ const only = opt.only ? new Set(opt.only.split(',')) : null;
 const want = (j) => !only || only.has(j);
 const cells = size * size;
 
-/** One process under /usr/bin/time -v: wall ms, CPU ms, peak RSS bytes. */
-function timed(argv, { stdout = 'ignore' } = {}) {
-  const fd = stdout === 'ignore' ? 'ignore' : openSync(stdout, 'w');
-  const p = spawnSync('/usr/bin/time', ['-v', ...argv], { stdio: ['ignore', fd, 'pipe'], encoding: 'utf8', maxBuffer: 1 << 26 });
-  if (typeof fd === 'number') closeSync(fd);
-  const err = p.stderr ?? '';
-  const field = (name) => { const m = err.match(new RegExp(`${name}: ([^\\n]+)`)); return m ? m[1].trim() : null; };
-  if (p.status !== 0) throw new Error(`${argv.join(' ')} failed (${p.status}):\n${err.slice(-2000)}`);
-  const wall = field('Elapsed \\(wall clock\\) time \\(h:mm:ss or m:ss\\)').split(':').map(Number).reduce((a, x) => a * 60 + x, 0) * 1000;
-  const cpu = (Number(field('User time \\(seconds\\)')) + Number(field('System time \\(seconds\\)'))) * 1000;
-  return { wall, cpu, rss: Number(field('Maximum resident set size \\(kbytes\\)')) * 1024 };
+/** One process under /usr/bin/time (bench/lib/util.mjs): wall ms, CPU ms, peak RSS bytes. */
+function timed(argv, { stdout = null } = {}) {
+  const r = timeProcess(argv[0], argv.slice(1), { stdout });
+  if (r.status !== 0) throw new Error(`${argv.join(' ')} failed (${r.status}):\n${r.stderr.slice(-2000)}`);
+  return { wall: r.ms, cpu: r.cpuMs, rss: r.maxRss };
 }
 
 const dir = mkdtempSync(join(tmpdir(), 'sill-hydro-cli-'));

@@ -19,11 +19,12 @@
  */
 import { parseArgs } from 'node:util';
 import { spawnSync } from 'node:child_process';
-import { mkdtempSync, rmSync, mkdirSync, writeFileSync, openSync, closeSync, statSync, readdirSync, existsSync } from 'node:fs';
+import { mkdtempSync, rmSync, mkdirSync, writeFileSync, statSync, readdirSync, existsSync } from 'node:fs';
 import { tmpdir, cpus, totalmem, loadavg } from 'node:os';
 import { join, dirname } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { fractalTerrain } from './lib/terrain.mjs';
+import { timeProcess } from './lib/util.mjs';
 
 const HERE = dirname(fileURLToPath(import.meta.url));
 const DIST = join(HERE, '..', 'dist');
@@ -56,14 +57,10 @@ if (opt.child === 'floor') {
 
   /** Run a command under /usr/bin/time; stdout to `stdoutFile` (or discarded). */
   const timed = (cmd, args, stdoutFile) => {
-    const fd = stdoutFile ? openSync(stdoutFile, 'w') : 'ignore';
-    const p = spawnSync('/usr/bin/time', ['-f', '@@ %e %U %S %M', cmd, ...args], { stdio: ['ignore', fd, 'pipe'], encoding: 'utf8', maxBuffer: 1 << 26 });
-    if (typeof fd === 'number') closeSync(fd);
-    const m = /@@ ([\d.]+) ([\d.]+) ([\d.]+) (\d+)\s*$/.exec(p.stderr ?? '');
-    if (!m) throw new Error(`${cmd} ${args.join(' ')} failed (${p.status}): ${p.stderr}`);
-    const r = { ms: Number(m[1]) * 1000, cpuMs: (Number(m[2]) + Number(m[3])) * 1000, maxRss: Number(m[4]) * 1024 };
+    const { ms, cpuMs, maxRss, status, stderr } = timeProcess(cmd, args, { stdout: stdoutFile });
+    const r = { ms, cpuMs, maxRss };
     // a run that fails is reported with its message (the build before streaming dies on large grids)
-    if (p.status !== 0) r.failed = (p.stderr.split('\n').find((l) => /\S/.test(l) && !l.startsWith('@@') && !/^Command exited/.test(l)) ?? `exit ${p.status}`).slice(0, 160);
+    if (status !== 0) r.failed = (stderr.split('\n').find((l) => /\S/.test(l) && !/^Command exited/.test(l)) ?? `exit ${status}`).slice(0, 160);
     return r;
   };
   const du = (p) => (statSync(p).isDirectory() ? readdirSync(p).reduce((s, f) => s + du(join(p, f)), 0) : statSync(p).size);

@@ -1,5 +1,6 @@
 /** Shared helpers for the benchmark cases: timing, statistics, formatting, dist imports. */
-import { existsSync } from 'node:fs';
+import { closeSync, existsSync, openSync } from 'node:fs';
+import { spawnSync } from 'node:child_process';
 import { fileURLToPath, pathToFileURL } from 'node:url';
 import { dirname, join } from 'node:path';
 
@@ -78,4 +79,22 @@ export function table(rows) {
   const widths = rows[0].map((_, c) => Math.max(...rows.map((r) => String(r[c] ?? '').length)));
   const line = (r) => r.map((x, c) => (c === 0 ? String(x ?? '').padEnd(widths[c]) : String(x ?? '').padStart(widths[c]))).join('  ');
   return [line(rows[0]), widths.map((w) => '-'.repeat(w)).join('  '), ...rows.slice(1).map(line)].join('\n');
+}
+
+/**
+ * Run one process to completion under /usr/bin/time: wall and user + system CPU in ms, the kernel's
+ * peak resident set in bytes, the exit status and stderr (the time line taken off). stdout goes to
+ * the file `stdout`, or is discarded.
+ */
+export function timeProcess(cmd, args, { stdout = null } = {}) {
+  const fd = stdout ? openSync(stdout, 'w') : 'ignore';
+  const p = spawnSync('/usr/bin/time', ['-f', '@@ %e %U %S %M', cmd, ...args], { stdio: ['ignore', fd, 'pipe'], encoding: 'utf8', maxBuffer: 1 << 26 });
+  if (typeof fd === 'number') closeSync(fd);
+  const err = p.stderr ?? '';
+  const m = /@@ ([\d.]+) ([\d.]+) ([\d.]+) (\d+)\s*$/.exec(err);
+  if (!m) throw new Error(`${cmd} ${args.join(' ')} could not be timed (${p.status}): ${err.slice(-2000)}`);
+  return {
+    ms: Number(m[1]) * 1000, cpuMs: (Number(m[2]) + Number(m[3])) * 1000, maxRss: Number(m[4]) * 1024,
+    status: p.status, stderr: err.slice(0, m.index),
+  };
 }
