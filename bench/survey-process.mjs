@@ -7,7 +7,7 @@
  *        [--no-gudhi] [--no-out] [--before OLD/dist/cli/main.js]
  *
  * Each round runs, one after the other (so all see the same load from other work):
- *  - floor: a node process that reads the GeoTIFF (loadSurface) and radix-sorts its values (sortOrder);
+ *  - floor: bench/lib/read-sort.mjs, a node process that reads the GeoTIFF (loadSurface) and radix-sorts its values;
  *  - `sill survey T.tif --json > FILE` and `sill survey T.tif -o DIR --quiet` (every file written);
  *  - GUDHI (Debian python3-gudhi): GDAL read + CubicalComplex(top_dimensional_cells).persistence()
  *    (bench/survey-gudhi.py, /usr/bin/python3);
@@ -33,18 +33,10 @@ const { values: opt } = parseArgs({
   options: {
     sizes: { type: 'string', default: '2000,4000' }, repeat: { type: 'string', default: '3' }, seed: { type: 'string', default: '17' },
     'no-gudhi': { type: 'boolean', default: false }, 'no-out': { type: 'boolean', default: false }, before: { type: 'string' },
-    child: { type: 'string' }, file: { type: 'string' },
   },
 });
 
-if (opt.child === 'floor') {
-  // the floor: read the GeoTIFF, one radix sort of its values
-  const { loadSurface } = await import(pathToFileURL(join(DIST, 'io/load.js')).href);
-  const { sortOrder } = await import(pathToFileURL(join(DIST, 'morse/order.js')).href);
-  const g = await loadSurface(opt.file);
-  const order = sortOrder(g.values);
-  console.log(JSON.stringify({ sorted: order.length }));
-} else {
+{
   const sizes = opt.sizes.split(',').map(Number);
   const repeat = Math.max(1, Number(opt.repeat));
   const gudhi = !opt['no-gudhi'] && existsSync(PY) && spawnSync(PY, ['-c', 'import gudhi, osgeo.gdal'], { stdio: 'ignore' }).status === 0;
@@ -73,7 +65,7 @@ if (opt.child === 'floor') {
       const tif = join(dir, `terrain-${size}.tif`);
       await writeGeoTiff(tif, { width: size, height: size, values: z, transform: [512000, 10, 0, 5874000 + size * 10, 0, -10], crs: { epsg: 32633, geographic: false }, nodata: -9999 });
       console.log(`\nterrain   ${size} × ${size} fractal (seed ${opt.seed}), float32 GeoTIFF, ${(cells / 1e6).toFixed(0)} M cells`);
-      const jobs = [['floor', () => timed(process.execPath, [fileURLToPath(import.meta.url), '--child', 'floor', '--file', tif])]];
+      const jobs = [['floor', () => timed(process.execPath, [join(HERE, 'lib', 'read-sort.mjs'), tif, DIST])]];
       const json = join(dir, 'out.json'), out = join(dir, 'out');
       const cli = (bin, key) => {
         jobs.push([`${key} --json`, () => { const r = timed(process.execPath, ['--max-old-space-size=8192', bin, 'survey', tif, '--json'], json); r.bytes = r.failed ? 0 : statSync(json).size; rmSync(json, { force: true }); return r; }]);
