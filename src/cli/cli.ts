@@ -69,14 +69,26 @@ export async function main(argv: string[]): Promise<number> {
       process.stderr.write(`sill: ${e.message}\n`);
       return 2;
     }
+    if (isBrokenPipe(e)) return BROKEN_PIPE;
     process.stderr.write(`sill: ${runtimeFailure(e)}\n`);
     if (process.env.SILL_DEBUG) process.stderr.write(`${(e as Error).stack}\n`);
     return 1;
   }
 }
 
+/**
+ * The reader of stdout went away (`sill … --json | head`): stop quietly with the status a program
+ * killed by SIGPIPE has in a shell (128 + 13), as command-line tools do (common practice); the
+ * output folder of `-o`, if any, is not committed.
+ */
+export const BROKEN_PIPE = 141;
+export function isBrokenPipe(e: unknown): boolean {
+  return (e as NodeJS.ErrnoException | null)?.code === 'EPIPE';
+}
+
 /** Last resort: anything thrown outside main's try (a stray callback, a failed stream) is one line and exit 1. */
 function lastResort(e: unknown): void {
+  if (isBrokenPipe(e)) process.exit(BROKEN_PIPE);
   process.stderr.write(`sill: ${runtimeFailure(e)}\n`);
   if (process.env.SILL_DEBUG) process.stderr.write(`${(e as Error)?.stack}\n`);
   process.exit(1);

@@ -302,3 +302,15 @@ describe('memory budget: refused before the work with the estimate (exit 2)', ()
     expect(existsSync(out) ? readdirSync(out) : []).toEqual([]);
   });
 });
+
+describe('the reader of stdout goes away', () => {
+  it('sill … --json | head stops quietly with 141 (as a program killed by SIGPIPE in a shell: common practice)', () => {
+    const dem = p('pipe.npy');
+    const v = new Float32Array(300 * 300);
+    for (let i = 0; i < v.length; i++) v[i] = Math.sin(i * 0.37) * 5 + (i % 300) * 0.01; // many small hollows: a long report
+    npy(dem, v, 300, 300);
+    const r = spawnSync('bash', ['-c', `"${process.execPath}" "${BIN}" ponds "${dem}" --json | head -c 20 >/dev/null; echo "status=\${PIPESTATUS[0]}"`], { encoding: 'utf8' });
+    expect(r.stdout.trim()).toBe('status=141');
+    expect(r.stderr).toBe('');
+  });
+});
