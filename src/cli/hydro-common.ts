@@ -1,9 +1,10 @@
 /** What `sill ponds` and `sill runoff` share on the command line: option checks, streamed output files, the summary's common lines. */
-import { InputError, SelfCheckError } from '../errors.js';
+import { InputError } from '../errors.js';
 import type { Grid } from '../surface/grid.js';
 import type { Connectivity } from '../surface/complex.js';
 import type { StageRow } from '../hydro/stage.js';
 import type { PondsUnits } from '../hydro/areas.js';
+import { eulerFailure } from '../report/common.js';
 import type { SurfaceInfo, EulerInfo } from '../report/common.js';
 import { toCsv, collectionHead } from '../io/tables.js';
 import { TextSink, writeJson, writeCsv, withFileSink, FeatureCollectionWriter } from '../io/stream.js';
@@ -53,24 +54,7 @@ export function checkHydroReport(report: { euler: EulerInfo | null; depressions:
   }
 }
 
-/** The Euler relation failed: the figures for the one-line message. */
-export function eulerFailure(e: EulerInfo): SelfCheckError {
-  return new SelfCheckError('the Euler relation does not hold', `χ = ${e.characteristic} by counting simplices, pits − passes + peaks = ${e.pits - e.passes + e.peaks}`);
-}
-
-/** Largest relative water-balance error a run may report: |input − ponded − outflow| / input. */
-export const BALANCE_TOLERANCE = 1e-9;
-
-/** Refuse a runoff result whose water does not balance. */
-export function checkBalance(w: { input: number; ponded: number; outflow: number; balanceError: number }): void {
-  if (!(w.balanceError <= BALANCE_TOLERANCE)) {
-    throw new SelfCheckError(
-      `the water balance is off by ${w.balanceError.toExponential(2)} relative, more than ${BALANCE_TOLERANCE}`,
-      `input ${w.input.toPrecision(10)}, ponded ${w.ponded.toPrecision(10)}, outflow ${w.outflow.toPrecision(10)}`,
-      'if the runoff depth is tiny next to the elevations, subtract a base elevation from the DEM; otherwise this is a bug in sill, please report it with the input',
-    );
-  }
-}
+export { eulerFailure, checkBalance, BALANCE_TOLERANCE } from '../report/common.js';
 
 /** A report as JSON on stdout (compact, then a newline), streamed from its columns. */
 export function printReport(report: object): void {

@@ -2,6 +2,7 @@
 import type { Grid, Crs } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
 import type { SurveyResult } from '../morse/survey.js';
+import { SelfCheckError } from '../errors.js';
 
 export const SILL_VERSION = '0.1.0';
 
@@ -67,4 +68,23 @@ export function num(x: number): number | null {
 /** Called with the number of features (critical points, depressions) once the analysis has counted them, before their records are built: the command line checks its memory budget there. */
 export interface FeatureHook {
   onFeatures?: (features: number) => void;
+}
+
+/** The Euler relation failed: the figures for the one-line message. */
+export function eulerFailure(e: EulerInfo): SelfCheckError {
+  return new SelfCheckError('the Euler relation does not hold', `χ = ${e.characteristic} by counting simplices, pits − passes + peaks = ${e.pits - e.passes + e.peaks}`);
+}
+
+/** Largest relative water-balance error a run may report: |input − ponded − outflow| / input. */
+export const BALANCE_TOLERANCE = 1e-9;
+
+/** Refuse a runoff result whose water does not balance. */
+export function checkBalance(w: { input: number; ponded: number; outflow: number; balanceError: number }): void {
+  if (!(w.balanceError <= BALANCE_TOLERANCE)) {
+    throw new SelfCheckError(
+      `the water balance is off by ${w.balanceError.toExponential(2)} relative, more than ${BALANCE_TOLERANCE}`,
+      `input ${w.input.toPrecision(10)}, ponded ${w.ponded.toPrecision(10)}, outflow ${w.outflow.toPrecision(10)}`,
+      'if the runoff depth is tiny next to the elevations, subtract a base elevation from the DEM; otherwise this is a bug in sill, please report it with the input',
+    );
+  }
 }

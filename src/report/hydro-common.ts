@@ -297,6 +297,14 @@ export class DepressionRows<T> extends Rows<T> {
   constructor(length: number, at: (i: number) => T, json: (i: number) => string, readonly columns: DepressionColumns) {
     super(length, at, { compact: true, json });
   }
+
+  /**
+   * The records of the `k` largest depressions by `by` (default volume), largest first (ties: the
+   * smaller id): a bounded selection over the column, no record made for the others.
+   */
+  largest(k: number, by: 'volume' | 'maxDepth' | 'spillValue' | 'pitValue' = 'volume'): T[] {
+    return topK(this.columns[by], 1, this.length + 1, k).map((id) => this.at(id - 1));
+  }
 }
 
 /** The keys every hydrology report starts with, after its schema. */

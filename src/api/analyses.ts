@@ -1,0 +1,168 @@
+/**
+ * The four analyses as the library offers them, in one shape: `analysis(surface, options) → run`,
+ * where the run holds `report` (the JSON object of the matching command, DESIGN §4: records made
+ * on demand from typed columns) and `result` (the typed columns and rasters themselves). Options
+ * are plain objects; every option and its default is documented here. Each run passes the same
+ * self-checks as the command line (the Euler relation; runoff's water balance) or throws.
+ */
+import type { Connectivity, Boundary } from '../surface/complex.js';
+import type { Grid } from '../surface/grid.js';
+import type { EnergyUnit } from '../chem/units.js';
+import type { MeshFieldOptions } from '../chem/field.js';
+import { parseDepth, depthUnit, DEPTH_UNITS } from '../hydro/runoff-input.js';
+import { InputError } from '../errors.js';
+import { surveyReport, type SurveyRun } from '../report/survey.js';
+import { pondsReport, type PondsRun } from '../report/ponds.js';
+import { runoffReport, type RunoffRun } from '../report/runoff.js';
+import { barriersReport, type BarriersRun } from '../report/barriers.js';
+import { eulerFailure, checkBalance } from '../report/common.js';
+import { surfaceName, type Surface } from './surface.js';
+
+/** Options every analysis of a grid takes. */
+export interface CommonOptions {
+  /** Neighbourhood of a cell: 8 (default; sublevel sets 8-connected), 6 (Freudenthal triangulation) or 4. Ignored on meshes. */
+  connectivity?: Connectivity;
+  /** Threads: 1 keeps everything on the calling thread. Default: the number of cores (results are identical either way). */
+  threads?: number;
+  /** Name of the input in the report (`input`) and in messages. Default: the path the surface was read from, else null. */
+  input?: string;
+}
+
+export interface SurveyOptions extends CommonOptions {
+  /** What lies beyond the edge: 'open' (default: every outside cell is one outlet vertex at −∞), 'closed', 'periodic', 'periodic-x', 'periodic-y'. */
+  boundary?: Boundary;
+  /** Leave out features whose persistence is below this (surface units). Default 0: keep all. */
+  minPersistence?: number;
+}
+
+/** Options of the hydrology analyses (`ponds`, `runoff`). The boundary is always open: water leaves the map at its edge. */
+export interface HydroOptions extends CommonOptions {
+  /** Nodata cells drain to the outside (default true); false makes them walls. */
+  nodataOutlet?: boolean;
+  /** Vertical unit of the values: 'm' (default, assumed and stated in the report), 'ft', 'us-ft', 'cm', 'mm'. */
+  zUnits?: string;
+  /** Metres per vertical unit of the values (instead of zUnits). */
+  zFactor?: number;
+  /** Horizontal unit when the grid has no CRS: 'm' (default), 'ft', 'us-ft', 'km', 'deg' (longitude/latitude on WGS84). */
+  xyUnits?: string;
+  /** Called at the start of each stage of the work (for a progress display). Default none. */
+  onStage?: (stage: string) => void;
+}
+
+export interface PondsOptions extends HydroOptions {
+  /** Merge depressions shallower than this (spill − pit, vertical unit) into their parent. Default 0. */
+  minDepth?: number;
+  /** Merge depressions with a wet area below this (report's area unit) into their parent. Default 0. */
+  minArea?: number;
+  /** Merge depressions holding less than this (report's volume unit) into their parent. Default 0. */
+  minVolume?: number;
+  /** Persistence threshold; for depressions the same measure as the depth spill − pit. Default 0. */
+  minPersistence?: number;
+  /** In the filled and depth rasters, fill only depressions holding less than this volume. Default: fill all. */
+  fillOnlyBelow?: number;
+  /** The label raster holds the innermost ('leaf', default) or the outermost ('top') depression id. */
+  labelLevel?: 'leaf' | 'top';
+}
+
+export interface RunoffOptions extends HydroOptions {
+  /** Uniform runoff depth over every valid cell: metres as a number, or text with a unit ('40mm', '0.1m', '2in'). Give this or depthRaster. */
+  depth?: number | string;
+  /** Runoff depth per cell (nodata: none), resampled to the DEM when its cells differ. Give this or depth. */
+  depthRaster?: Grid;
+  /** Unit of depthRaster's values: 'mm', 'cm', 'dm', 'm' (default), 'in', 'ft'. */
+  depthRasterUnit?: string;
+  /** Water surface already present (the DEM's vertical unit): the water above the ground is added where it lies. Default none. */
+  initialLevel?: Grid;
+}
+
+export interface BarriersOptions extends CommonOptions {
+  /** What lies beyond the sampled window: 'closed' (default: a wall), 'periodic' (both axes wrap, e.g. two dihedral angles), 'periodic-x', 'periodic-y', 'open'. */
+  boundary?: Boundary;
+  /** Energy unit of the values: 'kJ/mol', 'kcal/mol', 'eV', 'hartree', 'kT', 'K' or 'none' (default). */
+  units?: EnergyUnit;
+  /** Unit of the reported energies. Default: the input unit. */
+  to?: EnergyUnit;
+  /** Temperature in kelvin for kT, free energies and rates. Default 300. */
+  temperature?: number;
+  /** Merge basins whose barrier is below this (input unit). Default 1 kT when `units` is known, else 0. */
+  minPersistence?: number;
+  /** Values above this (input unit) count as unsampled. Default none. */
+  cap?: number;
+  /** Span of each periodic axis [x, y]. Default 360 or 2π, whichever the coordinates fit. */
+  period?: [number | null, number | null];
+  /** Images on each minimum-energy path (5 to 10 000). Default 81. */
+  images?: number;
+  /** Trace paths for at most this many transition states, lowest first (0 to 10 000). Default 200. */
+  maxPaths?: number;
+  /** Scattered samples: the moving-least-squares fit. Default: chosen from the sample spacing. */
+  meshFit?: MeshFieldOptions;
+}
+
+const inputOf = (surface: Surface, o: { input?: string }): string | null => o.input ?? surfaceName(surface);
+
+/**
+ * Critical points (pits, passes, peaks), the Euler check, join and split trees and persistence
+ * pairs. `report.criticalPoints` and `report.pairs` are lazy lists (`pairs.top(k)` picks the k
+ * most persistent); `result` holds the columns and the merge trees.
+ */
+export function survey(surface: Surface, options: SurveyOptions = {}): SurveyRun {
+  const { input, ...opts } = options;
+  const run = surveyReport(surface, opts, inputOf(surface, options));
+  if (!run.report.euler.holds) throw eulerFailure(run.report.euler);
+  return run;
+}
+
+/**
+ * Closed depressions of a DEM: spill levels, pour points, volumes and nesting. `report.depressions`
+ * is a lazy list over typed columns (`largest(k)`, `at(i)`, `columns`); `result.rasters` holds
+ * the filled, depth and label rasters (`pondsRasters` makes them ready for `writeGeoTiff`).
+ */
+export function ponds(surface: Surface, options: PondsOptions = {}): PondsRun {
+  const { input, ...opts } = options;
+  const name = inputOf(surface, options);
+  const run = pondsReport(surface, { ...opts, boundary: 'open', source: name ?? 'input' }, name);
+  if (run.report.euler && !run.report.euler.holds) throw eulerFailure(run.report.euler);
+  return run;
+}
+
+/**
+ * Routes a runoff depth through the depression hierarchy (fill, spill, merge): where water ponds,
+ * at what level, and how much leaves the map. The water balance is checked (relative error ≤ 1e-9).
+ */
+export function runoff(surface: Surface, options: RunoffOptions): RunoffRun {
+  const { input, depth, depthRasterUnit, ...opts } = options ?? {};
+  const name = inputOf(surface, options ?? {});
+  let metres: number | undefined, depthText: string | undefined;
+  if (typeof depth === 'string') { metres = parseDepth(depth, 'depth').metres; depthText = depth.trim(); }
+  else if (depth !== undefined) { metres = depth; depthText = `${depth}m`; }
+  let unit = 'm';
+  if (depthRasterUnit !== undefined) {
+    const u = depthUnit(depthRasterUnit);
+    if (u === null) throw new InputError(`depthRasterUnit must be one of ${Object.keys(DEPTH_UNITS).join(', ')}; got '${depthRasterUnit}'`);
+    unit = u;
+  }
+  const run = runoffReport(surface, {
+    ...opts, boundary: 'open', depth: metres, depthText, source: name ?? 'input',
+    depthRasterFactor: DEPTH_UNITS[unit], depthRasterUnit: opts.depthRaster ? unit : undefined,
+    depthRasterSource: opts.depthRaster ? surfaceName(opts.depthRaster) ?? 'depth raster' : undefined,
+    initialLevelSource: opts.initialLevel ? surfaceName(opts.initialLevel) ?? 'initial level' : undefined,
+  }, name);
+  if (run.report.euler && !run.report.euler.holds) throw eulerFailure(run.report.euler);
+  checkBalance(run.report.water);
+  return run;
+}
+
+/**
+ * Energy landscapes: minima, transition states (refined, with Hessians), barriers, minimum-energy
+ * paths, basin free energies and the disconnectivity graph; energies in `to` (default the input unit).
+ */
+export function barriers(surface: Surface, options: BarriersOptions = {}): BarriersRun {
+  const { input, ...opts } = options;
+  const { units = 'none', to } = opts;
+  if (to !== undefined && to !== units && (units === 'none' || to === 'none')) {
+    throw new InputError(units === 'none' ? `to: '${to}' needs the input unit: set units` : `to: 'none' would drop the unit; leave to out to report in ${units}`);
+  }
+  const run = barriersReport(surface, opts, inputOf(surface, options));
+  if (!run.report.euler.holds) throw eulerFailure(run.report.euler);
+  return run;
+}

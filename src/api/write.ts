@@ -1,0 +1,84 @@
+/**
+ * Writers a library user needs, streamed from the runs' columns like the command line's files:
+ * the report as JSON, depressions as GeoJSON and CSV, any records as CSV, and the rasters of a run
+ * ready for `writeGeoTiff`. Each writes one file at the path given (created or truncated).
+ */
+import { withFileSink, writeJson, writeCsv } from '../io/stream.js';
+import type { RasterToWrite } from '../io/geotiff-write.js';
+import type { Grid } from '../surface/grid.js';
+import type { PondsRun } from '../report/ponds.js';
+import type { RunoffRun } from '../report/runoff.js';
+import { pondsCsvColumns, pondsCsvRow } from '../report/ponds.js';
+import { topLabels } from '../hydro/rasters.js';
+import { writeDepressionsGeojson } from '../report/depressions-geojson.js';
+
+/**
+ * `value` (a report, or anything JSON.stringify takes) as JSON at `path`, written piece by piece:
+ * lazy lists are streamed from their columns, never held whole. `indent` as in JSON.stringify;
+ * the command line's report.json uses 1. Numbers are written exactly (shortest round trip).
+ */
+export function writeJsonFile(path: string, value: unknown, indent = 1): void {
+  withFileSink(path, (sink) => {
+    writeJson(sink, value, indent);
+    sink.write('\n');
+  });
+}
+
+/**
+ * Records as CSV at `path`: a header of the column names, then one row per record, each cell
+ * from its accessor (numbers exactly, text quoted when it must be). `rows` is an array or a lazy
+ * list of a report (`report.depressions`, `report.pairs` …), read one record at a time.
+ */
+export function writeCsvFile<T>(path: string, rows: { length: number; at(i: number): T | undefined }, columns: readonly (readonly [string, (r: T) => unknown])[]): void {
+  withFileSink(path, (sink) => writeCsv(sink, rows.length, columns.map(([h, f]) => [h, (i: number) => f(rows.at(i) as T)] as const)));
+}
+
+/** depressions.csv of `sill ponds`, from the run's columns (units in the headers). */
+export function writeDepressionsCsv(path: string, run: PondsRun): void {
+  const { result, report } = run;
+  const cols = report.depressions.columns;
+  const columns = pondsCsvColumns(result, cols, result.areas.units.tokens);
+  withFileSink(path, (sink) => {
+    writeCsv(sink, 0, columns);
+    for (let id = 1; id <= report.depressions.length; id++) sink.write(pondsCsvRow(result, cols, id));
+  });
+}
+
+/**
+ * depressions.geojson of `sill ponds`: one (Multi)Polygon per depression at its spill level (null
+ * geometry for a nested merged depression of a very deep hierarchy, see `omitted`), then one point
+ * per pour point; the CRS of the grid. Returns how many outlines were traced and left out.
+ */
+export function writeDepressionsGeoJson(path: string, run: PondsRun): { traced: number; omitted: number } {
+  const { result, report } = run;
+  const meta = {
+    name: 'depressions',
+    description: 'closed depressions at their spill levels (polygons) and their pour points (points)',
+    units: report.units,
+    caution: report.caution,
+  };
+  return writeDepressionsGeojson(path, null, result, report.depressions.columns, null, meta);
+}
+
+function raster(g: Grid, values: RasterToWrite['values'], nodata: number): RasterToWrite {
+  return { width: g.width, height: g.height, transform: g.transform, crs: g.crs, values, nodata };
+}
+
+/**
+ * The rasters of a `ponds` run as `sill ponds -o` writes them (pass each to `writeGeoTiff`):
+ * `filled` (the DEM with depressions filled to their spill levels; the DEM's nodata), `depth`
+ * (filled − DEM; nodata −9999) and `labels` (depression id per cell, 0 outside any, by the run's
+ * labelLevel; nodata −1).
+ */
+export function pondsRasters(run: PondsRun): { filled: RasterToWrite; depth: RasterToWrite; labels: RasterToWrite } {
+  const g = run.result.grid, R = run.result.rasters;
+  const valueNodata = g.nodata !== null && Number.isFinite(g.nodata) ? g.nodata : NaN;
+  const labels = run.report.labelLevel === 'top' ? topLabels(R.labels, run.result.hierarchy) : R.labels;
+  return { filled: raster(g, R.filled, valueNodata), depth: raster(g, R.depth, -9999), labels: raster(g, labels, -1) };
+}
+
+/** The rasters of a `runoff` run as `sill runoff -o` writes them: `level` (water surface) and `depth` (water depth), nodata −9999. */
+export function runoffRasters(run: RunoffRun): { level: RasterToWrite; depth: RasterToWrite } {
+  const g = run.result.grid, R = run.result.rasters;
+  return { level: raster(g, R.level, -9999), depth: raster(g, R.depth, -9999) };
+}

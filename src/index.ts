@@ -1,0 +1,46 @@
+/**
+ * sill as a library: `import { readSurface, ponds } from 'sill'`. The public API and nothing
+ * else; docs/library.md has worked examples of each part.
+ */
+
+// surfaces: read a file, or wrap values held in memory
+export { readSurface, gridFromArray, surfaceName, type Surface, type ReadSurfaceOptions, type GridFromArrayOptions } from './api/surface.js';
+export { Grid, type GridInit, type GridValues, type GeoTransform, type Crs } from './surface/grid.js';
+export { Mesh } from './surface/mesh.js';
+export type { Connectivity, Boundary } from './surface/complex.js';
+
+// the analyses: analysis(surface, options) → { report, result }
+export {
+  survey, ponds, runoff, barriers,
+  type CommonOptions, type SurveyOptions, type HydroOptions, type PondsOptions, type RunoffOptions, type BarriersOptions,
+} from './api/analyses.js';
+
+// the report objects (the JSON of each command) and their builders
+export { SILL_VERSION as version, type SurfaceInfo, type EulerInfo, type Location } from './report/common.js';
+export { surveyReport, PairRows, type SurveyRun, type SurveyReport, type CriticalPointRecord, type PairRecord, type TreeNodeRecord } from './report/survey.js';
+export { pondsReport, buildPondsReport, type PondsRun, type PondsReport, type DepressionRecord } from './report/ponds.js';
+export { runoffReport, buildRunoffReport, type RunoffRun, type RunoffReport, type RunoffDepressionRecord, type PondRecord, type WaterState } from './report/runoff.js';
+export {
+  barriersReport, reportFromResult as buildBarriersReport,
+  type BarriersRun, type BarriersReport, type MinimumEntry, type TransitionStateEntry, type BarrierEntry, type PathEntry, type StationaryEntry, type PointXYE,
+} from './report/barriers.js';
+export { DepressionRows, type DepressionCore, type DepressionColumns, type CellRef, type PourRecord } from './report/hydro-common.js';
+export { Rows } from './io/stream.js';
+
+// the typed results behind the reports
+export type { SurveyResult, PersistencePairs } from './morse/survey.js';
+export type { MergeTree } from './morse/mergetree.js';
+export type { PondsResult } from './hydro/ponds.js';
+export type { Hierarchy } from './hydro/hierarchy.js';
+export type { PondRasters } from './hydro/rasters.js';
+export type { RunoffResult, RunoffWater, WaterBodies } from './hydro/runoff.js';
+export type { BarriersResult, MinimumRecord, TransitionStateRecord, BarrierRow, PathRecord } from './chem/barriers.js';
+export { ENERGY_UNITS, conversionFactor, type EnergyUnit } from './chem/units.js';
+
+// writers
+export { writeGeoTiff, type RasterToWrite, type RasterValues, type GeoTiffWriteOptions } from './io/geotiff-write.js';
+export { writeJsonFile, writeCsvFile, writeDepressionsCsv, writeDepressionsGeoJson, pondsRasters, runoffRasters } from './api/write.js';
+export { TextSink, writeJson } from './io/stream.js';
+
+// errors
+export { InputError, SelfCheckError } from './errors.js';
