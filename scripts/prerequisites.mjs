@@ -55,6 +55,16 @@ export const GROUPS = [
     },
     overridden: () => !!process.env.SILL_PYTHON,
   },
+  {
+    id: 'numpy',
+    what: 'the NumPy example of docs/library.md (tests/package)',
+    packages: ['python3-numpy'],
+    missing: () => {
+      if (!existsSync(paths.python())) return `no Python at ${paths.python()}`;
+      return importable('numpy') ? null : `${paths.python()} cannot import numpy`;
+    },
+    overridden: () => !!process.env.SILL_PYTHON,
+  },
 ];
 
 /** True when this process may install Debian packages: Linux with apt-get, as root or with passwordless sudo. */
