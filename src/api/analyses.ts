@@ -5,9 +5,9 @@
  * are plain objects; every option and its default is documented here. Each run passes the same
  * self-checks as the command line (the Euler relation; runoff's water balance) or throws.
  */
-import type { Connectivity, Boundary } from '../surface/complex.js';
+import { BOUNDARIES, type Connectivity, type Boundary } from '../surface/complex.js';
 import type { Grid } from '../surface/grid.js';
-import type { EnergyUnit } from '../chem/units.js';
+import { parseEnergyUnit, type EnergyUnit } from '../chem/units.js';
 import type { MeshFieldOptions } from '../chem/field.js';
 import { parseDepth, depthUnit, DEPTH_UNITS } from '../hydro/runoff-input.js';
 import { InputError } from '../errors.js';
@@ -100,12 +100,50 @@ export interface BarriersOptions extends CommonOptions {
 
 const inputOf = (surface: Surface, o: { input?: string }): string | null => o.input ?? surfaceName(surface);
 
+// The keys each analysis takes (the compiler holds them equal to the option types' keys).
+const COMMON = { connectivity: true, threads: true, input: true } as const;
+const HYDRO = { ...COMMON, nodataOutlet: true, zUnits: true, zFactor: true, xyUnits: true, onStage: true } as const;
+const KEYS = {
+  survey: { ...COMMON, boundary: true, minPersistence: true } satisfies Record<keyof SurveyOptions, true>,
+  ponds: { ...HYDRO, minDepth: true, minArea: true, minVolume: true, minPersistence: true, fillOnlyBelow: true, labelLevel: true } satisfies Record<keyof PondsOptions, true>,
+  runoff: { ...HYDRO, depth: true, depthRaster: true, depthRasterUnit: true, initialLevel: true } satisfies Record<keyof RunoffOptions, true>,
+  barriers: {
+    ...COMMON, boundary: true, units: true, to: true, temperature: true, minPersistence: true, cap: true, period: true, images: true, maxPaths: true, meshFit: true,
+  } satisfies Record<keyof BarriersOptions, true>,
+};
+
+/**
+ * Refuse what a plain-JavaScript caller could pass that the types exclude: a misspelt option (it
+ * would be ignored silently) or a value outside an option's list. Numbers are checked by the analyses.
+ */
+function checkOptions(analysis: keyof typeof KEYS, options: object | undefined): void {
+  if (options === undefined) return;
+  if (options === null || typeof options !== 'object') throw new InputError(`${analysis}: options must be an object, got ${options === null ? 'null' : typeof options}`);
+  const known: Record<string, true> = KEYS[analysis];
+  const o = options as Record<string, unknown>;
+  for (const k of Object.keys(o)) {
+    if (!known[k]) throw new InputError(`${analysis}: unknown option '${k}'; the options are ${Object.keys(known).join(', ')}`);
+  }
+  const oneOf = (key: string, allowed: readonly unknown[]) => {
+    if (o[key] !== undefined && !allowed.includes(o[key])) {
+      throw new InputError(`${analysis}: ${key} must be one of ${allowed.map((a) => (typeof a === 'string' ? `'${a}'` : String(a))).join(', ')}, got ${JSON.stringify(o[key])}`);
+    }
+  };
+  oneOf('connectivity', [4, 6, 8]);
+  oneOf('boundary', BOUNDARIES);
+  oneOf('labelLevel', ['leaf', 'top']);
+  oneOf('nodataOutlet', [true, false]);
+  if (o.input !== undefined && typeof o.input !== 'string') throw new InputError(`${analysis}: input names the surface in the report and must be a string`);
+  if (o.onStage !== undefined && typeof o.onStage !== 'function') throw new InputError(`${analysis}: onStage must be a function`);
+}
+
 /**
  * Critical points (pits, passes, peaks), the Euler check, join and split trees and persistence
  * pairs. `report.criticalPoints` and `report.pairs` are lazy lists (`pairs.top(k)` picks the k
  * most persistent); `result` holds the columns and the merge trees.
  */
 export function survey(surface: Surface, options: SurveyOptions = {}): SurveyRun {
+  checkOptions('survey', options);
   const { input, ...opts } = options;
   const run = surveyReport(surface, opts, inputOf(surface, options));
   if (!run.report.euler.holds) throw eulerFailure(run.report.euler);
@@ -118,6 +156,7 @@ export function survey(surface: Surface, options: SurveyOptions = {}): SurveyRun
  * the filled, depth and label rasters (`pondsRasters` makes them ready for `writeGeoTiff`).
  */
 export function ponds(surface: Surface, options: PondsOptions = {}): PondsRun {
+  checkOptions('ponds', options);
   const { input, ...opts } = options;
   const name = inputOf(surface, options);
   const run = pondsReport(surface, { ...opts, boundary: 'open', source: name ?? 'input' }, name);
@@ -130,8 +169,10 @@ export function ponds(surface: Surface, options: PondsOptions = {}): PondsRun {
  * at what level, and how much leaves the map. The water balance is checked (relative error ≤ 1e-9).
  */
 export function runoff(surface: Surface, options: RunoffOptions): RunoffRun {
+  checkOptions('runoff', options);
   const { input, depth, depthRasterUnit, ...opts } = options ?? {};
   const name = inputOf(surface, options ?? {});
+  if (depth !== undefined && typeof depth !== 'number' && typeof depth !== 'string') throw new InputError(`runoff: depth is metres as a number or text with a unit ('40mm'), got ${typeof depth}`);
   let metres: number | undefined, depthText: string | undefined;
   if (typeof depth === 'string') { metres = parseDepth(depth, 'depth').metres; depthText = depth.trim(); }
   else if (depth !== undefined) { metres = depth; depthText = `${depth}m`; }
@@ -157,12 +198,14 @@ export function runoff(surface: Surface, options: RunoffOptions): RunoffRun {
  * paths, basin free energies and the disconnectivity graph; energies in `to` (default the input unit).
  */
 export function barriers(surface: Surface, options: BarriersOptions = {}): BarriersRun {
+  checkOptions('barriers', options);
   const { input, ...opts } = options;
-  const { units = 'none', to } = opts;
+  const units = opts.units === undefined ? 'none' : parseEnergyUnit(opts.units, 'barriers: units');
+  const to = opts.to === undefined ? undefined : parseEnergyUnit(opts.to, 'barriers: to');
   if (to !== undefined && to !== units && (units === 'none' || to === 'none')) {
-    throw new InputError(units === 'none' ? `to: '${to}' needs the input unit: set units` : `to: 'none' would drop the unit; leave to out to report in ${units}`);
+    throw new InputError(units === 'none' ? `barriers: to '${to}' needs the input unit: set units` : `barriers: to 'none' would drop the unit; leave to out to report in ${units}`);
   }
-  const run = barriersReport(surface, opts, inputOf(surface, options));
+  const run = barriersReport(surface, { ...opts, units, to }, inputOf(surface, options));
   if (!run.report.euler.holds) throw eulerFailure(run.report.euler);
   return run;
 }
