@@ -3,9 +3,10 @@
  * the report as JSON, depressions as GeoJSON and CSV, any records as CSV, and the rasters of a run
  * ready for `writeGeoTiff`. Each writes one file at the path given (created or truncated).
  */
-import { withFileSink, writeJson, writeCsv } from '../io/stream.js';
+import { withFileSink, writeJson, writeCsv, writePointCollection } from '../io/stream.js';
+import { collectionHead } from '../io/tables.js';
 import type { RasterToWrite } from '../io/geotiff-write.js';
-import type { Grid } from '../surface/grid.js';
+import type { Crs, Grid } from '../surface/grid.js';
 import type { PondsRun } from '../report/ponds.js';
 import type { RunoffRun } from '../report/runoff.js';
 import { pondsCsvColumns, pondsCsvRow } from '../report/ponds.js';
@@ -31,6 +32,31 @@ export function writeJsonFile(path: string, value: unknown, indent = 1): void {
  */
 export function writeCsvFile<T>(path: string, rows: { length: number; at(i: number): T | undefined }, columns: readonly (readonly [string, (r: T) => unknown])[]): void {
   withFileSink(path, (sink) => writeCsv(sink, rows.length, columns.map(([h, f]) => [h, (i: number) => f(rows.at(i) as T)] as const)));
+}
+
+export interface PointsGeoJsonOptions<T> {
+  /** The CRS of the coordinates, named in the collection as GDAL reads it (an EPSG code). Default none. */
+  crs?: Crs | null;
+  /** The collection's `name` (a GIS shows it as the layer's name). Default 'points'. */
+  name?: string;
+  /** The properties of a record's feature. Default: the record's members other than x and y. */
+  properties?: (r: T) => Record<string, unknown>;
+}
+
+/**
+ * Records with map coordinates `x`, `y` as a GeoJSON FeatureCollection of points at `path`, one
+ * record at a time — e.g. `report.criticalPoints` of a survey (with `crs: surface.crs`) or the
+ * minima of a barriers report. Feature ids are the records' positions.
+ */
+export function writePointsGeoJson<T extends { x: number; y: number }>(path: string, rows: { length: number; at(i: number): T | undefined }, options: PointsGeoJsonOptions<T> = {}): void {
+  const props = options.properties ?? ((r: T) => { const { x: _x, y: _y, ...rest } = r; return rest; });
+  // the record of the feature being written, made once for its coordinates and properties
+  let atI = -1, atR: T | undefined;
+  const at = (i: number): T => (i === atI ? atR! : (atI = i, atR = rows.at(i)!));
+  withFileSink(path, (sink) => {
+    writePointCollection(sink, collectionHead(options.crs ?? null, { name: options.name ?? 'points' }), rows.length, (i) => at(i).x, (i) => at(i).y, (i) => props(at(i)));
+    sink.write('\n');
+  });
 }
 
 /** depressions.csv of `sill ponds`, from the run's columns (units in the headers). */

@@ -11,7 +11,7 @@ import { readFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import {
   readSurface, gridFromArray, surfaceName, survey, ponds, runoff, barriers, writeJsonFile, writeDepressionsCsv, writeDepressionsGeoJson,
-  writeCsvFile, pondsRasters, runoffRasters, writeGeoTiff, InputError, Grid,
+  writeCsvFile, writePointsGeoJson, pondsRasters, runoffRasters, writeGeoTiff, InputError, Grid,
 } from '../../src/index.js';
 import { sill, tempDir, writeTerrainNpy } from '../cli/run.js';
 
@@ -64,6 +64,28 @@ describe('the library gives what the command line gives', () => {
       expect(r.code, r.stderr).toBe(0);
       expect(JSON.parse(JSON.stringify(report)), args[0]).toEqual(JSON.parse(r.stdout));
     }
+  });
+
+  it('survey: critical points as GeoJSON and CSV, as the command writes them', async () => {
+    const out = join(dir, 'survey-cli');
+    expect(sill(['survey', dem, '-o', out, '--quiet']).code).toBe(0);
+    const surface = await readSurface(dem);
+    const { report } = survey(surface);
+    writePointsGeoJson(join(dir, 'lib-points.geojson'), report.criticalPoints, {
+      crs: surface.crs, name: 'critical-points',
+      properties: (c) => ({ kind: c.kind, value: c.value, multiplicity: c.multiplicity, col: c.col, row: c.row, onEdge: c.onEdge }),
+    });
+    expect(read(join(dir, 'lib-points.geojson')).equals(read(join(out, 'critical-points.geojson')))).toBe(true);
+    writeCsvFile(join(dir, 'lib-points.csv'), report.criticalPoints, [
+      ['kind', (c) => c.kind], ['col', (c) => c.col], ['row', (c) => c.row], ['x', (c) => c.x], ['y', (c) => c.y],
+      ['value', (c) => c.value], ['multiplicity', (c) => c.multiplicity], ['on_edge', (c) => (c.onEdge ? 1 : 0)],
+    ]);
+    expect(read(join(dir, 'lib-points.csv')).equals(read(join(out, 'critical-points.csv')))).toBe(true);
+    // the default properties: every member but x and y
+    writePointsGeoJson(join(dir, 'lib-default.geojson'), report.criticalPoints);
+    const f = json(join(dir, 'lib-default.geojson')).features[0];
+    const { x, y, ...rest } = report.criticalPoints.at(0);
+    expect(f).toEqual({ type: 'Feature', id: 0, geometry: { type: 'Point', coordinates: [x, y] }, properties: rest });
   });
 
   it('runoff rasters as the command writes them', async () => {

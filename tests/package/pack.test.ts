@@ -9,7 +9,7 @@
 import { describe, it, expect, beforeAll, afterAll } from 'vitest';
 import { spawnSync } from 'node:child_process';
 import { createHash } from 'node:crypto';
-import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { copyFileSync, existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { librarySections, runBlock, root } from './helpers.js';
@@ -48,6 +48,8 @@ beforeAll(() => {
   };
   for (const [k, v] of Object.entries(lock)) if (k !== '' && !v.dev) packages[k] = v;
   writeFileSync(join(app, 'package.json'), JSON.stringify({ name: 'app', private: true, type: 'module', dependencies: { sill: `file:${tgz}` } }));
+  // this machine's npm settings of the project (e.g. how a native dependency builds) apply to the user's folder too
+  for (const rc of ['.npmrc', '.prebuild-installrc']) if (existsSync(join(root, rc))) copyFileSync(join(root, rc), join(app, rc));
   writeFileSync(join(app, 'package-lock.json'), JSON.stringify({ name: 'app', lockfileVersion: 3, requires: true, packages }));
   // the cache first; the npm registry only for what the cache lacks (a dependency with a native part,
   // if one is ever added, builds here too — hence the long timeout)
