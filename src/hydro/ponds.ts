@@ -12,6 +12,7 @@ import { cellAreas, type CellAreas, type UnitOptions } from './areas.js';
 import { sweepDepressions, nodeSums } from './sweep.js';
 import { buildHierarchy, type Hierarchy, type HierarchyFilters } from './hierarchy.js';
 import { pondRasters, type PondRasters, type SpareMemory } from './rasters.js';
+import { catchments as catchmentsOf, type Catchments } from './catchments.js';
 import { hydroSetup, openComplex, checkedSweepPits, type PondsEuler } from './common.js';
 
 export interface PondsOptions extends UnitOptions, HierarchyFilters, ThreadOptions {
@@ -26,6 +27,12 @@ export interface PondsOptions extends UnitOptions, HierarchyFilters, ThreadOptio
   fillOnlyBelow?: number;
   /** Run the Euler self-check (critical points vs. simplex count). Default true. */
   euler?: boolean;
+  /**
+   * Catchments: 'sums' (default) finds every depression's catchment cells and area in memory the sweep
+   * no longer needs; 'raster' also keeps the catchment of every cell (`catchments.labels`, one more
+   * 4-byte array per cell); 'none' skips them.
+   */
+  catchments?: 'none' | 'sums' | 'raster';
   /** Name of the input, for messages. */
   source?: string;
   /** Called at the start of each stage (for progress display). */
@@ -38,6 +45,8 @@ export interface PondsResult {
   areas: CellAreas;
   hierarchy: Hierarchy;
   rasters: PondRasters;
+  /** The catchments, when asked for (`catchments: true`). */
+  catchments: Catchments | null;
   /** Pits found by the sweep (cells that start a component). */
   sweepPits: number;
   euler: PondsEuler | null;
@@ -84,13 +93,21 @@ export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResul
   sw.sums = undefined; // the per-node sums are in the hierarchy now; let their memory go
   const euler = pendingEuler.result();
   const sweepPits = checkedSweepPits(sw, euler);
+  let catchments: Catchments | null = null;
+  const catchMode = opts.catchments ?? 'sums';
+  if (catchMode !== 'none') {
+    stage('catchments');
+    const sp = sw.spare;
+    const scratch = catchMode === 'sums' && sp.byteOffset % 4 === 0 && sp.byteLength >= 4 * grid.size ? new Int32Array(sp.buffer, sp.byteOffset, grid.size) : undefined;
+    catchments = catchmentsOf(complex, sw, hierarchy, grid.transform, areas.rowArea, areas.uniform, !areas.uniform, scratch);
+  }
   stage('filled, depth and label rasters');
   const spare: SpareMemory[] = [sw.spare];
   if (order.length === grid.size) spare.push({ buffer: order.buffer as ArrayBuffer, byteOffset: order.byteOffset, byteLength: order.byteLength });
   const rasters = pondRasters(grid.values, grid.width, sw.label, hierarchy, areas.rowArea, spare);
 
   return {
-    grid, complex, areas, hierarchy, rasters, sweepPits, euler,
+    grid, complex, areas, hierarchy, rasters, catchments, sweepPits, euler,
     options: { connectivity, nodataOutlet, minDepth, minArea, minVolume, minPersistence, fillOnlyBelow: opts.fillOnlyBelow ?? null },
   };
 }

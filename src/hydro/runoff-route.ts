@@ -53,18 +53,58 @@ export function stepWeights(transform: readonly number[], height: number, conn: 
   return { inv, perRow: true };
 }
 
+/** What `descentStepper` returns for a cell that has no lower neighbour (a pit). */
+export const STEP_PIT = -1;
+/** … for a cell next to an outlet (grid edge, draining nodata): its water leaves the map. */
+export const STEP_OFF_MAP = -2;
+/** … for a nodata cell. */
+export const STEP_NODATA = -3;
+
 /**
- * For every cell, the node its water reaches: the leaf (pit node of the sweep) at the end of its
- * steepest-descent path, or 0 when the path leaves the map. Nodata cells get 0.
+ * The steepest-descent step of single cells: the neighbour a cell's water moves to, or STEP_PIT,
+ * STEP_OFF_MAP, STEP_NODATA. Steepest: the largest drop over distance to a neighbour earlier in the
+ * (value, index) order; equal drops go to the first of them in ring order (E, SE, S, SW, W, NW, N,
+ * NE, as in sweep.ts). A cell next to an outlet drains off the map (the outside is below everything).
+ */
+export function descentStepper(cx: GridComplex, steps: { inv: Float64Array; perRow: boolean }): (i: number) => number {
+  const values = cx.values, w = cx.w;
+  const omegaAdj = cx.omegaAdj;
+  if (omegaAdj === null) throw new Error('internal: descent routing needs the open boundary');
+  const off = sublevelOffsets(cx.connectivity);
+  const k = off.length;
+  const roff = new Int32Array(k);
+  for (let q = 0; q < k; q++) roff[q] = off[q][1] * w + off[q][0];
+  const inv = steps.inv, perRow = steps.perRow;
+  return (i: number): number => {
+    const z = values[i];
+    if (z !== z) return STEP_NODATA;
+    if (omegaAdj[i] === 1) return STEP_OFF_MAP;
+    // every ring neighbour of a cell not touching an outlet lies on the grid (the grid edge is an outlet)
+    const base = perRow ? Math.floor(i / w) * k : 0;
+    let best = -1, bd = -1;
+    for (let q = 0; q < k; q++) {
+      const j = i + roff[q];
+      const y = values[j];
+      if (!(y < z || (y === z && j < i))) continue; // higher, later in the order, or a nodata wall
+      const d = (z - y) * inv[base + q];
+      if (d > bd) { best = j; bd = d; }
+    }
+    return best < 0 ? STEP_PIT : best;
+  };
+}
+
+/**
+ * For every cell, where its water ends: `label[i]` of the pit at the end of its steepest-descent
+ * path (`descentStepper`'s rule; runoff passes the sweep's node labels, so a pit gives its leaf
+ * node), or `offMap` (default 0) when the path leaves the map. Nodata cells get `offMap` too.
  * Two passes: the step of every cell in storage order (cells next to an outlet and pits are
  * resolved at once; any other cell stores −3 − the cell it drains to), then the paths are followed
- * from each unresolved cell until a resolved one and written back.
- * Steepest: the largest drop over distance to a neighbour earlier in the (value, index) order;
- * equal drops go to the first of them in ring order (E, SE, S, SW, W, NW, N, NE, as in sweep.ts).
- * @param label the sweep's per-cell node label (a pit cell's label is its own leaf)
+ * from each unresolved cell until a resolved one and written back. Labels and `offMap` must be ≥ −2
+ * (more negative values mark the cells still to follow).
+ * @param label per-cell labels, read at pit cells
  * @param dest  output, one entry per cell
  */
-export function flowDestinations(cx: GridComplex, label: Int32Array, dest: Int32Array, steps: { inv: Float64Array; perRow: boolean }): void {
+export function flowDestinations(cx: GridComplex, label: Int32Array, dest: Int32Array, steps: { inv: Float64Array; perRow: boolean }, offMap = 0): void {
   const values = cx.values, w = cx.w, h = cx.h;
   const omegaAdj = cx.omegaAdj;
   if (omegaAdj === null) throw new Error('internal: runoff routing needs the open boundary');
@@ -73,27 +113,15 @@ export function flowDestinations(cx: GridComplex, label: Int32Array, dest: Int32
   const roff = new Int32Array(k);
   for (let q = 0; q < k; q++) roff[q] = off[q][1] * w + off[q][0];
   const inv = steps.inv, perRow = steps.perRow;
-  const wt = new Float64Array(k);
+  const stepper = descentStepper(cx, steps);
   // the step of one cell, any connectivity
   const step = (i: number): number => {
-    const z = values[i];
-    // nodata holds no water; a cell next to an outlet drains off the map (the outside is lowest)
-    if (z !== z || omegaAdj[i] === 1) return 0;
-    // every ring neighbour of a cell not touching an outlet lies on the grid (the grid edge is an outlet)
-    let best = -1, bd = -1;
-    for (let q = 0; q < k; q++) {
-      const j = i + roff[q];
-      const y = values[j];
-      if (!(y < z || (y === z && j < i))) continue; // higher, later in the order, or a nodata wall
-      const d = (z - y) * wt[q];
-      if (d > bd) { best = j; bd = d; }
-    }
-    return best < 0 ? label[i] : -3 - best;
+    const s = stepper(i);
+    return s >= 0 ? -3 - s : s === STEP_PIT ? label[i] : offMap;
   };
   const fast = k === 8 && !perRow;
   const w0 = inv[0], w1 = inv[1], w2 = inv[2], w3 = inv[3], w4 = inv[4], w5 = inv[5], w6 = inv[6], w7 = inv[7];
   for (let r = 0, i = 0; r < h; r++) {
-    if (perRow || r === 0) for (let q = 0; q < k; q++) wt[q] = inv[(perRow ? r * k : 0) + q];
     if (!fast || r === 0 || r === h - 1 || w < 3) {
       for (let c = 0; c < w; c++, i++) dest[i] = step(i);
       continue;
@@ -101,7 +129,7 @@ export function flowDestinations(cx: GridComplex, label: Int32Array, dest: Int32
     dest[i] = step(i); i++;
     for (let c = 1; c < w - 1; c++, i++) {
       const z = values[i];
-      if (z !== z || omegaAdj[i] === 1) { dest[i] = 0; continue; }
+      if (z !== z || omegaAdj[i] === 1) { dest[i] = offMap; continue; }
       // drops to the 8 neighbours; forward ones (later in storage order) are lower only when strictly
       // lower, backward ones also when equal. Math.max is NaN when a neighbour is nodata: general path.
       const d0 = (z - values[i + 1]) * w0, d1 = (z - values[i + w + 1]) * w1, d2 = (z - values[i + w]) * w2, d3 = (z - values[i + w - 1]) * w3;
@@ -120,9 +148,9 @@ export function flowDestinations(cx: GridComplex, label: Int32Array, dest: Int32
   const n = cx.n;
   for (let i = 0; i < n; i++) {
     let t = dest[i];
-    if (t >= 0) continue;
+    if (t > -3) continue;
     let top = 0, x = i;
-    while (t < 0) {
+    while (t <= -3) {
       if (top === stack.length) { const s2 = new Int32Array(2 * top); s2.set(stack); stack = s2; }
       stack[top++] = x;
       x = -3 - t;
