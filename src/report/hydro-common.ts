@@ -5,6 +5,7 @@ import type { Hierarchy } from '../hydro/hierarchy.js';
 import type { Connectivity } from '../surface/complex.js';
 import { surfaceInfo, SILL_VERSION, type SurfaceInfo, type EulerInfo } from './common.js';
 import { formatNumber, Rows } from '../io/stream.js';
+import { outletNeighbour } from '../hydro/spill-paths.js';
 
 export interface CellRef {
   col: number;
@@ -150,13 +151,6 @@ export interface DepressionColumns {
   toOutside: Uint8Array;
 }
 
-/** The ring of neighbours an outlet is looked for in, per connectivity (as the sweep's order). */
-const OUTLET_RING: Record<number, readonly (readonly [number, number])[]> = {
-  4: [[1, 0], [0, 1], [-1, 0], [0, -1]],
-  6: [[1, 0], [1, 1], [0, 1], [-1, 0], [-1, -1], [0, -1]],
-  8: [[1, 0], [0, 1], [-1, 0], [0, -1], [1, 1], [-1, 1], [-1, -1], [1, -1]],
-};
-
 /** The columns of `res`'s depressions (one pass over the hierarchy, no object per depression). */
 export function depressionColumns(res: HydroResultCore): DepressionColumns {
   const g = res.grid, H = res.hierarchy, W = g.width;
@@ -164,7 +158,6 @@ export function depressionColumns(res: HydroResultCore): DepressionColumns {
   const R = H.count + 1;
   const pitValue = new Float64Array(R), spillValue = new Float64Array(R), maxDepth = new Float64Array(R);
   const toCol = new Int32Array(R), toRow = new Int32Array(R), toOutside = new Uint8Array(R);
-  const ring = OUTLET_RING[res.options.connectivity] ?? OUTLET_RING[8];
   for (let id = 1; id < R; id++) {
     const pv = cleanValue(H.pitValue[id], f32), sv = cleanValue(H.spillValue[id], f32);
     pitValue[id] = pv;
@@ -177,19 +170,12 @@ export function depressionColumns(res: HydroResultCore): DepressionColumns {
       continue;
     }
     // the nearest outlet of the pass cell's ring (off the grid, or nodata that drains)
-    const pass = H.spillCell[id];
-    const row = Math.floor(pass / W), col = pass - row * W;
-    let found = false;
-    for (const [dc, dr] of ring) {
-      const c = col + dc, r = row + dr;
-      const off = c < 0 || r < 0 || c >= W || r >= g.height;
-      if (off || (res.options.nodataOutlet && Number.isNaN(g.values[r * W + c]))) {
-        toCol[id] = c; toRow[id] = r; toOutside[id] = 1;
-        found = true;
-        break;
-      }
+    const o = outletNeighbour(g, res.options.connectivity, res.options.nodataOutlet, H.spillCell[id]);
+    if (o === null) {
+      const pass = H.spillCell[id], row = Math.floor(pass / W);
+      throw new Error(`internal: pass cell (${pass - row * W}, ${row}) spills to the outside but touches no outlet`);
     }
-    if (!found) throw new Error(`internal: pass cell (${col}, ${row}) spills to the outside but touches no outlet`);
+    toCol[id] = o[0]; toRow[id] = o[1]; toOutside[id] = 1;
   }
   return { count: H.count, volume: H.volume, pitValue, spillValue, maxDepth, toCol, toRow, toOutside };
 }
