@@ -6,6 +6,7 @@ import { topK } from '../report/hydro-common.js';
 import { writeDepressionsGeojson } from '../report/depressions-geojson.js';
 import type { PondsResult } from '../hydro/ponds.js';
 import { topLabels } from '../hydro/rasters.js';
+import { writeSpillPathsGeojson } from '../report/spill-paths-geojson.js';
 import { toWgs84 } from '../hydro/reproject.js';
 import { stageVolume } from '../hydro/stage.js';
 import { writeGeoTiff } from '../io/index.js';
@@ -86,6 +87,7 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
     minDepth, minArea, minVolume, minPersistence, fillOnlyBelow,
     zUnits: opts.zUnits, zFactor, xyUnits: opts.xyUnits,
     labelLevel, source: input, threads,
+    catchments: opts.out ? 'raster' : 'sums',
     onStage: (s) => progress.stage(s),
   }, input);
   checkHydroReport(report, stageId, 'depressions.csv');
@@ -114,7 +116,7 @@ interface WriteOptions {
 }
 
 /** The files `ponds -o DIR` always writes (--wgs84, --stage-volume and --report add theirs). */
-export const PONDS_FILES = ['filled.tif', 'depth.tif', 'labels.tif', 'depressions.geojson', 'depressions.csv', 'report.json'];
+export const PONDS_FILES = ['filled.tif', 'depth.tif', 'labels.tif', 'catchments.tif', 'depressions.geojson', 'spill-paths.geojson', 'depressions.csv', 'report.json'];
 
 export async function writePondsFiles(out: OutputFolder, result: PondsResult, report: PondsReport, w: WriteOptions = { project: null }): Promise<string[]> {
   let rasters: Promise<void>[] = [];
@@ -124,9 +126,13 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     const R = result.rasters;
     const valueNodata = g.nodata !== null && Number.isFinite(g.nodata) ? g.nodata : NaN;
     // The rasters are compressed by worker threads while this thread writes the catalogues.
-    w.progress?.stage('writing filled.tif, depth.tif and labels.tif');
+    w.progress?.stage('writing filled.tif, depth.tif, labels.tif and catchments.tif');
     const labels = report.labelLevel === 'top' ? topLabels(R.labels, result.hierarchy) : R.labels;
+    const catch0 = result.catchments?.labels;
+    if (!catch0) throw new Error('internal: ponds -o needs the catchment of every cell');
+    const catchLabels = report.labelLevel === 'top' ? topLabels(catch0, result.hierarchy) : catch0;
     rasters = [
+      writeGeoTiff(out.path('catchments.tif'), { ...base, values: catchLabels, nodata: -1 }, { overviews: 'nearest', threads: w.threads }),
       writeGeoTiff(out.path('filled.tif'), { ...base, values: R.filled, nodata: valueNodata }, { overviews: 'average', threads: w.threads }),
       writeGeoTiff(out.path('depth.tif'), { ...base, values: R.depth, nodata: -9999 }, { overviews: 'average', threads: w.threads }),
       writeGeoTiff(out.path('labels.tif'), { ...base, values: labels, nodata: -1 }, { overviews: 'nearest', threads: w.threads }),
@@ -148,6 +154,9 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
       (omitted) => `${omitted} nested merged depressions have no polygon in depressions.geojson (null geometry): tracing every level of this deep hierarchy would scan the grid too many times; the top-level and leaf depressions and the largest nested ones are traced — use --min-depth, --min-area or --min-volume to simplify the hierarchy`,
       'every depression has its polygon');
     await out.checkpoint();
+    w.progress?.stage('writing spill-paths.geojson');
+    writeSpillPathsGeojson(out.path('spill-paths.geojson'), result, catch0, meta);
+    await out.checkpoint();
     w.progress?.stage('writing depressions.csv');
     const cols = report.depressions.columns;
     writeIdCsv(out.path('depressions.csv'), report.depressions.length, pondsCsvColumns(result, cols, tokens), (d) => pondsCsvRow(result, cols, d));
@@ -159,7 +168,7 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     writeReportFile(out.path('report.json'), report);
     await out.checkpoint();
     w.progress?.stage('writing the report');
-    addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'filled.tif', 'depth.tif', 'labels.tif'], (ctx) => buildPondsHtml(result, report, ctx));
+    addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'spill-paths.geojson', 'filled.tif', 'depth.tif', 'labels.tif', 'catchments.tif'], (ctx) => buildPondsHtml(result, report, ctx));
     await Promise.all(rasters);
     return await out.commit();
   } catch (e) {
@@ -167,6 +176,7 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     throw out.fail(e);
   }
 }
+
 
 export function pondsSummary(r: PondsReport, outDir?: string, files: string[] = []): string {
   const s = r.surface;
@@ -185,6 +195,13 @@ export function pondsSummary(r: PondsReport, outDir?: string, files: string[] = 
     lines.push(`no outlet    ${rm.closedRegions.count} region${rm.closedRegions.count === 1 ? '' : 's'} (${rm.closedRegions.cells} cells) walled in by nodata: not filled; use --nodata-as outlet to let them drain`);
   }
   lines.push(`totals       ${fmt(r.totals.volume)} ${u.volume} over ${fmt(r.totals.area)} ${u.area} (top-level depressions at their spill levels)`);
+  const t = r.totals;
+  if (t.catchments && t.offMap && t.walledIn) {
+    const all = t.catchments.area + t.offMap.area + t.walledIn.area;
+    const pc = (a: number) => `${all > 0 ? ((100 * a) / all).toFixed(1) : '0.0'} %`;
+    lines.push(`catchments   ${pc(t.catchments.area)} of the valid area drains into depressions, ${pc(t.offMap.area)} off the map` +
+      (t.walledIn.cells > 0 ? `, ${pc(t.walledIn.area)} into regions walled in by nodata` : ''));
+  }
   if (r.filters.fillOnlyBelow !== null) lines.push(`filled       only depressions below ${fmt(r.filters.fillOnlyBelow)} ${u.volume}: ${fmt(r.totals.filledVolume)} ${u.volume} filled`);
   lines.push(`units        elevations and depths in ${u.elevation}, areas in ${u.area}, volumes in ${u.volume}; horizontal: ${u.horizontal}`);
   for (const note of u.notes) lines.push(`             ${note}`);

@@ -36,6 +36,13 @@ export interface Catchments {
   offMap: { cells: number; area: number };
   /** Valid cells whose water stays in a region walled in by nodata, and their area. */
   closed: { cells: number; area: number };
+  /**
+   * Where water that reaches a pit of no reported depression goes on (a flat, or a depression the
+   * filters removed, which spills to the outside): sorted pit cells, and for each the pass cell where its
+   * outermost unreported component spills and the cell beyond it (−2: the pass touches an outlet).
+   * Only with `labels` (the spill paths read it).
+   */
+  resume: { pit: Int32Array; pass: Int32Array; to: Int32Array } | null;
 }
 
 /**
@@ -56,11 +63,30 @@ export function catchments(cx: GridComplex, sw: DepressionSweep, hier: Hierarchy
   const K = sw.count;
   const nodeCatch = new Int32Array(K);
   const closed = new Uint8Array(K);
+  // outermost node of each chain of unreported nodes that spills to the outside (for `resume`)
+  const topU = scratch ? null : new Int32Array(K);
+  let resumable = 0;
   for (let k = K - 1; k >= 1; k--) {
     const p = sw.parent[k];
     closed[k] = p === -1 || (p > 0 && closed[p] === 1) ? 1 : 0;
     const d = hier.repOfNode[k];
     nodeCatch[k] = d > 0 ? d : closed[k] ? CATCH_CLOSED : CATCH_OFF_MAP;
+    if (topU && nodeCatch[k] === CATCH_OFF_MAP) {
+      topU[k] = p === 0 ? k : topU[p];
+      if (sw.birth[k] === sw.vertex[k]) resumable++;
+    }
+  }
+  let resume: Catchments['resume'] = null;
+  if (topU) {
+    const pit = new Int32Array(resumable), pass = new Int32Array(resumable), to = new Int32Array(resumable);
+    let m = 0;
+    for (let k = 1; k < K; k++) {
+      if (nodeCatch[k] !== CATCH_OFF_MAP || sw.birth[k] !== sw.vertex[k]) continue;
+      pit[m] = sw.vertex[k]; pass[m] = sw.spill[topU[k]]; to[m] = sw.to[topU[k]]; m++;
+    }
+    // sorted by pit cell (nodes are in (value, index) order, not cell order)
+    const idx = Int32Array.from({ length: m }, (_, q) => q).sort((a, b) => pit[a] - pit[b]);
+    resume = { pit: idx.map((q) => pit[q]), pass: idx.map((q) => pass[q]), to: idx.map((q) => to[q]) };
   }
   const R = hier.count + 1;
   const cellsOf = new Float64Array(R);
@@ -102,5 +128,5 @@ export function catchments(cx: GridComplex, sw: DepressionSweep, hier: Hierarchy
     for (let d = 1; d < R; d++) areaOf[d] = cellsOf[d] * a;
     offArea = offCells * a; closedArea = closedCells * a;
   }
-  return { labels: scratch ? null : dest, cells: cellsOf, area: areaOf, offMap: { cells: offCells, area: offArea }, closed: { cells: closedCells, area: closedArea } };
+  return { labels: scratch ? null : dest, cells: cellsOf, area: areaOf, offMap: { cells: offCells, area: offArea }, closed: { cells: closedCells, area: closedArea }, resume };
 }

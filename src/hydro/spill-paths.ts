@@ -8,10 +8,13 @@
  *  - off the map (a cell next to an outlet: the path ends at the outlet beyond it), or
  *  - at a pit. When D spills into a depression E (D and E meet at the pass), the descent stays in E's
  *    component below the pass, so it ends at a pit inside E. When D spills to the outside, the descent
- *    may still end at the pit of another depression F lower down, which is full by then (it reached
- *    the outside below D's spill level): the water crosses F's lake and leaves at the pour point of
- *    F's outermost depression, so the path goes on from there as a new part. A pit that no reported
- *    depression holds (a flat, or a depression the filters removed) ends the path.
+ *    may end at the pit of another depression F lower down, which is full by then (it reached the
+ *    outside below D's spill level): the path stops there, and the network goes on with F's own path
+ *    (and its parents'), so no stretch downstream is written once per depression upstream of it.
+ *    A pit that no reported depression holds (a flat, or a depression the filters removed) has no
+ *    path of its own: the water crosses it and leaves where its outermost component spills
+ *    (`Catchments.resume`), so the path goes on from that pass as a new part; without that table
+ *    such a pit ends the path.
  * A path is a list of parts (a MultiLineString); the jump across a full lake between two parts is not
  * counted in the length. Every part runs downhill on the DEM, and so on the filled surface too.
  * Paths are made one at a time into reused buffers: memory is the longest path, never all of them.
@@ -65,9 +68,8 @@ export class SpillPaths {
   private readonly step: (i: number) => number;
   private xy = new Float64Array(256);
   private partStart = new Int32Array(16);
-  private readonly seen: Int32Array;
-  private readonly top: Int32Array;
   private stamp = 0;
+  private readonly seenResume: Int32Array;
 
   constructor(
     private readonly g: Grid,
@@ -78,12 +80,11 @@ export class SpillPaths {
     private readonly connectivity: number,
     private readonly nodataOutlet: boolean,
     private readonly geographic: boolean,
+    /** `Catchments.resume`: where water reaching a pit of no reported depression goes on. */
+    private readonly resume: { pit: Int32Array; pass: Int32Array; to: Int32Array } | null = null,
   ) {
+    this.seenResume = new Int32Array(resume ? resume.pit.length : 0);
     this.step = descentStepper(cx, stepWeights(g.transform, g.height, cx.connectivity, geographic));
-    this.seen = new Int32Array(hier.count + 1);
-    const top = new Int32Array(hier.count + 1);
-    for (let d = hier.count; d >= 1; d--) top[d] = hier.parent[d] > 0 ? top[hier.parent[d]] : d;
-    this.top = top;
   }
 
   path(d: number): SpillPath {
@@ -104,15 +105,15 @@ export class SpillPaths {
       if (parts === this.partStart.length) { const b = new Int32Array(2 * parts); b.set(this.partStart); this.partStart = b; }
       this.partStart[parts++] = n;
     };
-    let cur = d;
+    // the pass the water leaves at and the cell beyond it (−2: the pass touches an outlet)
+    let pass = H.spillCell[d], to = H.pourTo[d];
+    // each later part starts from a resume entry not used before on this path, so it ends
     for (;;) {
-      this.seen[cur] = this.stamp;
       newPart();
-      addCell(H.spillCell[cur]);
-      const to = H.pourTo[cur];
+      addCell(pass);
       if (to < 0) {
-        const o = outletNeighbour(g, this.connectivity, this.nodataOutlet, H.spillCell[cur]);
-        if (o === null) throw new Error(`internal: depression ${cur} spills to the outside at a cell that touches no outlet`);
+        const o = outletNeighbour(g, this.connectivity, this.nodataOutlet, pass);
+        if (o === null) throw new Error(`internal: a pass spills to the outside at cell ${pass}, which touches no outlet`);
         add(o[0], o[1]);
         arrives = { kind: 'outside' };
         break;
@@ -130,20 +131,39 @@ export class SpillPaths {
         arrives = { kind: 'outside' };
         break;
       }
-      if (s !== STEP_PIT) throw new Error(`internal: the descent from depression ${cur}'s pour point reached a nodata cell`);
+      if (s !== STEP_PIT) throw new Error(`internal: a spill path from depression ${d} reached a nodata cell`);
       const t = this.catchment[i]; // the depression holding this pit (at a tie on a rim: the one it joins)
-      if (t <= 0) { arrives = { kind: 'pit' }; break; }
-      if (H.into[cur] !== 0) { arrives = { kind: 'depression', id: t }; break; }
-      // spilled to the outside but ran into a full depression: on from its outermost one's pour point
-      const next = this.top[t];
-      if (this.seen[next] === this.stamp) { arrives = { kind: 'depression', id: t }; break; }
-      cur = next;
+      if (t > 0) {
+        // the receiving depression — or, when this one spills to the outside, a lower one that is full
+        // already: the network goes on with that one's own spill path (one feature per depression, so
+        // no stretch downstream is written twice)
+        arrives = { kind: 'depression', id: t };
+        break;
+      }
+      // a pit no reported depression holds (a flat, or one the filters removed): on from where it spills
+      const q = this.resumeAt(i);
+      if (q < 0 || this.seenResume[q] === this.stamp) { arrives = { kind: 'pit' }; break; }
+      this.seenResume[q] = this.stamp;
+      pass = this.resume!.pass[q]; to = this.resume!.to[q];
     }
     const lastValue = last >= 0 ? g.values[last] : NaN;
     return {
       from: d, xy: this.xy, vertices: n, partStart: this.partStart, parts, arrives,
       length, drop: H.spillValue[d] - lastValue,
     };
+  }
+
+  /** Index of pit cell `i` in `resume` (binary search), or −1. */
+  private resumeAt(i: number): number {
+    const r = this.resume;
+    if (r === null) return -1;
+    let lo = 0, hi = r.pit.length - 1;
+    while (lo <= hi) {
+      const m = (lo + hi) >> 1, v = r.pit[m];
+      if (v === i) return m;
+      if (v < i) lo = m + 1; else hi = m - 1;
+    }
+    return -1;
   }
 
   private distance(x1: number, y1: number, x2: number, y2: number): number {

@@ -19,6 +19,9 @@ export const PONDS_CAUTION =
 
 export interface DepressionRecord extends DepressionCore {
   meanDepth: number;
+  /** Cells whose water reaches this depression's pits (its catchment, children's included), and their area; null when catchments were not computed. */
+  catchmentCells: number | null;
+  catchmentArea: number | null;
 }
 
 export interface PondsReport {
@@ -47,6 +50,12 @@ export interface PondsReport {
     filledVolume: number;
     filledArea: number;
     filledCells: number;
+    /** Valid cells (and their area) whose water leaves the map without reaching a reported depression — straight away or through flats and removed depressions; null without catchments. */
+    offMap: { cells: number; area: number } | null;
+    /** Valid cells (and area) whose water stays in regions walled in by nodata (--nodata-as wall). */
+    walledIn: { cells: number; area: number } | null;
+    /** Cells and area of the top-level catchments: with offMap and walledIn, the valid cells and area. */
+    catchments: { cells: number; area: number } | null;
   };
   labelLevel: 'leaf' | 'top';
   /** With -o: how many depressions have a polygon in depressions.geojson. */
@@ -71,7 +80,7 @@ export function pondsReport(surface: Grid | Mesh, opts: PondsReportOptions = {},
 }
 
 export function buildPondsReport(result: PondsResult, input: string | null, labelLevel: 'leaf' | 'top' = 'leaf'): PondsReport {
-  const H = result.hierarchy;
+  const H = result.hierarchy, C = result.catchments;
   const cols = depressionColumns(result);
   let leaf = 0, merged = 0, topLevel = 0, volume = 0, area = 0;
   for (let id = 1; id <= H.count; id++) {
@@ -80,8 +89,9 @@ export function buildPondsReport(result: PondsResult, input: string | null, labe
   }
   const depressions = new DepressionRows<DepressionRecord>(
     H.count,
-    (i) => ({ ...depressionCore(result, cols, i + 1), meanDepth: H.meanDepth[i + 1] }),
-    (i) => depressionCoreJson(result, cols, i + 1) + `,"meanDepth":${formatNumber(H.meanDepth[i + 1])}}`,
+    (i) => ({ ...depressionCore(result, cols, i + 1), meanDepth: H.meanDepth[i + 1], catchmentCells: C ? C.cells[i + 1] : null, catchmentArea: C ? C.area[i + 1] : null }),
+    (i) => depressionCoreJson(result, cols, i + 1) + `,"meanDepth":${formatNumber(H.meanDepth[i + 1])}` +
+      (C ? `,"catchmentCells":${formatNumber(C.cells[i + 1])},"catchmentArea":${formatNumber(C.area[i + 1])}}` : ',"catchmentCells":null,"catchmentArea":null}'),
     cols,
   );
   const zf = result.areas.zFactor;
@@ -101,6 +111,9 @@ export function buildPondsReport(result: PondsResult, input: string | null, labe
       filledVolume: result.rasters.filledVolume * zf,
       filledArea: result.rasters.filledArea,
       filledCells: result.rasters.filledCells,
+      offMap: C ? { ...C.offMap } : null,
+      walledIn: C ? { ...C.closed } : null,
+      catchments: C ? topCatchments(H, C) : null,
     },
     labelLevel,
     // set by the writer of -o (depressions.geojson); the depressions come last in the JSON
@@ -109,13 +122,20 @@ export function buildPondsReport(result: PondsResult, input: string | null, labe
   };
 }
 
+/** Cells and area of the top-level depressions' catchments (the sum the parts of the valid area are checked by). */
+function topCatchments(H: PondsResult['hierarchy'], C: NonNullable<PondsResult['catchments']>): { cells: number; area: number } {
+  let cells = 0, area = 0;
+  for (let d = 1; d <= H.count; d++) if (H.parent[d] === 0) { cells += C.cells[d]; area += C.area[d]; }
+  return { cells, area };
+}
+
 /**
  * Columns of depressions.csv (units in the headers), each an accessor of depression id `d` reading
  * the columns — no record is made.
  */
 export function pondsCsvColumns(result: PondsResult, cols: DepressionColumns, tokens: { elevation: string; area: string; volume: string }): [string, (d: number) => unknown][] {
   const z = tokens.elevation, a = tokens.area, v = tokens.volume;
-  const H = result.hierarchy, g = result.grid, W = g.width;
+  const H = result.hierarchy, g = result.grid, W = g.width, C = result.catchments;
   const col = (i: number) => i % W, row = (i: number) => Math.floor(i / W);
   return [
     ['id', (d) => d],
@@ -141,6 +161,8 @@ export function pondsCsvColumns(result: PondsResult, cols: DepressionColumns, to
     [`volume_${v}`, (d) => H.volume[d]],
     [`max_depth_${z}`, (d) => cols.maxDepth[d]],
     [`mean_depth_${z}`, (d) => H.meanDepth[d]],
+    ['catchment_cells', (d) => (C ? C.cells[d] : '')],
+    [`catchment_area_${a}`, (d) => (C ? C.area[d] : '')],
   ];
 }
 
@@ -149,12 +171,13 @@ export function pondsCsvColumns(result: PondsResult, cols: DepressionColumns, to
  * writeCsv makes from pondsCsvColumns (a test holds them equal), without a call per cell.
  */
 export function pondsCsvRow(result: PondsResult, cols: DepressionColumns, d: number): string {
-  const H = result.hierarchy, g = result.grid, W = g.width;
+  const H = result.hierarchy, g = result.grid, W = g.width, C = result.catchments;
   const pit = H.pit[d], pr = Math.floor(pit / W), pc = pit - pr * W;
   const pass = H.spillCell[d], sr = Math.floor(pass / W), sc = pass - sr * W;
   const p = H.parent[d], into = H.into[d];
   const c = (x: number) => formatNumber(x, '');
   return `${d},${p === 0 ? '' : p},${H.level[d]},${H.childStart[d + 1] === H.childStart[d] ? 'leaf' : 'merged'},${childrenText(H, d, ' ')}` +
     `,${c(cols.pitValue[d])},${pc},${pr},${c(g.x(pc, pr))},${c(g.y(pc, pr))},${c(cols.spillValue[d])},${sc},${sr},${c(g.x(sc, sr))},${c(g.y(sc, sr))}` +
-    `,${cols.toCol[d]},${cols.toRow[d]},${into === 0 ? 'outside' : into},${c(H.wetCells[d])},${c(H.area[d])},${c(H.volume[d])},${c(cols.maxDepth[d])},${c(H.meanDepth[d])}\n`;
+    `,${cols.toCol[d]},${cols.toRow[d]},${into === 0 ? 'outside' : into},${c(H.wetCells[d])},${c(H.area[d])},${c(H.volume[d])},${c(cols.maxDepth[d])},${c(H.meanDepth[d])}` +
+    (C ? `,${c(C.cells[d])},${c(C.area[d])}\n` : ',,\n');
 }

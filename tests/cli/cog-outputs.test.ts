@@ -70,7 +70,7 @@ function raw(path: string, values: Float32Array | Float64Array | Int32Array): [s
 describe('raster outputs as Cloud Optimized GeoTIFFs', () => {
   it('ponds and runoff: the same bytes with --threads 1 and --threads 2', () => {
     for (const [cmd, files, extra] of [
-      ['ponds', ['filled.tif', 'depth.tif', 'labels.tif'], []],
+      ['ponds', ['filled.tif', 'depth.tif', 'labels.tif', 'catchments.tif'], []],
       ['runoff', ['water-level.tif', 'water-depth.tif'], ['--depth', '40mm']],
     ] as const) {
       const one = join(dir, `${cmd}-1`), two = join(dir, `${cmd}-2`);
@@ -90,19 +90,21 @@ describe('raster outputs as Cloud Optimized GeoTIFFs', () => {
 
   it.skipIf(!hasGdal)(`GDAL: valid COGs, tiled, DEFLATE, overviews, values equal to the library's${skipNote('gdal')}`, async () => {
     const grid = (await readGeoTiff(dem)) as Grid;
-    const P = pondsReport(grid, {}, dem).result.rasters;
+    const PR = pondsReport(grid, { catchments: 'raster' }, dem).result;
+    const P = PR.rasters;
     const R = runoffReport(grid, { depth: 0.04 }, dem).result.rasters;
     const args = [
       join(dir, 'ponds-2', 'filled.tif'), ...raw(join(dir, 'filled.raw'), P.filled),
       join(dir, 'ponds-2', 'depth.tif'), ...raw(join(dir, 'depth.raw'), P.depth),
       join(dir, 'ponds-2', 'labels.tif'), ...raw(join(dir, 'labels.raw'), P.labels),
+      join(dir, 'ponds-2', 'catchments.tif'), ...raw(join(dir, 'catchments.raw'), PR.catchments!.labels!),
       join(dir, 'runoff-2', 'water-level.tif'), ...raw(join(dir, 'level.raw'), R.level),
       join(dir, 'runoff-2', 'water-depth.tif'), ...raw(join(dir, 'wdepth.raw'), R.depth),
     ];
     const py = spawnSync(PYTHON, ['-c', GDAL_CHECK, ...args], { encoding: 'utf8' });
     expect(py.status, py.stderr).toBe(0);
     const g = JSON.parse(py.stdout);
-    for (const name of ['filled.tif', 'depth.tif', 'labels.tif', 'water-level.tif', 'water-depth.tif']) {
+    for (const name of ['filled.tif', 'depth.tif', 'labels.tif', 'catchments.tif', 'water-level.tif', 'water-depth.tif']) {
       const f = g[name];
       // GDAL's COG validator (osgeo_utils.samples.validate_cloud_optimized_geotiff)
       expect(f.validator, `${name}: ${f.validatorSays}`).toBe(0);
@@ -110,7 +112,7 @@ describe('raster outputs as Cloud Optimized GeoTIFFs', () => {
       // GDAL GetBlockSize, IMAGE_STRUCTURE metadata, GetOverview sizes
       expect(f.block).toEqual([512, 512]);
       expect(f.compression).toBe('DEFLATE');
-      expect(f.predictor).toBe(name === 'labels.tif' ? '2' : '3');
+      expect(f.predictor).toBe(name === 'labels.tif' || name === 'catchments.tif' ? '2' : '3');
       expect(f.overviews).toEqual([[320, 260]]);
       // GDAL ReadAsArray = the library's raster (NaN written as the nodata value)
       expect(f.equal, name).toBe(true);

@@ -64,12 +64,12 @@ describe('sill ponds (command line)', () => {
     expect(r.stderr).toBe('');
   });
 
-  it('-o writes the six files; GDAL reads the rasters back with the same transform, CRS, nodata and values', () => {
+  it('-o writes its files; GDAL reads the rasters back with the same transform, CRS, nodata and values', () => {
     const out = join(dir, 'out');
     const r = sill(['ponds', dem, '-o', out, '--quiet']);
     expect(r.code).toBe(0);
     expect(r.stdout).toBe('');
-    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'report.json']);
+    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'catchments.tif', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'report.json', 'spill-paths.geojson']);
     const rep = JSON.parse(readFileSync(join(out, 'report.json'), 'utf8'));
     const csv = readFileSync(join(out, 'depressions.csv'), 'utf8').trim().split('\n');
     expect(csv[0]).toMatch(/^id,parent,/);
@@ -88,7 +88,7 @@ import json, sys
 from osgeo import gdal, ogr
 gdal.UseExceptions()
 out = {}
-for name in ('filled', 'depth', 'labels'):
+for name in ('filled', 'depth', 'labels', 'catchments'):
     ds = gdal.Open(sys.argv[1] + '/' + name + '.tif')
     b = ds.GetRasterBand(1)
     srs = ds.GetSpatialRef()
@@ -106,12 +106,21 @@ for f in l:
         area += g.GetArea()
         n += 1
 out['vector'] = {'epsg': int(l.GetSpatialRef().GetAuthorityCode(None)), 'topArea': area, 'top': n, 'features': l.GetFeatureCount()}
+ds = gdal.Open(sys.argv[1] + '/catchments.tif')
+import numpy as np
+c = ds.GetRasterBand(1).ReadAsArray()
+out['catchCells'] = {str(int(k)): int(n) for k, n in zip(*np.unique(c, return_counts=True))}
+sds = ogr.Open(sys.argv[1] + '/spill-paths.geojson')  # keep the data source alive while its layer is read
+s = sds.GetLayer(0)
+out['paths'] = {'n': s.GetFeatureCount(), 'types': sorted({ogr.GeometryTypeToName(f.GetGeometryRef().GetGeometryType()) for f in s}), 'epsg': int(s.GetSpatialRef().GetAuthorityCode(None))}
+s.ResetReading()
+out['paths']['lengths'] = {str(f.GetField('from')): f.GetGeometryRef().Length() for f in s}
 print(json.dumps(out))
 `;
     const py = spawnSync(PY, ['-c', script, out], { encoding: 'utf8' });
     expect(py.status, py.stderr).toBe(0);
     const g = JSON.parse(py.stdout);
-    for (const name of ['filled', 'depth', 'labels']) {
+    for (const name of ['filled', 'depth', 'labels', 'catchments']) {
       expect(g[name].gt).toEqual([512000, 5, 0, 5874000, 0, -5]);
       expect(g[name].epsg).toBe(32633);
       expect(g[name].count).toBe(320 * 240 - 4);
@@ -132,6 +141,30 @@ print(json.dumps(out))
     expect(g.vector.top).toBe(top.length);
     expect(g.vector.topArea).toBeCloseTo(rep.totals.area, 6);
     expect(g.vector.features).toBe(2 * rep.depressions.length);
+    // catchments.tif (GDAL's cell counts per value) = the report's catchment cells of the leaf depressions
+    // (innermost labels), and the rest drains off the map
+    const leafCells = new Map<number, number>();
+    for (const d of rep.depressions) if (d.children.length === 0) leafCells.set(d.id, d.catchmentCells);
+    for (const [id, n] of leafCells) {
+      const kids = rep.depressions.filter((e: { parent: number | null }) => e.parent === id);
+      expect(kids).toHaveLength(0);
+      expect(g.catchCells[String(id)] ?? 0).toBe(n);
+    }
+    expect(g.catchCells['0']).toBe(rep.totals.offMap.cells);
+    expect(rep.totals.catchments.cells + rep.totals.offMap.cells + rep.totals.walledIn.cells).toBe(320 * 240 - 4);
+    // spill-paths.geojson: one MultiLineString per depression; OGR's length of each equals the reported one
+    expect(g.paths.n).toBe(rep.depressions.length);
+    expect(g.paths.types).toEqual(['Multi Line String']);
+    expect(g.paths.epsg).toBe(32633);
+    const sp = JSON.parse(readFileSync(join(out, 'spill-paths.geojson'), 'utf8'));
+    for (const f of sp.features) {
+      const len = g.paths.lengths[String(f.properties.from)];
+      // the length sill reports leaves out the jumps between parts (across full lakes); OGR adds up the parts alone too
+      expect(Math.abs(len - f.properties.length)).toBeLessThanOrEqual(1e-9 * Math.max(1, len));
+      const into = rep.depressions[f.properties.from - 1].into;
+      expect(f.properties.to).toBe(into);
+      if (into === 'outside') expect(f.properties.arrives === 'outside' || typeof f.properties.arrives === 'number').toBe(true);
+    }
   });
 
   it.skipIf(!hasSkimage || !hasGdal)('filled.tif equals scikit-image reconstruction by erosion on the demo DEM (live)', () => {
@@ -166,7 +199,7 @@ print(int((ref[valid] != f[valid]).sum()))
     expect(rep.filters).toMatchObject({ minDepth: 0.05, minArea: 100, fillOnlyBelow: 5000 });
     expect(rep.removed.filtered).toBeGreaterThan(0);
     for (const d of rep.depressions) { expect(d.maxDepth).toBeGreaterThanOrEqual(0.05); expect(d.area).toBeGreaterThanOrEqual(100); }
-    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'depressions-wgs84.geojson', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'report.json', 'stage-volume-1.csv']);
+    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'catchments.tif', 'depressions-wgs84.geojson', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'report.json', 'spill-paths.geojson', 'stage-volume-1.csv']);
     const labels = await readGeoTiff(join(out, 'labels.tif'));
     const ids = new Set<number>();
     for (const v of labels.values) if (v > 0) ids.add(v);
