@@ -13,6 +13,7 @@ import { sweepDepressions, nodeSums } from './sweep.js';
 import { buildHierarchy, type Hierarchy, type HierarchyFilters } from './hierarchy.js';
 import { pondRasters, type PondRasters, type SpareMemory } from './rasters.js';
 import { catchments as catchmentsOf, type Catchments } from './catchments.js';
+import { depressionShapes, type DepressionShapes } from './shape.js';
 import { hydroSetup, openComplex, checkedSweepPits, type PondsEuler } from './common.js';
 
 export interface PondsOptions extends UnitOptions, HierarchyFilters, ThreadOptions {
@@ -33,6 +34,8 @@ export interface PondsOptions extends UnitOptions, HierarchyFilters, ThreadOptio
    * 4-byte array per cell); 'none' skips them.
    */
   catchments?: 'none' | 'sums' | 'raster';
+  /** Shape attributes of the wet areas (perimeter, axes, orientation, box ratio). Default true. */
+  shapes?: boolean;
   /** Name of the input, for messages. */
   source?: string;
   /** Called at the start of each stage (for progress display). */
@@ -47,6 +50,8 @@ export interface PondsResult {
   rasters: PondRasters;
   /** The catchments, when asked for (`catchments: true`). */
   catchments: Catchments | null;
+  /** Shape attributes, unless `shapes: false`. */
+  shapes: DepressionShapes | null;
   /** Pits found by the sweep (cells that start a component). */
   sweepPits: number;
   euler: PondsEuler | null;
@@ -105,9 +110,14 @@ export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResul
   const spare: SpareMemory[] = [sw.spare];
   if (order.length === grid.size) spare.push({ buffer: order.buffer as ArrayBuffer, byteOffset: order.byteOffset, byteLength: order.byteLength });
   const rasters = pondRasters(grid.values, grid.width, sw.label, hierarchy, areas.rowArea, spare);
+  let shapes: DepressionShapes | null = null;
+  if (opts.shapes !== false) {
+    stage('shape attributes');
+    shapes = depressionShapes(grid, rasters.labels, hierarchy, areas.rowArea, !areas.uniform, connectivity);
+  }
 
   return {
-    grid, complex, areas, hierarchy, rasters, catchments, sweepPits, euler,
+    grid, complex, areas, hierarchy, rasters, catchments, shapes, sweepPits, euler,
     options: { connectivity, nodataOutlet, minDepth, minArea, minVolume, minPersistence, fillOnlyBelow: opts.fillOnlyBelow ?? null },
   };
 }

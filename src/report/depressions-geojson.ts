@@ -8,16 +8,16 @@ import { traceDepressionOutlines, type FlatPolygon } from '../hydro/vectors.js';
 import { collectionHead } from '../io/tables.js';
 import { TextSink, FeatureCollectionWriter, featureJson, pointJson, writePolygons, formatNumber as jn } from '../io/stream.js';
 import { childrenText, type DepressionColumns } from './hydro-common.js';
+import { pondsExtrasJson } from './ponds.js';
 
 /** The properties of depression `d`'s polygon feature as JSON text, from the columns. */
 function depressionPropsJson(result: PondsResult, cols: DepressionColumns, d: number): string {
-  const H = result.hierarchy, W = result.grid.width, C = result.catchments;
+  const H = result.hierarchy, W = result.grid.width;
   const p = H.parent[d], into = H.into[d], pass = H.spillCell[d], row = Math.floor(pass / W);
   return `{"kind":"depression","id":${d},"parent":${p === 0 ? 'null' : p},"level":${H.level[d]},"type":${H.childStart[d + 1] === H.childStart[d] ? '"leaf"' : '"merged"'}` +
     `,"children":"${childrenText(H, d, ' ')}","pitValue":${jn(cols.pitValue[d])},"spillValue":${jn(cols.spillValue[d])},"into":${into === 0 ? '"outside"' : into}` +
     `,"cells":${jn(H.wetCells[d])},"area":${jn(H.area[d])},"volume":${jn(H.volume[d])},"maxDepth":${jn(cols.maxDepth[d])},"meanDepth":${jn(H.meanDepth[d])}` +
-    `,"pourCol":${pass - row * W},"pourRow":${row}` +
-    (C ? `,"catchmentCells":${jn(C.cells[d])},"catchmentArea":${jn(C.area[d])}}` : '}');
+    `,"pourCol":${pass - row * W},"pourRow":${row}${pondsExtrasJson(result, d)}}`;
 }
 
 /** A traced outline's geometry, written into the sink: null when it was left out, else its polygons (an empty MultiPolygon for none). */

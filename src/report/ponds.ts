@@ -22,6 +22,49 @@ export interface DepressionRecord extends DepressionCore {
   /** Cells whose water reaches this depression's pits (its catchment, children's included), and their area; null when catchments were not computed. */
   catchmentCells: number | null;
   catchmentArea: number | null;
+  /** Shape of the wet area at the spill level (docs/ponds.md, "Shape attributes"); null when not computed. */
+  perimeter: number | null;
+  majorAxis: number | null;
+  minorAxis: number | null;
+  orientation: number | null;
+  elongation: number | null;
+  boxRatio: number | null;
+  /** catchmentArea ÷ area. */
+  catchmentRatio: number | null;
+}
+
+/** The catchment and shape members of depression `d`'s record, from the columns (null when not computed). */
+export function pondsExtras(result: PondsResult, d: number): Pick<DepressionRecord, 'catchmentCells' | 'catchmentArea' | 'perimeter' | 'majorAxis' | 'minorAxis' | 'orientation' | 'elongation' | 'boxRatio' | 'catchmentRatio'> {
+  const C = result.catchments, S = result.shapes, H = result.hierarchy;
+  return {
+    catchmentCells: C ? C.cells[d] : null,
+    catchmentArea: C ? C.area[d] : null,
+    perimeter: S ? S.perimeter[d] : null,
+    majorAxis: S ? S.majorAxis[d] : null,
+    minorAxis: S ? S.minorAxis[d] : null,
+    orientation: S ? S.orientation[d] : null,
+    elongation: S ? elongation(S.majorAxis[d], S.minorAxis[d]) : null,
+    boxRatio: S ? S.boxRatio[d] : null,
+    catchmentRatio: C ? ratio(C.area[d], H.area[d]) : null,
+  };
+}
+
+/** major ÷ minor axis (null for a wet area one cell wide, whose minor axis is 0). */
+function elongation(major: number, minor: number): number | null {
+  return minor > 0 ? major / minor : null;
+}
+
+function ratio(a: number, b: number): number | null {
+  return b > 0 ? a / b : null;
+}
+
+const nj = (x: number | null): string => (x === null ? 'null' : formatNumber(x));
+
+/** The same members as JSON text (leading comma, no closing brace). */
+export function pondsExtrasJson(result: PondsResult, d: number): string {
+  const e = pondsExtras(result, d);
+  return `,"catchmentCells":${nj(e.catchmentCells)},"catchmentArea":${nj(e.catchmentArea)},"perimeter":${nj(e.perimeter)},"majorAxis":${nj(e.majorAxis)}` +
+    `,"minorAxis":${nj(e.minorAxis)},"orientation":${nj(e.orientation)},"elongation":${nj(e.elongation)},"boxRatio":${nj(e.boxRatio)},"catchmentRatio":${nj(e.catchmentRatio)}`;
 }
 
 export interface PondsReport {
@@ -89,9 +132,8 @@ export function buildPondsReport(result: PondsResult, input: string | null, labe
   }
   const depressions = new DepressionRows<DepressionRecord>(
     H.count,
-    (i) => ({ ...depressionCore(result, cols, i + 1), meanDepth: H.meanDepth[i + 1], catchmentCells: C ? C.cells[i + 1] : null, catchmentArea: C ? C.area[i + 1] : null }),
-    (i) => depressionCoreJson(result, cols, i + 1) + `,"meanDepth":${formatNumber(H.meanDepth[i + 1])}` +
-      (C ? `,"catchmentCells":${formatNumber(C.cells[i + 1])},"catchmentArea":${formatNumber(C.area[i + 1])}}` : ',"catchmentCells":null,"catchmentArea":null}'),
+    (i) => ({ ...depressionCore(result, cols, i + 1), meanDepth: H.meanDepth[i + 1], ...pondsExtras(result, i + 1) }),
+    (i) => depressionCoreJson(result, cols, i + 1) + `,"meanDepth":${formatNumber(H.meanDepth[i + 1])}${pondsExtrasJson(result, i + 1)}}`,
     cols,
   );
   const zf = result.areas.zFactor;
@@ -122,6 +164,13 @@ export function buildPondsReport(result: PondsResult, input: string | null, labe
   };
 }
 
+/** The catchment and shape columns of depressions.csv for depression `d` (leading comma). */
+function pondsExtrasCsv(result: PondsResult, d: number, c: (x: number) => string): string {
+  const e = pondsExtras(result, d);
+  const v = (x: number | null) => (x === null ? '' : c(x));
+  return `,${v(e.catchmentCells)},${v(e.catchmentArea)},${v(e.perimeter)},${v(e.majorAxis)},${v(e.minorAxis)},${v(e.orientation)},${v(e.elongation)},${v(e.boxRatio)},${v(e.catchmentRatio)}`;
+}
+
 /** Cells and area of the top-level depressions' catchments (the sum the parts of the valid area are checked by). */
 function topCatchments(H: PondsResult['hierarchy'], C: NonNullable<PondsResult['catchments']>): { cells: number; area: number } {
   let cells = 0, area = 0;
@@ -135,6 +184,7 @@ function topCatchments(H: PondsResult['hierarchy'], C: NonNullable<PondsResult['
  */
 export function pondsCsvColumns(result: PondsResult, cols: DepressionColumns, tokens: { elevation: string; area: string; volume: string }): [string, (d: number) => unknown][] {
   const z = tokens.elevation, a = tokens.area, v = tokens.volume;
+  const L = a.endsWith('2') ? a.slice(0, -1) : a; // the length unit of the area's (m2 → m)
   const H = result.hierarchy, g = result.grid, W = g.width, C = result.catchments;
   const col = (i: number) => i % W, row = (i: number) => Math.floor(i / W);
   return [
@@ -161,8 +211,15 @@ export function pondsCsvColumns(result: PondsResult, cols: DepressionColumns, to
     [`volume_${v}`, (d) => H.volume[d]],
     [`max_depth_${z}`, (d) => cols.maxDepth[d]],
     [`mean_depth_${z}`, (d) => H.meanDepth[d]],
-    ['catchment_cells', (d) => (C ? C.cells[d] : '')],
-    [`catchment_area_${a}`, (d) => (C ? C.area[d] : '')],
+    ['catchment_cells', (d) => pondsExtras(result, d).catchmentCells ?? ''],
+    [`catchment_area_${a}`, (d) => pondsExtras(result, d).catchmentArea ?? ''],
+    [`perimeter_${L}`, (d) => pondsExtras(result, d).perimeter ?? ''],
+    [`major_axis_${L}`, (d) => pondsExtras(result, d).majorAxis ?? ''],
+    [`minor_axis_${L}`, (d) => pondsExtras(result, d).minorAxis ?? ''],
+    ['orientation_deg', (d) => pondsExtras(result, d).orientation ?? ''],
+    ['elongation', (d) => pondsExtras(result, d).elongation ?? ''],
+    ['box_ratio', (d) => pondsExtras(result, d).boxRatio ?? ''],
+    ['catchment_ratio', (d) => pondsExtras(result, d).catchmentRatio ?? ''],
   ];
 }
 
@@ -179,5 +236,5 @@ export function pondsCsvRow(result: PondsResult, cols: DepressionColumns, d: num
   return `${d},${p === 0 ? '' : p},${H.level[d]},${H.childStart[d + 1] === H.childStart[d] ? 'leaf' : 'merged'},${childrenText(H, d, ' ')}` +
     `,${c(cols.pitValue[d])},${pc},${pr},${c(g.x(pc, pr))},${c(g.y(pc, pr))},${c(cols.spillValue[d])},${sc},${sr},${c(g.x(sc, sr))},${c(g.y(sc, sr))}` +
     `,${cols.toCol[d]},${cols.toRow[d]},${into === 0 ? 'outside' : into},${c(H.wetCells[d])},${c(H.area[d])},${c(H.volume[d])},${c(cols.maxDepth[d])},${c(H.meanDepth[d])}` +
-    (C ? `,${c(C.cells[d])},${c(C.area[d])}\n` : ',,\n');
+    pondsExtrasCsv(result, d, c) + '\n';
 }
