@@ -21,10 +21,10 @@ const BASE_BYTES = 80 * 2 ** 20;
 
 /**
  * Bytes per cell of the analysis (input values included). survey 26.7 and ponds 33.5 (with the
- * Euler self-check) from docs/performance.md; runoff 39.8 from the same page (library, 4000²);
+ * Euler self-check) from docs/performance.md, plus 4 for ponds' catchment raster (-o); runoff 39.8 from the same page (library, 4000²);
  * barriers 28, measured on a 2000² smooth grid (173 MB peak).
  */
-export const BYTES_PER_CELL: Record<BudgetCommand, number> = { survey: 27, ponds: 34, runoff: 40, barriers: 28 };
+export const BYTES_PER_CELL: Record<BudgetCommand, number> = { survey: 27, ponds: 38, runoff: 40, barriers: 28 };
 
 /**
  * Bytes per feature with each kind of output, measured on noise as above after the results became

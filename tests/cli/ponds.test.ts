@@ -76,6 +76,12 @@ describe('sill ponds (command line)', () => {
     expect(csv[0]).toMatch(/area_m2/);
     expect(csv[0]).toMatch(/volume_m3/);
     expect(csv[0]).toMatch(/spill_value_m/);
+    expect(csv[0]).toMatch(/,catchment_cells,catchment_area_m2,perimeter_m,major_axis_m,minor_axis_m,orientation_deg,elongation,box_ratio,catchment_ratio$/);
+    for (const d of rep.depressions) {
+      expect(d.catchmentCells).toBeGreaterThanOrEqual(d.cells);
+      expect(d.perimeter).toBeGreaterThan(0);
+      expect(d.majorAxis).toBeGreaterThanOrEqual(d.minorAxis);
+    }
     expect(csv).toHaveLength(rep.depressions.length + 1);
     const gj = JSON.parse(readFileSync(join(out, 'depressions.geojson'), 'utf8'));
     expect(gj.crs.properties.name).toBe('urn:ogc:def:crs:EPSG::32633');
