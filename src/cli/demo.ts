@@ -3,7 +3,7 @@ import type { Command } from 'commander';
 import { readdirSync, existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { checkFolder } from '../io/outdir.js';
-import { larkmoorDem, dihedralScan } from '../demo/generate.js';
+import { larkmoorDem, larkmoorCulverts, dihedralScan } from '../demo/generate.js';
 import { writeGeoTiff } from '../io/index.js';
 import { runSurveyCommand } from './survey.js';
 import { runPondsCommand } from './ponds.js';
@@ -38,9 +38,9 @@ export async function runDemo(dir: string, quiet: boolean, force = false): Promi
   const root = checkFolder(dir).dir;
   const inputs = join(root, 'inputs');
   const force_ = { force };
-  const inputsOut = openOutput({ out: join(dir, 'inputs'), force }, 'demo', ['larkmoor-dem.tif', 'dihedral-scan.txt'], [])!;
+  const inputsOut = openOutput({ out: join(dir, 'inputs'), force }, 'demo', ['larkmoor-dem.tif', 'larkmoor-culverts.csv', 'dihedral-scan.txt'], [])!;
   for (const [sub, command, names] of [
-    ['larkmoor-survey', 'survey', SURVEY_FILES], ['larkmoor-ponds', 'ponds', PONDS_FILES], ['larkmoor-runoff', 'runoff', RUNOFF_FILES],
+    ['larkmoor-survey', 'survey', SURVEY_FILES], ['larkmoor-ponds', 'ponds', PONDS_FILES], ['larkmoor-ponds-culvert', 'ponds', PONDS_FILES], ['larkmoor-runoff', 'runoff', RUNOFF_FILES],
     ['dihedral-survey', 'survey', SURVEY_FILES], ['dihedral-barriers', 'barriers', BARRIERS_FILES],
   ] as const) openOutput({ out: join(dir, sub), force }, command, [...names, ...REPORT], []);
   const log = (s: string) => { if (!quiet) process.stdout.write(s + '\n'); };
@@ -49,8 +49,10 @@ export async function runDemo(dir: string, quiet: boolean, force = false): Promi
   const demPath = join(inputs, 'larkmoor-dem.tif');
   const scan = dihedralScan();
   const scanPath = join(inputs, 'dihedral-scan.txt');
+  const culvertPath = join(inputs, 'larkmoor-culverts.csv');
   try {
     await writeGeoTiff(inputsOut.path('larkmoor-dem.tif'), { ...dem.grid, values: dem.grid.values, nodata: -9999 });
+    inputsOut.write('larkmoor-culverts.csv', larkmoorCulverts());
     inputsOut.write('dihedral-scan.txt', scan.text);
     await inputsOut.commit();
   } catch (e) {
@@ -63,6 +65,8 @@ export async function runDemo(dir: string, quiet: boolean, force = false): Promi
   await runSurveyCommand(demPath, { out: join(root, 'larkmoor-survey'), ...force_, minPersistence: '0.5', connectivity: '8', boundary: 'open', quiet, report: true });
   log(`-- sill ponds ${demPath} --min-depth 0.05 -o ${join(root, 'larkmoor-ponds')} --report`);
   await runPondsCommand(demPath, { out: join(root, 'larkmoor-ponds'), ...force_, minDepth: '0.05', connectivity: '8', boundary: 'open', quiet, report: true });
+  log(`-- sill ponds ${demPath} --min-depth 0.05 --culverts ${culvertPath} -o ${join(root, 'larkmoor-ponds-culvert')} --report`);
+  await runPondsCommand(demPath, { out: join(root, 'larkmoor-ponds-culvert'), ...force_, minDepth: '0.05', culverts: culvertPath, connectivity: '8', boundary: 'open', quiet, report: true });
   log(`-- sill runoff ${demPath} --depth 40mm -o ${join(root, 'larkmoor-runoff')} --report`);
   await runRunoffCommand(demPath, { out: join(root, 'larkmoor-runoff'), ...force_, depth: '40mm', connectivity: '8', boundary: 'open', quiet, report: true });
   log('');

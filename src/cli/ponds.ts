@@ -1,7 +1,11 @@
 /** `sill ponds IN`: depression hierarchy, spill levels, pour points, volumes; filled/depth/label rasters. */
 import { Option, type Command } from 'commander';
 import { InputError } from '../errors.js';
-import { pondsReport, pondsCsvColumns, pondsCsvRow, type PondsReport } from '../report/ponds.js';
+import { pondsReport, pondsCsvColumns, pondsCsvRow, culvertsReport, type PondsReport } from '../report/ponds.js';
+import { ponds } from '../hydro/ponds.js';
+import type { Hierarchy } from '../hydro/hierarchy.js';
+import { applyCulverts, culvertEffects, type Culvert } from '../hydro/culverts.js';
+import { readCulverts, type CulvertSpec } from '../io/culverts.js';
 import { topK } from '../report/hydro-common.js';
 import { writeDepressionsGeojson } from '../report/depressions-geojson.js';
 import type { PondsResult } from '../hydro/ponds.js';
@@ -30,6 +34,7 @@ export interface PondsCliOptions extends HydroCliOptions {
   zUnits?: string;
   xyUnits?: string;
   wgs84?: boolean;
+  culverts?: string;
 }
 
 export function registerPonds(program: Command): void {
@@ -49,6 +54,7 @@ export function registerPonds(program: Command): void {
     .option('--xy-units <unit>', 'horizontal unit when the input has no CRS: m, ft, us-ft, km, deg')
     .option('--wgs84', 'also write depressions-wgs84.geojson in longitude/latitude (projected CRSs with a known EPSG code)')
     .option('--stage-volume <id>', 'write stage-volume-ID.csv: water level, wet area and volume of depression ID from its pit to its spill level')
+    .option('--culverts <file>', 'lines through embankments (GeoJSON LineStrings or CSV x1,y1,x2,y2[,invert][,name]) where water passes at the invert; reports what changed')
     .option('--stage-step <dz>', 'level step of the stage-volume table (vertical unit; default: 50 steps)')
     .action(async (input: string, opts: PondsCliOptions) => {
       await runPondsCommand(input, opts);
@@ -76,12 +82,25 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   if (opts.wgs84 && !opts.out) throw new InputError('--wgs84 writes depressions-wgs84.geojson: give an output folder with -o/--out');
   const out = openOutput(opts, 'ponds', [
     ...PONDS_FILES, ...(opts.wgs84 ? ['depressions-wgs84.geojson'] : []), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render),
-  ], [input]);
+  ], opts.culverts ? [input, opts.culverts] : [input]);
 
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
   checkCellBudget('ponds', surface.size, input);
-  const { result, report } = pondsReport(surface, {
+  // --culverts: the depressions of the DEM as it is, kept for the comparison; then the analysis runs on the DEM with them
+  let culv: { specs: CulvertSpec[]; before: Hierarchy; applied: Culvert[] } | null = null;
+  let dem = surface;
+  if (opts.culverts) {
+    if (surface.kind !== 'grid') throw new InputError(`--culverts needs a grid DEM; ${input} holds scattered samples`);
+    const specs = readCulverts(opts.culverts, surface);
+    progress.stage('depressions without the culverts');
+    const before = ponds(surface, { connectivity, nodataOutlet: nodataAs === 'outlet', minDepth, minArea, minVolume, minPersistence,
+      zUnits: opts.zUnits, zFactor, xyUnits: opts.xyUnits, source: input, threads, euler: false, catchments: 'none', shapes: false }).hierarchy;
+    const applied = applyCulverts(surface, specs);
+    dem = applied.grid;
+    culv = { specs, before, applied: applied.culverts };
+  }
+  const { result, report } = pondsReport(dem, {
     onFeatures: featureBudget('ponds', surface.size, opts.out ? 'out' : opts.json ? 'json' : 'none', input),
     connectivity, boundary, nodataOutlet: nodataAs === 'outlet',
     minDepth, minArea, minVolume, minPersistence, fillOnlyBelow,
@@ -90,6 +109,9 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
     catchments: opts.out ? 'raster' : 'sums',
     onStage: (s) => progress.stage(s),
   }, input);
+  if (culv && opts.culverts) {
+    report.culverts = culvertsReport(opts.culverts, result.grid, culv.applied, culvertEffects(culv.before, result.hierarchy, result.rasters.labels));
+  }
   checkHydroReport(report, stageId, 'depressions.csv');
   // check --wgs84 before writing anything
   const project = opts.wgs84 ? toWgs84(result.grid.crs, input) : null;
@@ -193,6 +215,12 @@ export function pondsSummary(r: PondsReport, outDir?: string, files: string[] = 
   if (rm.absorbed > 0) lines.push(`             ${rm.absorbed} merged with their parent after a removed neighbour left them a single spill`);
   if (rm.closedRegions.count > 0) {
     lines.push(`no outlet    ${rm.closedRegions.count} region${rm.closedRegions.count === 1 ? '' : 's'} (${rm.closedRegions.cells} cells) walled in by nodata: not filled; use --nodata-as outlet to let them drain`);
+  }
+  if (r.culverts) {
+    const e = r.culverts.effects;
+    const lowered = r.culverts.lines.toArray().reduce((n, l) => n + l.lowered, 0);
+    lines.push(`culverts     ${r.culverts.lines.length} line${r.culverts.lines.length === 1 ? '' : 's'} from ${r.culverts.file}, ${lowered} cells lowered to their inverts; ` +
+      `against the DEM without them: ${e.vanished} depressions vanished, ${e.merged} merged, ${e.shrank} shrank, ${e.grew} grew, ${e.unchanged} unchanged`);
   }
   lines.push(`totals       ${fmt(r.totals.volume)} ${u.volume} over ${fmt(r.totals.area)} ${u.area} (top-level depressions at their spill levels)`);
   const t = r.totals;

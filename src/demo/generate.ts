@@ -81,6 +81,16 @@ export function larkmoorDem(width = 320, height = 240): DemoDem {
 }
 
 /**
+ * The culvert under the Larkmoor valley road (invented): a pipe through the embankment at column 250
+ * along the valley floor (row 127), from 4 cells upstream to 4 downstream; no invert given, so it
+ * runs at the lower (downstream) end's elevation. CSV for `sill ponds --culverts`.
+ */
+export function larkmoorCulverts(): string {
+  const x = (c: number) => 512000 + (c + 0.5) * 5, y = (r: number) => 5874000 - (r + 0.5) * 5;
+  return `name,x1,y1,x2,y2,invert\nvalley road culvert,${x(246)},${y(127)},${x(254)},${y(127)},\n`;
+}
+
+/**
  * An invented torsional energy surface E(φ, ψ) in kJ/mol over φ, ψ ∈ [−180°, 180°), periodic in
  * both angles, with three wells of different depth. Returns "phi psi energy" text.
  */

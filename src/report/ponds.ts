@@ -4,10 +4,11 @@ import type { Mesh } from '../surface/mesh.js';
 import { ponds, type PondsOptions, type PondsResult } from '../hydro/ponds.js';
 import type { RemovedSummary } from '../hydro/hierarchy.js';
 import { type SurfaceInfo, type EulerInfo, type FeatureHook } from './common.js';
-import { formatNumber } from '../io/stream.js';
+import { formatNumber, compactRows, type Rows } from '../io/stream.js';
+import { EFFECT_STATUS, type Culvert, type CulvertEffects, type EffectStatus } from '../hydro/culverts.js';
 import {
-  depressionColumns, depressionCore, depressionCoreJson, childrenText, reportHead, reportUnits, cellAreaRange, DepressionRows,
-  type DepressionCore, type DepressionColumns,
+  depressionColumns, depressionCore, depressionCoreJson, childrenText, reportHead, reportUnits, cellAreaRange, DepressionRows, cellRef, cleanValue,
+  type DepressionCore, type DepressionColumns, type CellRef,
 } from './hydro-common.js';
 
 export { cleanValue, cleanDifference, DepressionRows, type CellRef, type PourRecord } from './hydro-common.js';
@@ -103,8 +104,39 @@ export interface PondsReport {
   labelLevel: 'leaf' | 'top';
   /** With -o: how many depressions have a polygon in depressions.geojson. */
   outlines?: { traced: number; omitted: number; note: string };
+  /** With --culverts: the lines applied and how the depressions changed against the DEM without them. */
+  culverts?: CulvertsReport;
   /** One record per depression, made on demand from the columns (`depressions.columns`). */
   depressions: DepressionRows<DepressionRecord>;
+}
+
+export interface CulvertsReport {
+  file: string;
+  note: string;
+  lines: Rows<{ name: string; cells: number; lowered: number; invert: number | null; invertFrom: 'given' | 'lower end'; from: CellRef; to: CellRef }>;
+  /** How many depressions without the culverts stayed the same, shrank, grew, merged into another or vanished; `new`: depressions with them that fill from a pit to a pass none had before. */
+  effects: Record<EffectStatus, number> & { new: number };
+  /** The depressions (ids without the culverts) that changed, and the depression (id with them) that now holds each one's pit. */
+  changed: Rows<{ before: number; status: EffectStatus; after: number | null; volumeBefore: number; volumeAfter: number; spillBefore: number; spillAfter: number | null }>;
+}
+
+/** The `culverts` member of the report. */
+export function culvertsReport(file: string, grid: Grid, culverts: Culvert[], fx: CulvertEffects): CulvertsReport {
+  const c = fx.changed, f32 = grid.values instanceof Float32Array;
+  return {
+    file,
+    note: 'every cell along each line lowered to the invert (a breach line); the results and files are those of the DEM with the culverts, compared here with the DEM without them',
+    lines: compactRows(culverts.length, (i) => {
+      const k = culverts[i];
+      return { name: k.name, cells: k.cells.length, lowered: k.lowered, invert: Number.isNaN(k.invert) ? null : cleanValue(k.invert, f32), invertFrom: k.invertFrom,
+        from: cellRef(grid, k.cells[0]), to: cellRef(grid, k.cells[k.cells.length - 1]) };
+    }),
+    effects: { ...fx.counts },
+    changed: compactRows(c.before.length, (i) => ({
+      before: c.before[i], status: EFFECT_STATUS[c.status[i]], after: c.after[i] > 0 ? c.after[i] : null,
+      volumeBefore: c.volumeBefore[i], volumeAfter: c.volumeAfter[i], spillBefore: cleanValue(c.spillBefore[i], f32), spillAfter: Number.isNaN(c.spillAfter[i]) ? null : cleanValue(c.spillAfter[i], f32),
+    })),
+  };
 }
 
 export interface PondsRun {
@@ -160,6 +192,8 @@ export function buildPondsReport(result: PondsResult, input: string | null, labe
     labelLevel,
     // set by the writer of -o (depressions.geojson); the depressions come last in the JSON
     outlines: undefined,
+    // set with --culverts
+    culverts: undefined,
     depressions,
   };
 }

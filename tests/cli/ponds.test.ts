@@ -11,7 +11,7 @@ import { join } from 'node:path';
 import { spawnSync } from 'node:child_process';
 import { sill, tempDir, itRejects } from './run.js';
 import { PYTHON as PY, runs } from '../prereq.js';
-import { larkmoorDem } from '../../src/demo/generate.js';
+import { larkmoorDem, larkmoorCulverts } from '../../src/demo/generate.js';
 import { writeGeoTiff, readGeoTiff } from '../../src/io/index.js';
 import { Grid } from '../../src/surface/grid.js';
 import { pondsReport } from '../../src/report/ponds.js';
@@ -253,6 +253,34 @@ print(int((ref[valid] != f[valid]).sum()))
     expect(r.depressions).toEqual(JSON.parse(JSON.stringify(report.depressions)));
   });
 
+  it('--culverts: the demo valley road culvert drains the reservoir behind the embankment; the report says what changed', () => {
+    const csv = join(dir, 'culverts.csv');
+    writeFileSync(csv, larkmoorCulverts());
+    const plain = JSON.parse(sill(['ponds', dem, '--min-depth', '0.05', '--json']).stdout);
+    const r = sill(['ponds', dem, '--min-depth', '0.05', '--culverts', csv, '--json']);
+    expect(r.code, r.stderr).toBe(0);
+    const rep = JSON.parse(r.stdout);
+    const c = rep.culverts;
+    expect(c.lines).toHaveLength(1);
+    expect(c.lines[0]).toMatchObject({ name: 'valley road culvert', invertFrom: 'lower end', from: { col: 246, row: 127 }, to: { col: 254, row: 127 } });
+    // the invert is the lower end's elevation, read from the DEM
+    const g = larkmoorDem().grid;
+    const zEnd = Math.min(g.values[127 * 320 + 246], g.values[127 * 320 + 254]);
+    expect(c.lines[0].invert).toBeCloseTo(zEnd, 4);
+    // every depression without the culvert is accounted for once, and those that changed are listed
+    const e = c.effects;
+    expect(e.unchanged + e.shrank + e.grew + e.merged + e.vanished).toBe(plain.depressions.length);
+    expect(c.changed).toHaveLength(plain.depressions.length - e.unchanged);
+    expect(e.vanished).toBeGreaterThan(0);
+    // the reservoir behind the embankment (the largest depression without the culvert) is gone
+    const largest = plain.depressions.reduce((a: { volume: number }, b: { volume: number }) => (b.volume > a.volume ? b : a));
+    expect(c.changed.find((x: { before: number }) => x.before === largest.id)?.status).toBe('vanished');
+    expect(rep.totals.volume).toBeLessThan(plain.totals.volume - 0.9 * largest.volume);
+    // the summary line
+    const s = sill(['ponds', dem, '--min-depth', '0.05', '--culverts', csv]);
+    expect(s.stdout).toMatch(/culverts +1 line from .*culverts\.csv, \d+ cells lowered to their inverts; against the DEM without them: \d+ depressions vanished/);
+  });
+
   describe('bad input: exit 2, one line on stderr, nothing written', () => {
     const cases: [string, () => string[], RegExp][] = [
       ['missing file', () => ['ponds', join(dir, 'nope.tif')], /cannot read/],
@@ -266,6 +294,8 @@ print(int((ref[valid] != f[valid]).sum()))
       ['xy units contradict the CRS', () => ['ponds', dem, '--xy-units', 'deg'], /contradicts the CRS/],
       ['--wgs84 without a CRS', () => ['ponds', join(dir, 'matrix.txt'), '--origin', '0,0', '--spacing', '1,1', '--wgs84'], /--wgs84/],
       ['--stage-volume of no depression', () => ['ponds', dem, '--stage-volume', '99999'], /--stage-volume/],
+      ['culverts outside the DEM', () => { writeFileSync(join(dir, 'far.csv'), 'x1,y1,x2,y2\n0,0,10,10\n'); return ['ponds', dem, '--culverts', join(dir, 'far.csv')]; }, /--culverts .*far\.csv: culvert 1 has the point \(0, 0\) outside the DEM/],
+      ['an unreadable culvert file', () => ['ponds', dem, '--culverts', join(dir, 'no-such.csv')], /--culverts .*no-such\.csv: cannot be read/],
       ['scattered samples', () => { writeFileSync(join(dir, 'pts.txt'), 'x y z\n0 0 1\n1 0.3 2\n0.2 1 3\n1.4 1.1 0\n0.7 0.5 4\n'); return ['ponds', join(dir, 'pts.txt')]; }, /regular grid/],
     ];
     itRejects(cases, () => dir);
