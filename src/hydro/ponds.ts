@@ -113,7 +113,7 @@ export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResul
   let shapes: DepressionShapes | null = null;
   if (opts.shapes !== false) {
     stage('shape attributes');
-    shapes = depressionShapes(grid, rasters.labels, hierarchy, areas.rowArea, !areas.uniform, connectivity);
+    shapes = depressionShapes(grid, rasters.labels, hierarchy, areas.rowArea, !areas.uniform, connectivity, opts);
   }
 
   return {

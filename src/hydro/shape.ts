@@ -22,7 +22,8 @@
  * parallel radius at each row, north–south by the meridian radius): fine for depressions of a few
  * kilometres, an approximation for very large ones (stated in docs/ponds.md).
  */
-import type { Grid } from '../surface/grid.js';
+import type { Grid, GridValues } from '../surface/grid.js';
+import { useWorker, onSharedMemory, startPerimeterJob, type ThreadOptions } from '../morse/parallel.js';
 import type { Hierarchy } from './hierarchy.js';
 import { WGS84_A, WGS84_F } from './areas.js';
 
@@ -49,7 +50,7 @@ function metresPerDegree(lat: number): [number, number] {
  * @param rowArea area of each row's cells (area unit)
  * @param connectivity 8 joins wet cells that meet at a corner (the shoreline passes between the two dry ones)
  */
-export function depressionShapes(g: Grid, labels: Int32Array, hier: Hierarchy, rowArea: Float64Array, geographic: boolean, connectivity: number): DepressionShapes {
+export function depressionShapes(g: Grid, labels: Int32Array, hier: Hierarchy, rowArea: Float64Array, geographic: boolean, connectivity: number, threads: ThreadOptions = {}): DepressionShapes {
   const W = g.width, Hh = g.height, z = g.values, R = hier.count + 1;
   const t = g.transform;
   // position of cell centres: x = X0[row] + col·DX[row] (+ row terms), y likewise, in map units or local metres
@@ -111,9 +112,62 @@ export function depressionShapes(g: Grid, labels: Int32Array, hier: Hierarchy, r
     boxRatio[d] = bw > 0 && bh > 0 ? Math.min(1, hier.area[d] / (bw * bh)) : 0;
   }
 
-  // --- perimeter by marching squares at each depression's spill level
+  // --- perimeter by marching squares at each depression's spill level: the blocks in two halves of
+  // rows, on two threads when asked (the halves are added the same way on one thread, so the sums
+  // are the same bits either way)
+  const task: PerimeterTask = {
+    width: W, height: Hh, values: z, labels, tin: hier.tin, tout: hier.tout, parent: hier.parent, spillValue: hier.spillValue,
+    transform: Array.from(t), sx, sy, xc, yc, connectivity, row0: 0, row1: 0, count: R,
+  };
+  const mid = Math.max(0, (Hh - 1) >> 1);
+  let second: Float64Array;
+  let first: Float64Array;
+  if (Hh > 2 && useWorker(threads, W * Hh)) {
+    const job = startPerimeterJob({ ...task, values: onSharedMemory(z), labels: onSharedMemory(labels), row0: mid, row1: Hh - 1 });
+    try {
+      first = perimeterRows({ ...task, row0: 0, row1: mid });
+    } catch (e) {
+      job.abandon();
+      throw e;
+    }
+    second = job.result();
+  } else {
+    first = perimeterRows({ ...task, row0: 0, row1: mid });
+    second = perimeterRows({ ...task, row0: mid, row1: Hh - 1 });
+  }
   const perimeter = new Float64Array(R);
-  const { tin, tout, parent, spillValue } = hier;
+  for (let d = 1; d < R; d++) perimeter[d] = first[d] + second[d];
+  return { perimeter, majorAxis, minorAxis, orientation, boxRatio };
+}
+
+/** What one thread needs to add up the shoreline lengths of the 2 × 2 blocks whose top row lies in [row0, row1). */
+export interface PerimeterTask {
+  width: number;
+  height: number;
+  values: GridValues;
+  labels: Int32Array;
+  tin: Int32Array;
+  tout: Int32Array;
+  parent: Int32Array;
+  spillValue: Float64Array;
+  transform: number[];
+  sx: Float64Array;
+  sy: Float64Array;
+  xc: number;
+  yc: number;
+  connectivity: number;
+  row0: number;
+  row1: number;
+  /** Depressions + 1 (the length of the result). */
+  count: number;
+}
+
+/** Shoreline length per depression over the blocks of rows [row0, row1) (see the file's comment). */
+export function perimeterRows(task: PerimeterTask): Float64Array {
+  const { width: W, height: Hh, values: z, labels, tin, tout, parent, spillValue, transform: t, sx, sy, xc, yc, connectivity } = task;
+  const perimeter = new Float64Array(task.count);
+  const px = (c: number, r: number): number => (t[0] + (c + 0.5) * t[1] + (r + 0.5) * t[2] - xc) * sx[r];
+  const py = (c: number, r: number): number => (t[3] + (c + 0.5) * t[4] + (r + 0.5) * t[5] - yc) * sy[r];
   // pieces per corner mask (bit k: corner k inside; corners (c, r), (c+1, r), (c+1, r+1), (c, r+1)):
   // pairs of sides joined (side s joins corners s and s+1). Diagonal masks give two pieces: with
   // 8-connectivity the two inside corners are one wet area and the shoreline cuts off the outside
@@ -133,7 +187,7 @@ export function depressionShapes(g: Grid, labels: Int32Array, hier: Hierarchy, r
   }
   const cx = new Float64Array(4), cy = new Float64Array(4), cz = new Float64Array(4), cl = new Int32Array(4);
   const ptx = new Float64Array(4), pty = new Float64Array(4);
-  for (let r = 0; r + 1 < Hh; r++) {
+  for (let r = task.row0; r < task.row1 && r + 1 < Hh; r++) {
     for (let c = 0; c + 1 < W; c++) {
       const i0 = r * W + c;
       const l0 = labels[i0], l1 = labels[i0 + 1], l2 = labels[i0 + W + 1], l3 = labels[i0 + W];
@@ -177,5 +231,5 @@ export function depressionShapes(g: Grid, labels: Int32Array, hier: Hierarchy, r
       }
     }
   }
-  return { perimeter, majorAxis, minorAxis, orientation, boxRatio };
+  return perimeter;
 }

@@ -54,7 +54,7 @@ export function useWorker(opts: ThreadOptions, cells: number): boolean {
 }
 
 /** A typed array on shared memory: `a` itself when it is, else a copy. */
-export function onSharedMemory<T extends GridValues | Uint8Array | Uint32Array>(a: T): T {
+export function onSharedMemory<T extends GridValues | Uint8Array | Uint32Array | Int32Array>(a: T): T {
   if (a.buffer instanceof SharedArrayBuffer) return a;
   const Ctor = a.constructor as new (b: SharedArrayBuffer) => T;
   const copy = new Ctor(new SharedArrayBuffer(a.byteLength));
@@ -182,6 +182,15 @@ export function startSplitJob(task: GridTask, order: Uint32Array, forest: Int32A
 /** Start the Euler self-check's counts (critical points by lower links, simplices). */
 export function startEulerJob(task: GridTask): WorkerJob<EulerCounts> {
   return post<EulerCounts>({ kind: 'euler', grid: task });
+}
+
+/**
+ * Start the shoreline lengths of a share of the 2 × 2 blocks (src/hydro/shape.ts, perimeterRows);
+ * `values` and `labels` on shared memory, the depression tables copied.
+ */
+export function startPerimeterJob(task: { width: number; height: number; values: GridValues; labels: Int32Array } & Record<string, unknown>): WorkerJob<Float64Array> {
+  if (!(task.labels.buffer instanceof SharedArrayBuffer)) throw new Error('internal: the labels given to the worker are not on shared memory');
+  return post<Float64Array>({ kind: 'perimeter', grid: { values: task.values, width: task.width, height: task.height }, perimeter: task });
 }
 
 let worker: Worker | null = null;

@@ -5,7 +5,8 @@
  * wakes up.
  *
  * Tasks: 'split' — simplex counts, then (once the main thread has written the order) the split
- * tree; 'euler' — the Euler self-check's counts (critical points by lower links, simplices).
+ * tree; 'euler' — the Euler self-check's counts (critical points by lower links, simplices);
+ * 'perimeter' — the depressions' shoreline lengths over a share of the rows (src/hydro/shape.ts).
  */
 import { parentPort, workerData, type MessagePort } from 'node:worker_threads';
 import { Grid } from '../surface/grid.js';
@@ -13,9 +14,12 @@ import { GridComplex } from '../surface/complex.js';
 import { countCriticalPoints } from './critical.js';
 import { buildMergeTree } from './mergetree.js';
 import { ORDER_ABANDONED, ORDER_PENDING, type GridTask } from './parallel.js';
+// the one task of another layer: the depressions' shoreline lengths, for the second core
+import { perimeterRows, type PerimeterTask } from '../hydro/shape.js';
 
 interface Task {
-  kind: 'split' | 'euler';
+  kind: 'split' | 'euler' | 'perimeter';
+  perimeter?: PerimeterTask;
   grid: GridTask;
   order?: Uint32Array;
   forest?: Int32Array;
@@ -29,6 +33,10 @@ function complexOf(t: GridTask): GridComplex {
 }
 
 function run(task: Task): { result: unknown; transfer: ArrayBuffer[] } | null {
+  if (task.kind === 'perimeter' && task.perimeter) {
+    const p = perimeterRows(task.perimeter);
+    return { result: p, transfer: [p.buffer as ArrayBuffer] };
+  }
   const cx = complexOf(task.grid);
   if (task.kind === 'euler') {
     return { result: { critical: countCriticalPoints(cx), simplices: cx.countSimplices() }, transfer: [] };

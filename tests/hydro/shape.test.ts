@@ -81,3 +81,16 @@ describe('shape attributes of an elliptical crater', () => {
     expect(Math.abs(s.perimeter[1] - 2 * Math.PI * R) / (2 * Math.PI * R)).toBeLessThan(0.002);
   });
 });
+
+describe('the perimeter on two threads', () => {
+  it('is the same bits as on one (the worker takes half the rows; the halves are added the same way)', () => {
+    const g = crater(1, 40, 20, 1, 0.3);
+    // some roughness so that many depressions nest
+    let s = 7;
+    for (let i = 0; i < g.values.length; i++) { s = (Math.imul(s, 1103515245) + 12345) >>> 0; g.values[i] += (s / 2 ** 32) * 0.05; }
+    const one = ponds(g, { connectivity: 8, euler: false, threads: 1 }).shapes!;
+    const two = ponds(g, { connectivity: 8, euler: false, threads: 2, parallelMinCells: 0 }).shapes!;
+    expect(one.perimeter.length).toBeGreaterThan(20);
+    expect(Array.from(two.perimeter).every((v, i) => Object.is(v, one.perimeter[i]))).toBe(true);
+  });
+});
