@@ -11,6 +11,7 @@ import { randomBytes } from 'node:crypto';
 import { existsSync, readdirSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { InputError } from '../errors.js';
 import { readJsonMembers } from '../io/json-head.js';
+import { removeStaleStaging } from '../io/outdir.js';
 import { RunFolder, type StageSpec, type TaskStatus } from './run-folder.js';
 
 export const BATCH_COMMANDS = ['survey', 'ponds', 'runoff', 'barriers'] as const;
@@ -238,6 +239,8 @@ export function writeCatalogue(runDir: string): Catalogue {
     const p = join(b.out, stem);
     if (existsSync(join(p, '.sill-manifest.json'))) rmSync(p, { recursive: true, force: true });
   }
+  // staging folders of input runs that were killed (a batch stopped outright) and are dead by now
+  removeStaleStaging(b.out);
   return c;
 }
 
