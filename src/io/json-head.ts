@@ -13,15 +13,18 @@ const MAX_VALUE = 16 << 20;
 
 const WS = (c: number) => c === 0x20 || c === 0x0a || c === 0x0d || c === 0x09;
 
-/** The top-level members `keys` of the JSON object in `path` (absent keys are left out). Throws on text that is not a JSON object. */
-export function readJsonMembers(path: string, keys: readonly string[]): Record<string, unknown> {
+/**
+ * The top-level members `keys` of the JSON object in `path` (absent keys are left out). Throws on
+ * text that is not a JSON object. `chunkBytes` is the read size (small values for the tests).
+ */
+export function readJsonMembers(path: string, keys: readonly string[], chunkBytes = CHUNK): Record<string, unknown> {
   const want = new Set(keys);
   const out: Record<string, unknown> = {};
   const fd = openSync(path, 'r');
-  const buf = Buffer.alloc(CHUNK);
+  const buf = Buffer.alloc(Math.max(1, chunkBytes));
   let len = 0, pos = 0, fileAt = 0;
   const more = (): boolean => {
-    len = readSync(fd, buf, 0, CHUNK, fileAt);
+    len = readSync(fd, buf, 0, buf.length, fileAt);
     fileAt += len;
     pos = 0;
     return len > 0;
