@@ -12,7 +12,7 @@ import { InputError } from '../errors.js';
 import { checkFolder } from '../io/outdir.js';
 import { inputCells } from '../io/dimensions.js';
 import {
-  ANALYSE, BATCH_COMMANDS, CATALOGUE, batchInputs, batchStages, finished, foreignEntries, writeCatalogue,
+  ANALYSE, BATCH_COMMANDS, CATALOGUE, batchInputs, deciding, batchStages, finished, foreignEntries, writeCatalogue,
   type BatchCommand, type BatchSpec, type Catalogue,
 } from '../cluster/batch.js';
 import { RunFolder, type RunSpec } from '../cluster/run-folder.js';
@@ -174,8 +174,8 @@ export async function runBatchCommand(program: Command, command: string, words: 
   let resumed = 0;
   if (opts.resume && old) {
     const o = old.extra;
-    if (o.command !== cmdName || o.out !== out || !sameList(o.args, childArgs) || !sameList(o.inputs.map((x) => x.input), given)) {
-      throw new InputError(`the batch in ${opts.out} was run with other inputs or options (sill batch ${o.command} with ${o.inputs.length} inputs${o.args.length ? `, ${o.args.join(' ')}` : ''}); give the same ones to --resume, or leave --resume out to start over`);
+    if (o.command !== cmdName || o.out !== out || !sameList(deciding(o.args), deciding(childArgs)) || !sameList(o.inputs.map((x) => x.input), given)) {
+      throw new InputError(`the batch in ${opts.out} was run with other inputs or options (sill batch ${o.command} with ${o.inputs.length} inputs${deciding(o.args).length ? `, ${deciding(o.args).join(' ')}` : ''}); give the same ones to --resume, or leave --resume out to start over`);
     }
     spec.previous = o.previous;
     for (let i = 0; i < inputs.length; i++) {

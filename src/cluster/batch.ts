@@ -89,6 +89,16 @@ export function batchStages(b: BatchSpec, runDir: string, memoryMb: number[], cp
   return [analyse, catalogue];
 }
 
+/** The options that decide the results: all but --threads (any number gives the same results) and --force. */
+export function deciding(args: readonly string[]): string[] {
+  const out: string[] = [];
+  for (let k = 0; k < args.length; k++) {
+    if (args[k] === '--threads') k++;
+    else if (args[k] !== '--force') out.push(args[k]);
+  }
+  return out;
+}
+
 /** True when input i's folder is the complete result its task reported (resume skips it). */
 export function finished(run: RunFolder, b: BatchSpec, i: number): boolean {
   const s = run.status(ANALYSE, i);
@@ -201,7 +211,7 @@ export function buildCatalogue(run: RunFolder, b: BatchSpec): Catalogue {
     return { ...rest, seconds };
   });
   const ok = rows.filter((r) => r.status === 'ok').length;
-  return { schema: 'sill/batch-catalogue@1', command: b.command, options: b.args, inputs: rows.length, ok, failed: rows.length - ok, rows };
+  return { schema: 'sill/batch-catalogue@1', command: b.command, options: deciding(b.args), inputs: rows.length, ok, failed: rows.length - ok, rows };
 }
 
 export function catalogueCsv(c: Catalogue): string {
