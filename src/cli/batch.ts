@@ -17,7 +17,7 @@ import {
 } from '../cluster/batch.js';
 import { RunFolder, type RunSpec } from '../cluster/run-folder.js';
 import { LocalEngine, type Engine } from '../cluster/engine.js';
-import { SlurmEngine } from '../cluster/slurm.js';
+import { SlurmEngine, slurmMissing } from '../cluster/slurm.js';
 import { BYTES_PER_CELL } from './budget.js';
 import { parseNumber, Progress } from './common.js';
 
@@ -133,6 +133,11 @@ export async function runBatchCommand(program: Command, command: string, words: 
   for (const [flag, v] of [['--partition', opts.partition], ['--account', opts.account], ['--time', opts.time]] as const) {
     if (v !== undefined && !slurm) throw new InputError(`${flag} is for --scheduler slurm; add it, or leave ${flag} out`);
     if (v !== undefined && !/^[A-Za-z0-9_.:,+\-]+$/.test(v)) throw new InputError(`${flag} '${v}' holds characters Slurm does not take; give a plain name or time`);
+  }
+
+  if (slurm && !opts.dryRun) {
+    const why = slurmMissing();
+    if (why !== null) throw new InputError(`--scheduler slurm submits jobs with sbatch, but ${why}; run the batch on a Slurm login node, or add --dry-run to only write the scripts`);
   }
 
   // the inputs: present, one stem each, none inside DIR

@@ -44,6 +44,18 @@ export class SlurmError extends Error {
   }
 }
 
+/** Null when the Slurm commands answer here, else why not (for a message before any work). */
+export function slurmMissing(): string | null {
+  for (const cmd of ['sbatch', 'squeue', 'scontrol']) {
+    const r = spawnSync(cmd, ['--version'], { encoding: 'utf8', timeout: 15000 });
+    const code = (r.error as NodeJS.ErrnoException | undefined)?.code;
+    if (code === 'ENOENT') return `${cmd} is not on the PATH`;
+    if (r.error) return `${cmd} --version did not answer (${code ?? r.error.message})`;
+    if (r.status !== 0) return `${cmd} --version failed: ${(r.stderr || r.stdout).trim().split('\n').pop()}`;
+  }
+  return null;
+}
+
 function command(cmd: string, args: string[]): string {
   const r = spawnSync(cmd, args, { encoding: 'utf8', timeout: 60000 });
   if (r.error) throw new SlurmError(`cannot run ${cmd} (${(r.error as NodeJS.ErrnoException).code ?? r.error.message}); is this a Slurm login node with ${cmd} on PATH?`);
