@@ -9,6 +9,8 @@ import { existsSync, mkdirSync, readFileSync, readdirSync, rmSync, writeFileSync
 import { join } from 'node:path';
 import { BIN, sill, tempDir } from '../cli/run.js';
 import { writeTorus, writeBowl, writeDamaged, readCatalogue, leftovers, manifestRun, BOWL_H } from './inputs.js';
+import { threeStages } from './stages.js';
+import { LocalEngine } from '../../src/cluster/engine.js';
 
 describe('sill batch, local pool', () => {
   let dir: string;
@@ -86,9 +88,9 @@ describe('sill batch, local pool', () => {
   it('resume after SIGKILL mid-batch: the finished inputs are kept as they were, the rest are done, nothing is left behind', async () => {
     const out = join(dir, 'killed');
     const files: string[] = [];
-    for (let k = 0; k < 6; k++) {
+    for (let k = 0; k < 4; k++) {
       files.push(join(dir, 'in', `k${k}.npy`));
-      writeTorus(files[k], 48, k);
+      writeTorus(files[k], 32, k);
     }
     const args = ['batch', 'survey', ...files, '-o', out, '--boundary', 'periodic', '--workers', '1'];
     const child = spawn(process.execPath, [BIN, ...args], { stdio: 'ignore' });
@@ -103,10 +105,10 @@ describe('sill batch, local pool', () => {
     await new Promise((r) => child.on('close', r));
     const done = readdirSync(statusDir).length;
     expect(done).toBeGreaterThanOrEqual(2);
-    expect(done).toBeLessThan(6);
+    expect(done).toBeLessThan(4);
     expect(existsSync(join(out, 'catalogue.csv'))).toBe(false);
     const before = new Map<string, string>();
-    for (let k = 0; k < 6; k++) if (existsSync(join(out, `k${k}`))) before.set(`k${k}`, manifestRun(join(out, `k${k}`)));
+    for (let k = 0; k < 4; k++) if (existsSync(join(out, `k${k}`))) before.set(`k${k}`, manifestRun(join(out, `k${k}`)));
     expect(before.size).toBeGreaterThanOrEqual(2);
     // let the killed runs go (their parents died; the kernel ends them)
     await new Promise((r) => setTimeout(r, 500));
@@ -114,9 +116,9 @@ describe('sill batch, local pool', () => {
     const r = sill([...args, '--resume']);
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
-    expect(r.stdout).toMatch(/6 of 6 inputs ok \(\d finished before\)/);
+    expect(r.stdout).toMatch(/4 of 4 inputs ok \(\d finished before\)/);
     const cat = readCatalogue(out);
-    expect(cat.rows.map((x) => x.status)).toEqual(Array(6).fill('ok'));
+    expect(cat.rows.map((x) => x.status)).toEqual(Array(4).fill('ok'));
     for (const [stem, run] of before) {
       const statusOk = JSON.parse(readFileSync(join(statusDir, `${stem.slice(1)}.json`), 'utf8')).ok;
       // a folder that was finished (reported ok) is kept as it was; one whose report the kill cut off is redone
@@ -146,6 +148,18 @@ describe('sill batch, local pool', () => {
     const o = sill(['batch', 'survey', files[0], '-o', out, '--boundary', 'closed', '--force', '--resume']);
     expect(o.code).toBe(2);
     expect(o.stderr).toMatch(/other inputs or options/);
+  });
+
+  it('the stage runner: a stage after `any` runs when a task before it failed, one after `ok` does not and says why', async () => {
+    const run = threeStages(join(dir, 'stages'), input('torus0.npy'), input('damaged.tif'));
+    await new LocalEngine(2).run(run);
+    expect(run.status('first', 0)).toMatchObject({ ok: true, exit: 0, label: input('torus0.npy') });
+    expect(run.status('first', 1)).toMatchObject({ ok: false, exit: 2 });
+    expect(run.status('first', 1)!.error).toMatch(/damaged\.tif/);
+    expect(run.status('first', 0)!.outputRun).toBe(manifestRun(join(dir, 'stages', 'a')));
+    expect(run.status('anyway', 0)).toMatchObject({ ok: true });
+    expect(run.status('needs-all', 0)).toMatchObject({ ok: false, exit: null, error: 'not run: a task of stage first failed' });
+    expect(existsSync(join(dir, 'stages', 'd'))).toBe(false);
   });
 
   const refuses: [string, () => string[], RegExp][] = [

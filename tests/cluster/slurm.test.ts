@@ -12,6 +12,8 @@ import { fileURLToPath } from 'node:url';
 import { runs, skipNote } from '../prereq.js';
 import { listFiles, sill, tempDir } from '../cli/run.js';
 import { writeBowl, writeDamaged, writeTorus, readCatalogue, csvWithoutSeconds, jsonWithoutSeconds, leftovers, manifestRun } from './inputs.js';
+import { threeStages } from './stages.js';
+import { SlurmEngine } from '../../src/cluster/slurm.js';
 
 const RIG = fileURLToPath(new URL('../../scripts/slurm-local.mjs', import.meta.url));
 const SLURM_DIR = process.env.SILL_SLURM_DIR || '/tmp/sill-slurm';
@@ -92,6 +94,28 @@ describe.skipIf(!runs('slurm'))(`sill batch on a local Slurm${skipNote('slurm')}
     // only the missing task was submitted: the array of the resumed run is the one index
     const submit = readFileSync(join(out, '.sill-run', 'slurm', 'submit.sh'), 'utf8');
     expect(submit).toMatch(/--array=2%2 /);
+  }, 300_000);
+
+  it('the stage runner on Slurm: afterany runs after a failed task, afterok is cancelled by Slurm and recorded so', async () => {
+    const damaged = join(dir, 'in', 'damaged.tif');
+    writeDamaged(damaged);
+    const run = threeStages(join(dir, 'stages'), join(dir, 'in', 'hills.npy'), damaged);
+    const saved = process.env.SLURM_CONF;
+    process.env.SLURM_CONF = SLURM_ENV.SLURM_CONF;
+    try {
+      await new SlurmEngine({ workers: 2, pollSeconds: 0.3 }).run(run);
+    } finally {
+      if (saved === undefined) delete process.env.SLURM_CONF;
+      else process.env.SLURM_CONF = saved;
+    }
+    expect(run.status('first', 0)).toMatchObject({ ok: true, exit: 0 });
+    expect(run.status('first', 1)).toMatchObject({ ok: false, exit: 2 });
+    expect(run.status('anyway', 0)).toMatchObject({ ok: true });
+    // Slurm's own verdict: DependencyParameters=kill_invalid_depend cancels a job whose afterok can never be met
+    expect(run.status('needs-all', 0)).toMatchObject({ ok: false, exit: null });
+    expect(run.status('needs-all', 0)!.error).toMatch(/^Slurm ended the task: CANCELLED/);
+    const submit = readFileSync(join(run.slurmDir, 'submit.sh'), 'utf8');
+    expect(submit).toMatch(/--dependency=afterok:\$\{job_first\}/);
   }, 300_000);
 
   it('--dry-run only writes the scripts and submit.sh, which a site can run as they are', () => {
