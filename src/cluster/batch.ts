@@ -236,7 +236,7 @@ function writeInto(dir: string, name: string, text: string): void {
   renameSync(tmp, join(dir, name));
 }
 
-/** The catalogue stage: write DIR/catalogue.csv and .json, and remove the folders of an earlier batch this one does not write. */
+/** The catalogue stage: write DIR/catalogue.csv and .json, and remove the folders of an earlier batch that this one did not write anew. */
 export function writeCatalogue(runDir: string): Catalogue {
   const run = new RunFolder(runDir);
   const spec = run.run<BatchSpec>();
@@ -245,7 +245,10 @@ export function writeCatalogue(runDir: string): Catalogue {
   const c = buildCatalogue(run, b);
   writeInto(b.out, 'catalogue.json', catalogueJson(c));
   writeInto(b.out, 'catalogue.csv', catalogueCsv(c));
-  for (const stem of b.previous) {
+  // DIR holds this batch's results only: an earlier batch's folders of inputs this one does not
+  // have, and of inputs that failed this time (their old results would contradict the catalogue), go
+  const stale = [...b.previous, ...c.rows.filter((r) => r.status !== 'ok').map((r) => r.folder)];
+  for (const stem of stale) {
     const p = join(b.out, stem);
     if (existsSync(join(p, '.sill-manifest.json'))) rmSync(p, { recursive: true, force: true });
   }

@@ -138,6 +138,12 @@ describe('sill batch, local pool', () => {
     // the earlier batch's folder that this one does not write is gone with the new catalogue
     expect(existsSync(join(out, 'torus1'))).toBe(false);
     expect(readCatalogue(out).inputs).toBe(1);
+    // an input that fails this time loses the earlier batch's folder: DIR holds only what the catalogue describes
+    const failing = sill(['batch', 'survey', files[0], '-o', out, '--boundary', 'periodic', '--min-persistence', '-1']);
+    expect(failing.code).toBe(1);
+    expect(readCatalogue(out).rows[0]).toMatchObject({ status: 'failed', folder: 'torus0' });
+    expect(readCatalogue(out).rows[0].error).toMatch(/--min-persistence must be at least 0/);
+    expect(existsSync(join(out, 'torus0'))).toBe(false);
     writeFileSync(join(out, 'notes.txt'), 'mine\n');
     const r = sill(['batch', 'survey', files[0], '-o', out, '--boundary', 'periodic']);
     expect(r.code).toBe(2);
