@@ -79,6 +79,7 @@ export class LocalEngine implements Engine {
             const i = pending[next++];
             const child = spawnTied(process.execPath, [taskMain(), folder.dir, name, String(i)], { stdio: ['ignore', 'ignore', 'pipe'] });
             running.add(child);
+            report();
             let err = '';
             child.stderr!.on('data', (d: Buffer) => { if (err.length < 4096) err += d.toString('utf8'); });
             const [code, sig] = await new Promise<[number | null, NodeJS.Signals | null]>((res) => {
