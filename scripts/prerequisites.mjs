@@ -65,6 +65,19 @@ export const GROUPS = [
     },
     overridden: () => !!process.env.SILL_PYTHON,
   },
+  {
+    id: 'slurm',
+    what: 'cluster tests against a local single-node Slurm (tests/cluster, scripts/slurm-local.mjs)',
+    packages: ['slurmctld', 'slurmd', 'slurm-client', 'munge'],
+    missing: () => {
+      for (const p of ['/usr/sbin/slurmctld', '/usr/sbin/slurmd', '/usr/bin/sbatch', '/usr/bin/squeue', '/usr/bin/scontrol', '/usr/sbin/munged']) {
+        if (!existsSync(p)) return `no ${p}`;
+      }
+      if (process.getuid && process.getuid() !== 0) return 'the local Slurm needs root';
+      return null;
+    },
+    overridden: () => false,
+  },
 ];
 
 /** True when this process may install Debian packages: Linux with apt-get, as root or with passwordless sudo. */

@@ -47,7 +47,7 @@ if (installable.length > 0 && sudo !== null) {
 
 /** The closing line: every group ran, or which did not and the command that would enable them. */
 function summary() {
-  if (missing.length === 0) return { line: 'every test group ran (browser, GDAL, scikit-image, NumPy checks included)', ok: true };
+  if (missing.length === 0) return { line: 'every test group ran (browser, GDAL, scikit-image, NumPy and Slurm checks included)', ok: true };
   const pkgs = [...new Set(missing.flatMap((g) => g.packages))].join(' ');
   const what = missing.map((g) => `${g.id} — ${g.what} (${g.missing()})`).join('; ');
   const fix = missing.some((g) => g.overridden())

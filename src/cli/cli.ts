@@ -13,6 +13,7 @@ import { registerDemo } from './demo.js';
 import { registerBarriers } from './barriers.js';
 import { registerPonds } from './ponds.js';
 import { registerRunoff } from './runoff.js';
+import { registerBatch } from './batch.js';
 
 export function buildProgram(): Command {
   const program = new Command();
@@ -27,6 +28,7 @@ export function buildProgram(): Command {
   registerPonds(program);
   registerRunoff(program);
   registerDemo(program);
+  registerBatch(program);
   for (const c of program.commands) c.exitOverride().configureOutput(errorOutput(`sill ${c.name()}`));
   return program;
 }

@@ -298,6 +298,23 @@ function applyJournal(dir: string, journal: Journal): void {
   unlinkSync(join(dir, JOURNAL));
 }
 
+/** Remove staging folders of runs that died (killed) in `where` (a batch does this in its folder when it ends). */
+export function removeStaleStaging(where: string): void {
+  let entries: string[];
+  try {
+    entries = readdirSync(where);
+  } catch {
+    return;
+  }
+  for (const n of entries) {
+    // an intent record cut short before its rename, as earlier builds of sill left it beside the
+    // results (now its temporary is inside the staging folder and goes with it)
+    const tmp = /^\.sill-journal\.json\.(\d+)\.tmp$/.exec(n);
+    if (!(n.startsWith(STAGING_PREFIX) && isStale(n)) && !(tmp && isStale(`${STAGING_PREFIX}${HOST}-${tmp[1]}-0`))) continue;
+    try { rmSync(join(where, n), { recursive: true, force: true }); } catch { /* not ours to remove (permissions): leave it */ }
+  }
+}
+
 type Mode = 'create' | 'exchange' | 'journal';
 
 /** Fault injection for the crash tests (tests/cli/crash.test.ts): SILL_CRASH_AT=<step> kills this process with SIGKILL at that step of a commit. */
@@ -443,21 +460,8 @@ export class OutputFolder {
     rmdirSync(p);
   }
 
-  /** Remove staging folders of runs that died (killed) in `where`. */
   private cleanStale(where: string): void {
-    let entries: string[];
-    try {
-      entries = readdirSync(where);
-    } catch {
-      return;
-    }
-    for (const n of entries) {
-      // an intent record cut short before its rename, as earlier builds of sill left it beside the
-      // results (now its temporary is inside the staging folder and goes with it)
-      const tmp = /^\.sill-journal\.json\.(\d+)\.tmp$/.exec(n);
-      if (!(n.startsWith(STAGING_PREFIX) && isStale(n)) && !(tmp && isStale(`${STAGING_PREFIX}${HOST}-${tmp[1]}-0`))) continue;
-      try { rmSync(join(where, n), { recursive: true, force: true }); } catch { /* not ours to remove (permissions): leave it */ }
-    }
+    removeStaleStaging(where);
   }
 
   /** An input inside DIR that a result would overwrite, or that this run would remove, is refused. */
