@@ -90,7 +90,7 @@ export interface PondsUnits {
  * latitudes leave ±90° or whose transform is rotated, unit names it does not know, and units
  * that contradict the CRS.
  */
-export function cellAreas(grid: Grid, opts: UnitOptions = {}, source = 'input'): CellAreas {
+export function cellAreas(grid: Pick<Grid, 'transform' | 'width' | 'height' | 'crs'>, opts: UnitOptions = {}, source = 'input'): CellAreas {
   const notes: string[] = [];
   const [x0, dx, rx, y0, ry, dy] = grid.transform;
   const H = grid.height, W = grid.width;

@@ -66,7 +66,8 @@ export interface PondsResult {
   };
 }
 
-function checkThreshold(name: string, v: number | undefined): number {
+/** A filter threshold from the options: a number ≥ 0 (0 when not given). */
+export function checkThreshold(name: string, v: number | undefined): number {
   if (v === undefined) return 0;
   if (!Number.isFinite(v) || v < 0) throw new InputError(`${name} must be a number ≥ 0, got ${v}`);
   return v;

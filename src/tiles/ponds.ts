@@ -1,0 +1,180 @@
+/**
+ * `ponds` on a mosaic, tile by tile (docs/tiles.md, "Method"): pass 1 sweeps each owned window
+ * on its own and keeps what its perimeter needs; the seam merge builds the global sweep tree;
+ * pass 2 sweeps each window again for its cells' global labels and its share of the node sums;
+ * the reduce adds the shares; buildHierarchy (unchanged) makes the depressions; the rasters are
+ * made window by window. The result equals `ponds()` on the same cells as one grid: the same
+ * tree, node numbers, depressions and rasters; the sums are added in another order, so volumes
+ * may differ from the single grid's in the last bits (relative difference ≤ 1e-12).
+ *
+ * Memory: one window's cells at a time per worker, plus the summaries (they grow with the
+ * windows' perimeters and with the number of nodes) and the labels of the windows between
+ * pass 2 and the rasters (in a LabelStore: memory, or files in a run folder).
+ */
+import { InputError } from '../errors.js';
+import { cellAreas, type CellAreas, type UnitOptions } from '../hydro/areas.js';
+import { SUM_STRIDE, CELLS, SUMA, SUMAZ, TIEN, TIEA, SPILLZ, PITZ, type DepressionSweep, type NodeSums } from '../hydro/sweep.js';
+import { buildHierarchy, type Hierarchy, type HierarchyFilters } from '../hydro/hierarchy.js';
+import { pondRasters, type PondRasters } from '../hydro/rasters.js';
+import { checkThreshold } from '../hydro/ponds.js';
+import type { Connectivity } from '../surface/complex.js';
+import type { CellWindow, Mosaic, MosaicTile } from './mosaic.js';
+import { readWindowCells } from './windows.js';
+import { pass1, type WindowSummary } from './pass1.js';
+import { seamMerge, type GlobalTree } from './merge.js';
+import { pass2, SHARE_STRIDE, type WindowShare } from './pass2.js';
+
+/** Where the windows' global labels wait between pass 2 and the rasters. */
+export interface LabelStore {
+  put(window: number, label: Int32Array): Promise<void>;
+  /** The labels put for `window`; the store may forget them afterwards. */
+  take(window: number): Promise<Int32Array>;
+}
+
+/** Labels kept in memory (tests, small mosaics). */
+export function memoryLabelStore(): LabelStore {
+  const m = new Map<number, Int32Array>();
+  return {
+    put: async (t, l) => { m.set(t, l); },
+    take: async (t) => {
+      const l = m.get(t);
+      if (l === undefined) throw new Error(`internal: no labels stored for window ${t}`);
+      m.delete(t);
+      return l;
+    },
+  };
+}
+
+export interface TiledPondsOptions extends UnitOptions, HierarchyFilters {
+  connectivity?: Connectivity;
+  nodataOutlet?: boolean;
+  minPersistence?: number;
+  fillOnlyBelow?: number;
+  /** Called at the start of each stage, and after each window (`done` of `total`). */
+  onStage?: (stage: string, done?: number, total?: number) => void;
+  /** Receives each tile's filled, depth and label rasters (its owned window) as they are made. */
+  onRasters?: (tile: MosaicTile, own: CellWindow, rasters: PondRasters) => void | Promise<void>;
+  labels?: LabelStore;
+}
+
+export interface TiledPondsResult {
+  tree: GlobalTree;
+  sums: NodeSums;
+  hierarchy: Hierarchy;
+  areas: CellAreas;
+  /** Σ (filled − z)·a, raised cells and their area, over the whole mosaic (as PondRasters has them for one grid). */
+  filledVolume: number;
+  filledCells: number;
+  filledArea: number;
+  /** Perimeter cells of all windows, the bytes of all pass-1 summaries, the events the merge replayed. */
+  seams: { perimeterCells: number; summaryBytes: number; events: number };
+  options: { connectivity: Connectivity; nodataOutlet: boolean; minDepth: number; minArea: number; minVolume: number; minPersistence: number; fillOnlyBelow: number | null };
+}
+
+/** Largest mosaic the tiled path takes: global cell indices are Int32 (as in the hierarchy's columns). */
+export const MAX_MOSAIC_CELLS = 2 ** 31 - 1;
+
+/** The tree of a GlobalTree as the single sweep's DepressionSweep (no per-cell labels). */
+export function treeAsSweep(tree: GlobalTree): DepressionSweep {
+  return {
+    count: tree.count, vertex: tree.vertex, birth: tree.birth, parent: tree.parent, spill: tree.spill, entry: tree.entry, to: tree.to,
+    label: new Int32Array(0), spare: { buffer: new ArrayBuffer(0), byteOffset: 0, byteLength: 0 },
+  };
+}
+
+/** Add the windows' shares (in window order, so the result is the same for any number of workers) and sum up the tree. */
+export function reduceShares(tree: GlobalTree, shares: WindowShare[]): NodeSums {
+  const K = tree.count, R = SUM_STRIDE;
+  const rec = new Float64Array(R * K);
+  for (let k = 1; k < K; k++) { rec[R * k + SPILLZ] = tree.spillZ[k]; rec[R * k + PITZ] = tree.birthZ[k]; }
+  for (const sh of shares) {
+    for (let j = 0; j < sh.node.length; j++) {
+      const b = R * sh.node[j], s = SHARE_STRIDE * j;
+      rec[b + CELLS] += sh.rec[s + CELLS]; rec[b + SUMA] += sh.rec[s + SUMA]; rec[b + SUMAZ] += sh.rec[s + SUMAZ];
+      rec[b + TIEN] += sh.rec[s + TIEN]; rec[b + TIEA] += sh.rec[s + TIEA];
+    }
+  }
+  // up the tree (children have smaller numbers than their parents), as the single sweep does
+  for (let k = 1; k < K; k++) {
+    const p = tree.parent[k];
+    if (p <= 0) continue;
+    const b = R * k, q = R * p;
+    rec[q + CELLS] += rec[b + CELLS]; rec[q + SUMA] += rec[b + SUMA]; rec[q + SUMAZ] += rec[b + SUMAZ];
+    if (rec[b + SPILLZ] === rec[q + SPILLZ]) { rec[q + TIEN] += rec[b + TIEN]; rec[q + TIEA] += rec[b + TIEA]; }
+  }
+  return { z0: tree.z0, rec };
+}
+
+export async function pondsTiled(mosaic: Mosaic, opts: TiledPondsOptions = {}): Promise<TiledPondsResult> {
+  const source = mosaic.source;
+  if (mosaic.width * mosaic.height > MAX_MOSAIC_CELLS) {
+    throw new InputError(`${source}: the mosaic has ${mosaic.width}×${mosaic.height} cells, more than the ${MAX_MOSAIC_CELLS} sill indexes; analyse it in parts`);
+  }
+  const connectivity = opts.connectivity ?? 8, nodataOutlet = opts.nodataOutlet ?? true;
+  if (connectivity !== 4 && connectivity !== 6 && connectivity !== 8) throw new InputError(`connectivity must be 4, 6 or 8, got ${connectivity}`);
+  const minDepth = checkThreshold('--min-depth', opts.minDepth);
+  const minArea = checkThreshold('--min-area', opts.minArea);
+  const minVolume = checkThreshold('--min-volume', opts.minVolume);
+  const minPersistence = checkThreshold('--min-persistence', opts.minPersistence);
+  if (opts.fillOnlyBelow !== undefined && !(opts.fillOnlyBelow > 0 && Number.isFinite(opts.fillOnlyBelow))) {
+    throw new InputError(`--fill-only-below must be a volume > 0, got ${opts.fillOnlyBelow}`);
+  }
+  const areas = cellAreas({ transform: mosaic.transform, width: mosaic.width, height: mosaic.height, crs: mosaic.crs }, opts, source);
+  const stage = opts.onStage ?? (() => undefined);
+  const labels = opts.labels ?? memoryLabelStore();
+  const tiles = mosaic.tiles.filter((t) => t.own.width > 0 && t.own.height > 0);
+  const T = tiles.length;
+
+  stage('pass 1: windows', 0, T);
+  const summaries: WindowSummary[] = [];
+  let perimeterCells = 0, zmin = Infinity, zmax = -Infinity;
+  for (let t = 0; t < T; t++) {
+    const cells = await readWindowCells(mosaic, tiles[t].own, connectivity, nodataOutlet);
+    const s = pass1(cells, connectivity, nodataOutlet);
+    summaries.push(s);
+    perimeterCells += s.perimeterCells;
+    if (s.zmin < zmin) zmin = s.zmin;
+    if (s.zmax > zmax) zmax = s.zmax;
+    stage('pass 1: windows', t + 1, T);
+  }
+  if (zmin === Infinity) throw new InputError(`${source}: every cell is nodata; check the nodata value (--nodata) and the band (--band)`);
+  if (zmin === zmax) throw new InputError(`${source}: every valid cell has the same value (${zmin}); a flat surface has no depressions — check the band and the nodata value`);
+
+  stage('seam merge');
+  const tree = seamMerge(summaries);
+
+  stage('pass 2: windows', 0, T);
+  const shares: WindowShare[] = [];
+  for (let t = 0; t < T; t++) {
+    const cells = await readWindowCells(mosaic, tiles[t].own, connectivity, nodataOutlet);
+    const r = pass2(cells, connectivity, nodataOutlet, summaries[t], tree.windowMap[t], tree, areas.rowArea, areas.uniform);
+    shares.push(r.share);
+    await labels.put(t, r.label);
+    stage('pass 2: windows', t + 1, T);
+  }
+  stage('reduce and depression hierarchy');
+  const sums = reduceShares(tree, shares);
+  const areaScale = areas.uniform ? areas.rowArea[0] : 1;
+  const hierarchy = buildHierarchy(treeAsSweep(tree), sums, {
+    minDepth: Math.max(minDepth, minPersistence), minArea, minVolume,
+    areaScale, zFactor: areas.zFactor, fillOnlyBelow: opts.fillOnlyBelow,
+  });
+
+  stage('filled, depth and label rasters', 0, T);
+  let filledVolume = 0, filledCells = 0, filledArea = 0;
+  for (let t = 0; t < T; t++) {
+    const own = tiles[t].own;
+    const values = await mosaic.readWindow(own);
+    for (let i = 0; i < values.length; i++) if (values[i] === 0) values[i] = 0; // −0 → 0, as Grid does
+    const label = await labels.take(t);
+    const rs = pondRasters(values, own.width, label, hierarchy, areas.rowArea.subarray(own.row0, own.row0 + own.height));
+    filledVolume += rs.filledVolume; filledCells += rs.filledCells; filledArea += rs.filledArea;
+    if (opts.onRasters) await opts.onRasters(tiles[t], own, rs);
+    stage('filled, depth and label rasters', t + 1, T);
+  }
+  return {
+    tree, sums, hierarchy, areas, filledVolume, filledCells, filledArea,
+    seams: { perimeterCells, summaryBytes: tree.summaryBytes, events: tree.events },
+    options: { connectivity, nodataOutlet, minDepth, minArea, minVolume, minPersistence, fillOnlyBelow: opts.fillOnlyBelow ?? null },
+  };
+}
