@@ -26,10 +26,9 @@ export function gridMosaic(grid: Grid, cuts: TileCut[], source = 'grid in memory
       if (w.col0 < 0 || w.row0 < 0 || w.col0 + w.width > W || w.row0 + w.height > H) throw new RangeError(`window ${JSON.stringify(w)} leaves the ${W}×${H} mosaic`);
       const out = f64 ? new Float64Array(w.width * w.height) : new Float32Array(w.width * w.height);
       for (let r = 0; r < w.height; r++) {
-        for (let c = 0; c < w.width; c++) {
-          const i = (w.row0 + r) * W + w.col0 + c;
-          out[r * w.width + c] = covered[i] ? grid.values[i] : NaN;
-        }
+        const i0 = (w.row0 + r) * W + w.col0;
+        out.set(grid.values.subarray(i0, i0 + w.width), r * w.width);
+        for (let c = 0; c < w.width; c++) if (!covered[i0 + c]) out[r * w.width + c] = NaN;
       }
       return out;
     },

@@ -12,7 +12,7 @@
 import { CELLS, SUMA, SUMAZ, TIEN, TIEA } from '../hydro/sweep.js';
 import type { Connectivity } from '../surface/complex.js';
 import type { WindowCells } from './windows.js';
-import { sweepWindow, type WindowSummary } from './pass1.js';
+import { sweepWindow } from './pass1.js';
 import type { GlobalTree } from './merge.js';
 
 /** Numbers per node in a window's share of the sums: CELLS, SUMA, SUMAZ, TIEN, TIEA (the offsets of src/hydro/sweep.ts). */
@@ -31,16 +31,20 @@ export interface Pass2Result {
   share: WindowShare;
 }
 
+/** What pass 2 needs of the global tree (a worker gets these once). */
+export type TreeWalk = Pick<GlobalTree, 'parent' | 'spill' | 'spillZ' | 'z0'>;
+
 /**
+ * @param prov    the window's provisional flags (from its pass-1 summary)
+ * @param map     the window's local node → global node map (GlobalTree.windowMap)
  * @param rowArea weight of each mosaic row (ignored when `uniform`: every cell weighs 1)
  */
-export function pass2(cells: WindowCells, conn: Connectivity, nodataOutlet: boolean, summary: WindowSummary, map: Int32Array, tree: GlobalTree, rowArea: Float64Array, uniform: boolean): Pass2Result {
+export function pass2(cells: WindowCells, conn: Connectivity, nodataOutlet: boolean, prov: Uint8Array, map: Int32Array, tree: TreeWalk, rowArea: Float64Array, uniform: boolean): Pass2Result {
   const { own, values, mosaicWidth: MW } = cells;
   const w = own.width, n = w * own.height;
   const { sw, order } = sweepWindow(cells, conn, nodataOutlet);
   const K = sw.count, label = sw.label;
-  if (K !== summary.count) throw new Error(`internal: the second sweep of window (${own.col0}, ${own.row0}) found ${K} nodes, the first ${summary.count}`);
-  const prov = summary.prov;
+  if (K !== prov.length) throw new Error(`internal: the second sweep of window (${own.col0}, ${own.row0}) found ${K} nodes, the first ${prov.length}`);
   const gParent = tree.parent, gSpill = tree.spill, gSpillZ = tree.spillZ;
 
   // slots: 1..K−1 the local nodes (final ones), then one per (provisional node, global node) met

@@ -22,7 +22,9 @@ import type { CellWindow, Mosaic, MosaicTile } from './mosaic.js';
 import { readWindowCells } from './windows.js';
 import { pass1, type WindowSummary } from './pass1.js';
 import { seamMerge, type GlobalTree } from './merge.js';
-import { pass2, SHARE_STRIDE, type WindowShare } from './pass2.js';
+import { pass2, SHARE_STRIDE, type WindowShare, type Pass2Result } from './pass2.js';
+import { TilePool } from './pool.js';
+import { availableParallelism } from 'node:os';
 
 /** Where the windows' global labels wait between pass 2 and the rasters. */
 export interface LabelStore {
@@ -55,6 +57,8 @@ export interface TiledPondsOptions extends UnitOptions, HierarchyFilters {
   /** Receives each tile's filled, depth and label rasters (its owned window) as they are made. */
   onRasters?: (tile: MosaicTile, own: CellWindow, rasters: PondRasters) => void | Promise<void>;
   labels?: LabelStore;
+  /** Worker threads for the windows' passes (default: the number of cores); 1 runs them on this thread. Results are the same for every number. */
+  workers?: number;
 }
 
 export interface TiledPondsResult {
@@ -69,6 +73,21 @@ export interface TiledPondsResult {
   /** Perimeter cells of all windows, the bytes of all pass-1 summaries, the events the merge replayed. */
   seams: { perimeterCells: number; summaryBytes: number; events: number };
   options: { connectivity: Connectivity; nodataOutlet: boolean; minDepth: number; minArea: number; minVolume: number; minPersistence: number; fillOnlyBelow: number | null };
+}
+
+/** Run `fn` for windows 0..count−1, at most `lanes` at a time; the results by window index. */
+async function eachWindow<T>(count: number, lanes: number, fn: (t: number) => Promise<T> | T, done: (n: number) => void): Promise<T[]> {
+  const out = new Array<T>(count);
+  let next = 0, finished = 0;
+  const lane = async (): Promise<void> => {
+    while (next < count) {
+      const t = next++;
+      out[t] = await fn(t);
+      done(++finished);
+    }
+  };
+  await Promise.all(Array.from({ length: Math.min(lanes, count) }, lane));
+  return out;
 }
 
 /** Largest mosaic the tiled path takes: global cell indices are Int32 (as in the hierarchy's columns). */
@@ -125,32 +144,44 @@ export async function pondsTiled(mosaic: Mosaic, opts: TiledPondsOptions = {}): 
   const tiles = mosaic.tiles.filter((t) => t.own.width > 0 && t.own.height > 0);
   const T = tiles.length;
 
-  stage('pass 1: windows', 0, T);
-  const summaries: WindowSummary[] = [];
-  let perimeterCells = 0, zmin = Infinity, zmax = -Infinity;
-  for (let t = 0; t < T; t++) {
-    const cells = await readWindowCells(mosaic, tiles[t].own, connectivity, nodataOutlet);
-    const s = pass1(cells, connectivity, nodataOutlet);
-    summaries.push(s);
-    perimeterCells += s.perimeterCells;
-    if (s.zmin < zmin) zmin = s.zmin;
-    if (s.zmax > zmax) zmax = s.zmax;
-    stage('pass 1: windows', t + 1, T);
-  }
-  if (zmin === Infinity) throw new InputError(`${source}: every cell is nodata; check the nodata value (--nodata) and the band (--band)`);
-  if (zmin === zmax) throw new InputError(`${source}: every valid cell has the same value (${zmin}); a flat surface has no depressions — check the band and the nodata value`);
+  const workers = opts.workers ?? availableParallelism();
+  if (!(Number.isInteger(workers) && workers >= 1)) throw new InputError(`--workers must be a whole number ≥ 1, got ${workers}`);
+  const lanes = Math.min(workers, Math.max(1, T));
+  const pool = lanes > 1 ? new TilePool(lanes) : null;
+  let summaries: WindowSummary[], shares: WindowShare[], tree: GlobalTree;
+  let perimeterCells = 0;
+  try {
+    if (pool) await pool.broadcast('setup', { setup: { conn: connectivity, nodataOutlet, rowArea: areas.rowArea, uniform: areas.uniform } });
+    stage('pass 1: windows', 0, T);
+    summaries = await eachWindow(T, lanes, async (t) => {
+      const cells = await readWindowCells(mosaic, tiles[t].own, connectivity, nodataOutlet);
+      return pool ? pool.run<WindowSummary>('pass1', { cells }) : pass1(cells, connectivity, nodataOutlet);
+    }, (done) => stage('pass 1: windows', done, T));
+    let zmin = Infinity, zmax = -Infinity;
+    for (const s of summaries) {
+      perimeterCells += s.perimeterCells;
+      if (s.zmin < zmin) zmin = s.zmin;
+      if (s.zmax > zmax) zmax = s.zmax;
+    }
+    if (zmin === Infinity) throw new InputError(`${source}: every cell is nodata; check the nodata value (--nodata) and the band (--band)`);
+    if (zmin === zmax) throw new InputError(`${source}: every valid cell has the same value (${zmin}); a flat surface has no depressions — check the band and the nodata value`);
 
-  stage('seam merge');
-  const tree = seamMerge(summaries);
+    stage('seam merge');
+    tree = seamMerge(summaries);
 
-  stage('pass 2: windows', 0, T);
-  const shares: WindowShare[] = [];
-  for (let t = 0; t < T; t++) {
-    const cells = await readWindowCells(mosaic, tiles[t].own, connectivity, nodataOutlet);
-    const r = pass2(cells, connectivity, nodataOutlet, summaries[t], tree.windowMap[t], tree, areas.rowArea, areas.uniform);
-    shares.push(r.share);
-    await labels.put(t, r.label);
-    stage('pass 2: windows', t + 1, T);
+    if (pool) await pool.broadcast('tree', { tree: { parent: tree.parent, spill: tree.spill, spillZ: tree.spillZ, z0: tree.z0 } });
+    stage('pass 2: windows', 0, T);
+    shares = await eachWindow(T, lanes, async (t) => {
+      const cells = await readWindowCells(mosaic, tiles[t].own, connectivity, nodataOutlet);
+      const prov = summaries[t].prov, map = tree.windowMap[t];
+      const r = pool
+        ? await pool.run<Pass2Result>('pass2', { cells, prov, map })
+        : pass2(cells, connectivity, nodataOutlet, prov, map, tree, areas.rowArea, areas.uniform);
+      await labels.put(t, r.label);
+      return r.share;
+    }, (done) => stage('pass 2: windows', done, T));
+  } finally {
+    if (pool) await pool.close();
   }
   stage('reduce and depression hierarchy');
   const sums = reduceShares(tree, shares);

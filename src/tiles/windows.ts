@@ -54,18 +54,21 @@ export async function readWindowCells(mosaic: Mosaic, own: CellWindow, conn: Con
   const dc0 = own.col0 - hc0, dr0 = own.row0 - hr0;
   for (let r = 0; r < h; r++) values.set(halo.subarray((r + dr0) * hw + dc0, (r + dr0) * hw + dc0 + w), r * w);
   const outlet = new Uint8Array(n), perimeter = new Uint8Array(n);
-  const ring = sublevelOffsets(conn);
+  const ring = sublevelOffsets(conn), rs = ring.length;
+  const dc = Int32Array.from(ring, (o) => o[0]), dr = Int32Array.from(ring, (o) => o[1]);
   let perimeterCells = 0, hasNodata = false;
+  for (let i = 0; i < halo.length; i++) if (halo[i] !== halo[i]) { hasNodata = true; break; }
   for (let r = 0, i = 0; r < h; r++) {
     const gr = own.row0 + r;
     for (let c = 0; c < w; c++, i++) {
-      if (values[i] !== values[i]) { hasNodata = true; continue; }
-      const gc = own.col0 + c;
-      // only cells on the window's edge or next to nodata can touch an outlet or a seam
+      if (values[i] !== values[i]) continue;
+      // a cell inside the window touches an outlet only through nodata, and no seam at all
       const inner = c > 0 && c < w - 1 && r > 0 && r < h - 1;
+      if (inner && !hasNodata) continue;
+      const gc = own.col0 + c;
       let o = 0, p = 0;
-      for (let q = 0; q < ring.length; q++) {
-        const nc = gc + ring[q][0], nr = gr + ring[q][1];
+      for (let q = 0; q < rs; q++) {
+        const nc = gc + dc[q], nr = gr + dr[q];
         if (nc < 0 || nc >= W || nr < 0 || nr >= H) { o = 1; continue; }
         const z = halo[(nr - hr0) * hw + (nc - hc0)];
         if (z !== z) { if (nodataOutlet) o = 1; continue; }
