@@ -25,6 +25,8 @@ import { seamMerge, type GlobalTree } from './merge.js';
 import { pass2, SHARE_STRIDE, type WindowShare, type Pass2Result } from './pass2.js';
 import { TilePool } from './pool.js';
 import { availableParallelism } from 'node:os';
+import { readFile, writeFile, rm } from 'node:fs/promises';
+import { join } from 'node:path';
 
 /** Where the windows' global labels wait between pass 2 and the rasters. */
 export interface LabelStore {
@@ -43,6 +45,24 @@ export function memoryLabelStore(): LabelStore {
       if (l === undefined) throw new Error(`internal: no labels stored for window ${t}`);
       m.delete(t);
       return l;
+    },
+  };
+}
+
+/**
+ * Labels in files of folder `dir` (one raw Int32 file per window, removed when taken): memory
+ * stays at the windows in flight however large the mosaic.
+ */
+export function folderLabelStore(dir: string): LabelStore {
+  const file = (t: number): string => join(dir, `labels-${t}.i32`);
+  return {
+    put: async (t, l) => { await writeFile(file(t), new Uint8Array(l.buffer, l.byteOffset, l.byteLength)); },
+    take: async (t) => {
+      const b = await readFile(file(t));
+      await rm(file(t));
+      const out = new Int32Array(b.byteLength / 4);
+      new Uint8Array(out.buffer).set(b);
+      return out;
     },
   };
 }

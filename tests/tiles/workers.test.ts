@@ -6,18 +6,21 @@
 import { describe, it, expect } from 'vitest';
 import { Grid } from '../../src/surface/grid.js';
 import { gridMosaic } from '../../src/tiles/memory.js';
-import { pondsTiled } from '../../src/tiles/ponds.js';
+import { pondsTiled, folderLabelStore, type LabelStore } from '../../src/tiles/ponds.js';
+import { mkdtempSync, readdirSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
 import { tileWorkerFile } from '../../src/tiles/pool.js';
 import { randomGrid } from '../hydro/helpers.js';
 import { guillotine, tilesOf } from './helpers.js';
 
-async function run(g: Grid, seed: number, workers: number): Promise<Buffer> {
+async function run(g: Grid, seed: number, workers: number, labels?: LabelStore): Promise<Buffer> {
   const mosaic = gridMosaic(g, tilesOf(guillotine(g.width, g.height, seed, 9), seed % 2 === 0));
   const parts: Buffer[] = [];
   const b = (a: ArrayBufferView): void => { parts.push(Buffer.from(a.buffer, a.byteOffset, a.byteLength)); };
   const rasters: Buffer[] = [];
   const r = await pondsTiled(mosaic, {
-    workers, connectivity: 8,
+    workers, connectivity: 8, labels,
     onRasters: (tile, _own, rs) => { rasters[mosaic.tiles.indexOf(tile)] = Buffer.concat([Buffer.from(rs.filled.buffer.slice(0)), Buffer.from(rs.labels.buffer.slice(0))]); },
   });
   for (const a of [r.tree.vertex, r.tree.parent, r.tree.spill, r.tree.entry, r.tree.to, r.sums.rec, r.hierarchy.volume, r.hierarchy.area, r.hierarchy.pit]) b(a);
@@ -36,6 +39,12 @@ describe('tile passes on worker threads', () => {
       const one = await run(g, seed, 1);
       expect((await run(g, seed, 2)).equals(one)).toBe(true);
       expect((await run(g, seed, 3)).equals(one)).toBe(true);
+      // labels waiting in files instead of memory: the same, and no file left
+      const dir = mkdtempSync(join(tmpdir(), 'sill-tiles-'));
+      try {
+        expect((await run(g, seed, 2, folderLabelStore(dir))).equals(one)).toBe(true);
+        expect(readdirSync(dir)).toEqual([]);
+      } finally { rmSync(dir, { recursive: true, force: true }); }
     }
   });
 });
