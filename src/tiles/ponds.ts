@@ -17,9 +17,11 @@ import { SUM_STRIDE, CELLS, SUMA, SUMAZ, TIEN, TIEA, SPILLZ, PITZ, type Depressi
 import { buildHierarchy, type Hierarchy, type HierarchyFilters } from '../hydro/hierarchy.js';
 import { pondRasters, type PondRasters } from '../hydro/rasters.js';
 import { checkThreshold } from '../hydro/ponds.js';
+import type { PondsEuler } from '../hydro/common.js';
 import type { Connectivity } from '../surface/complex.js';
 import type { CellWindow, Mosaic, MosaicTile } from './mosaic.js';
 import { readWindowCells } from './windows.js';
+import type { WindowEuler } from './euler.js';
 import { pass1, type WindowSummary } from './pass1.js';
 import { seamMerge, type GlobalTree } from './merge.js';
 import { pass2, SHARE_STRIDE, type WindowShare, type Pass2Result } from './pass2.js';
@@ -77,6 +79,8 @@ export interface TiledPondsOptions extends UnitOptions, HierarchyFilters {
   /** Receives each tile's filled, depth and label rasters (its owned window) as they are made. */
   onRasters?: (tile: MosaicTile, own: CellWindow, rasters: PondRasters) => void | Promise<void>;
   labels?: LabelStore;
+  /** Run the Euler self-check (critical points vs. simplex count). Default true. */
+  euler?: boolean;
   /** Worker threads for the windows' passes (default: the number of cores); 1 runs them on this thread. Results are the same for every number. */
   workers?: number;
 }
@@ -86,6 +90,10 @@ export interface TiledPondsResult {
   sums: NodeSums;
   hierarchy: Hierarchy;
   areas: CellAreas;
+  /** The Euler self-check, as `ponds()` reports it for one grid (null when not asked for). */
+  euler: PondsEuler | null;
+  /** Pits found by the sweep (nodes created at a cell with no lower neighbour). */
+  sweepPits: number;
   /** Σ (filled − z)·a, raised cells and their area, over the whole mosaic (as PondRasters has them for one grid). */
   filledVolume: number;
   filledCells: number;
@@ -108,6 +116,20 @@ async function eachWindow<T>(count: number, lanes: number, fn: (t: number) => Pr
   };
   await Promise.all(Array.from({ length: Math.min(lanes, count) }, lane));
   return out;
+}
+
+/** The Euler block of the mosaic from the windows' parts (in window order). */
+function eulerOf(parts: WindowEuler[], conn: Connectivity): PondsEuler {
+  let pits = 1, passes = 0, peaks = 0; // the outside vertex ω is a pit
+  const dims = new Array<number>(conn === 8 ? 4 : 3).fill(0);
+  for (const e of parts) {
+    pits += e.pits; passes += e.passes; peaks += e.peaks;
+    for (let d = 0; d < dims.length; d++) dims[d] += e.simplices[d];
+  }
+  dims[0] += 1; // ω
+  let chi = 0;
+  dims.forEach((c, d) => { chi += d % 2 === 0 ? c : -c; });
+  return { characteristic: chi, pits, passes, peaks, holds: pits - passes + peaks === chi, outsidePit: true, simplices: dims };
 }
 
 /** Largest mosaic the tiled path takes: global cell indices are Int32 (as in the hierarchy's columns). */
@@ -169,12 +191,16 @@ export async function pondsTiled(mosaic: Mosaic, opts: TiledPondsOptions = {}): 
   const lanes = Math.min(workers, Math.max(1, T));
   const pool = lanes > 1 ? new TilePool(lanes) : null;
   let summaries: WindowSummary[], shares: WindowShare[], tree: GlobalTree;
-  let perimeterCells = 0;
+  let perimeterCells = 0, euler: PondsEuler | null = null;
   try {
     if (pool) await pool.broadcast('setup', { setup: { conn: connectivity, nodataOutlet, rowArea: areas.rowArea, uniform: areas.uniform } });
     stage('pass 1: windows', 0, T);
+    const owns = opts.euler === false ? undefined : tiles.map((t) => t.own);
+    const eulers: WindowEuler[] = [];
     summaries = await eachWindow(T, lanes, async (t) => {
-      const cells = await readWindowCells(mosaic, tiles[t].own, connectivity, nodataOutlet);
+      const cells = await readWindowCells(mosaic, tiles[t].own, connectivity, nodataOutlet, owns);
+      if (cells.euler) eulers[t] = cells.euler;
+      cells.euler = undefined;
       return pool ? pool.run<WindowSummary>('pass1', { cells }) : pass1(cells, connectivity, nodataOutlet);
     }, (done) => stage('pass 1: windows', done, T));
     let zmin = Infinity, zmax = -Infinity;
@@ -186,6 +212,7 @@ export async function pondsTiled(mosaic: Mosaic, opts: TiledPondsOptions = {}): 
     if (zmin === Infinity) throw new InputError(`${source}: every cell is nodata; check the nodata value (--nodata) and the band (--band)`);
     if (zmin === zmax) throw new InputError(`${source}: every valid cell has the same value (${zmin}); a flat surface has no depressions — check the band and the nodata value`);
 
+    if (owns) euler = eulerOf(eulers, connectivity);
     stage('seam merge');
     tree = seamMerge(summaries);
 
@@ -202,6 +229,11 @@ export async function pondsTiled(mosaic: Mosaic, opts: TiledPondsOptions = {}): 
     }, (done) => stage('pass 2: windows', done, T));
   } finally {
     if (pool) await pool.close();
+  }
+  let sweepPits = 0;
+  for (let k = 1; k < tree.count; k++) if (tree.vertex[k] === tree.birth[k]) sweepPits++;
+  if (euler && euler.pits - 1 !== sweepPits) {
+    throw new Error(`internal: the tiled depression sweep found ${sweepPits} pits but the lower links ${euler.pits - 1}; this is a bug in sill, please report it with the input`);
   }
   stage('reduce and depression hierarchy');
   const sums = reduceShares(tree, shares);
@@ -224,7 +256,7 @@ export async function pondsTiled(mosaic: Mosaic, opts: TiledPondsOptions = {}): 
     stage('filled, depth and label rasters', t + 1, T);
   }
   return {
-    tree, sums, hierarchy, areas, filledVolume, filledCells, filledArea,
+    tree, sums, hierarchy, areas, euler, sweepPits, filledVolume, filledCells, filledArea,
     seams: { perimeterCells, summaryBytes: tree.summaryBytes, events: tree.events },
     options: { connectivity, nodataOutlet, minDepth, minArea, minVolume, minPersistence, fillOnlyBelow: opts.fillOnlyBelow ?? null },
   };

@@ -9,6 +9,7 @@ import { Grid, type GridValues } from '../surface/grid.js';
 import { GridComplex, type Connectivity } from '../surface/complex.js';
 import { sublevelOffsets } from '../hydro/sweep.js';
 import type { CellWindow, Mosaic } from './mosaic.js';
+import { windowEuler, type WindowEuler } from './euler.js';
 
 export interface WindowCells {
   own: CellWindow;
@@ -27,6 +28,8 @@ export interface WindowCells {
    * included), then the column left and the column right (height each); NaN off the mosaic.
    */
   halo: Float64Array;
+  /** The window's part of the Euler check, when asked for. */
+  euler?: WindowEuler;
 }
 
 /** Value of mosaic cell (col, row) in the window's halo ring: undefined when nodata, a gap or off the mosaic. */
@@ -41,8 +44,11 @@ export function haloValue(cells: WindowCells, col: number, row: number): number 
   return z === z ? z : undefined;
 }
 
-/** Read window `own` of the mosaic with its halo and classify its cells. */
-export async function readWindowCells(mosaic: Mosaic, own: CellWindow, conn: Connectivity, nodataOutlet: boolean): Promise<WindowCells> {
+/**
+ * Read window `own` of the mosaic with its halo and classify its cells.
+ * @param owns every owned window of the mosaic: when given, the window's part of the Euler check is taken too
+ */
+export async function readWindowCells(mosaic: Mosaic, own: CellWindow, conn: Connectivity, nodataOutlet: boolean, owns?: CellWindow[]): Promise<WindowCells> {
   const W = mosaic.width, H = mosaic.height;
   const hc0 = Math.max(0, own.col0 - 1), hr0 = Math.max(0, own.row0 - 1);
   const hc1 = Math.min(W, own.col0 + own.width + 1), hr1 = Math.min(H, own.row0 + own.height + 1);
@@ -89,7 +95,8 @@ export async function readWindowCells(mosaic: Mosaic, own: CellWindow, conn: Con
     ringV[2 * (w + 2) + r] = at(own.col0 - 1, own.row0 + r);
     ringV[2 * (w + 2) + h + r] = at(own.col0 + w, own.row0 + r);
   }
-  return { own, values, outlet, perimeter, perimeterCells, hasNodata, mosaicWidth: W, halo: ringV };
+  const euler = owns ? windowEuler(mosaic, own, { col0: hc0, row0: hr0, width: hw, height: hh }, halo, owns, conn, nodataOutlet) : undefined;
+  return { own, values, outlet, perimeter, perimeterCells, hasNodata, mosaicWidth: W, halo: ringV, euler };
 }
 
 /**

@@ -40,7 +40,7 @@ async function check(g0: Grid, conn: 4 | 6 | 8, outlet: boolean, tiling: { seed:
   const mosaic = gridMosaic(g, tilesOf(owns, tiling.shared));
   const opts = { connectivity: conn, nodataOutlet: outlet, workers: 1, ...filters };
   let ref;
-  try { ref = ponds(g, { ...opts, euler: false }); } catch (e) {
+  try { ref = ponds(g, { ...opts, euler: true }); } catch (e) {
     if (!(e instanceof InputError)) throw e;
     await expect(pondsTiled(mosaic, opts)).rejects.toThrow(InputError);
     return;
@@ -57,6 +57,9 @@ async function check(g0: Grid, conn: 4 | 6 | 8, outlet: boolean, tiling: { seed:
     },
   });
   const { sw, sums } = singleSweep(g, conn, outlet);
+  // the Euler check: critical points per owned cell, simplices anchored once across seams and gaps
+  expect(r.euler).toEqual(ref.euler);
+  expect(r.sweepPits).toBe(ref.sweepPits);
   // the sweep tree: numbers, creation cells, pits, parents, spills, entries, pour targets
   expect(r.tree.count).toBe(sw.count);
   expect(Array.from(r.tree.vertex)).toEqual(Array.from(sw.vertex));
