@@ -34,9 +34,10 @@ export interface GlobalTree {
   windowMap: Int32Array[];
   /** Lowest valid value of the mosaic (0 when there is none). */
   z0: number;
-  /** Events replayed and the bytes of the summaries (for the perimeter measurements). */
+  /** Events replayed and the bytes of the summaries, all and of the events alone (for the perimeter measurements). */
   events: number;
   summaryBytes: number;
+  eventBytes: number;
 }
 
 /** Open-addressing hash from a global cell (≥ 0) to an Int32 value. */
@@ -67,10 +68,15 @@ class CellTable {
   }
 }
 
-export function summaryBytes(s: WindowSummary): number {
-  let b = 0;
-  for (const v of Object.values(s)) if (ArrayBuffer.isView(v)) b += v.byteLength;
-  return b;
+/** Bytes of a summary's arrays: all of them, and those of its events (the part that grows with the perimeter; the rest grows with the window's nodes). */
+export function summaryBytes(s: WindowSummary): { all: number; events: number } {
+  let all = 0, events = 0;
+  for (const [k, v] of Object.entries(s)) {
+    if (!ArrayBuffer.isView(v)) continue;
+    all += v.byteLength;
+    if (k.startsWith('ev') || k.startsWith('nbr')) events += v.byteLength;
+  }
+  return { all, events };
 }
 
 export function seamMerge(sums: WindowSummary[]): GlobalTree {
@@ -93,7 +99,7 @@ export function seamMerge(sums: WindowSummary[]): GlobalTree {
     tVertexZ = gf(tVertexZ); tBirthZ = gf(tBirthZ); tSpillZ = gf(tSpillZ);
     const u = new Uint8Array(cap); u.set(tIsNode); tIsNode = u;
   };
-  let z0 = Infinity, events = 0, bytes = 0, perimeterEvents = 0;
+  let z0 = Infinity, events = 0, bytes = 0, evBytes = 0, perimeterEvents = 0;
   for (let t = 0; t < nw; t++) {
     const s = sums[t], b = base[t] - 1;
     for (let k = 1; k < s.count; k++) {
@@ -106,7 +112,8 @@ export function seamMerge(sums: WindowSummary[]): GlobalTree {
     }
     if (s.zmin < z0) z0 = s.zmin;
     events += s.evCell.length;
-    bytes += summaryBytes(s);
+    const sb = summaryBytes(s);
+    bytes += sb.all; evBytes += sb.events;
     for (let i = 0; i < s.evCell.length; i++) perimeterEvents += s.evPerimeter[i];
   }
   if (z0 === Infinity) z0 = 0;
@@ -255,7 +262,7 @@ export function seamMerge(sums: WindowSummary[]): GlobalTree {
     for (let k = 1; k < s.count; k++) m[k] = s.prov[k] ? (g0[b + k] > 0 ? gid[g0[b + k]] : 0) : gid[b + k];
     windowMap.push(m);
   }
-  return { count: K, vertex, vertexZ, birth, birthZ, parent, spill, spillZ, entry, to, windowMap, z0, events, summaryBytes: bytes };
+  return { count: K, vertex, vertexZ, birth, birthZ, parent, spill, spillZ, entry, to, windowMap, z0, events, summaryBytes: bytes, eventBytes: evBytes };
 }
 
 function grow32(a: Int32Array): Int32Array {

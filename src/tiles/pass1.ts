@@ -65,7 +65,7 @@ export function sweepWindow(cells: WindowCells, conn: Connectivity, nodataOutlet
 export function pass1(cells: WindowCells, conn: Connectivity, nodataOutlet: boolean): WindowSummary {
   const { own, values, perimeter, outlet, mosaicWidth: MW } = cells;
   const w = own.width, h = own.height, n = w * h;
-  const { sw, order } = sweepWindow(cells, conn, nodataOutlet);
+  const { sw } = sweepWindow(cells, conn, nodataOutlet);
   const K = sw.count, label = sw.label;
   const g = (i: number): number => (own.row0 + ((i / w) | 0)) * MW + own.col0 + (i % w);
   const gc = (i: number): number => (i >= 0 ? g(i) : i);
@@ -88,14 +88,20 @@ export function pass1(cells: WindowCells, conn: Connectivity, nodataOutlet: bool
   }
   let E = 0;
   for (let i = 0; i < n; i++) E += isEvent[i];
+  // the events in sweep order: few, so sorted on their own (not found by a pass over the order)
+  const evLocal = new Int32Array(E);
+  for (let i = 0, e = 0; i < n; i++) if (isEvent[i]) evLocal[e++] = i;
+  evLocal.sort((a, b) => (values[a] - values[b]) || (a - b));
+
   const ring = sublevelOffsets(conn);
+  const jump = new Int32Array(K);
+  for (let k = 0; k < K; k++) jump[k] = k;
   const evCell = new Int32Array(E), evZ = new Float64Array(E), evOutlet = new Uint8Array(E), evPerimeter = new Uint8Array(E), evLabel = new Int32Array(E);
   const nbrStart = new Int32Array(E + 1);
   let nbrRef: Int32Array = new Int32Array(Math.max(16, 4 * E)), nbrCell: Int32Array = new Int32Array(nbrRef.length);
   let e = 0, t = 0;
-  for (let s = 0; s < order.length && e < E; s++) {
-    const v = order[s];
-    if (!isEvent[v]) continue;
+  for (let s = 0; s < E; s++) {
+    const v = evLocal[s];
     const r = (v / w) | 0, c = v - r * w, z = values[v];
     evCell[e] = g(v); evZ[e] = z; evOutlet[e] = outlet[v]; evPerimeter[e] = perimeter[v]; evLabel[e] = label[v];
     for (let q = 0; q < ring.length; q++) {
@@ -112,9 +118,16 @@ export function pass1(cells: WindowCells, conn: Connectivity, nodataOutlet: bool
       }
       const j = rr * w + cc, y = values[j];
       if (!(y < z || (y === z && j < v))) continue;
-      // the local root of j just before v: up the tree while the node has already spilled
+      // the local root of j just before v: up the tree while the node has already spilled.
+      // Events come in sweep order, so a node's root only moves up: jump[] keeps the last one found.
       let x = label[j];
-      while (x > 0) { const sp = sw.spill[x]; if (sp >= 0 && before(sp, v)) x = sw.parent[x]; else break; }
+      while (x > 0) {
+        const y = jump[x];
+        if (y !== x) { x = y; continue; }
+        const sp = sw.spill[x];
+        if (sp >= 0 && before(sp, v)) { jump[x] = sw.parent[x] > 0 ? sw.parent[x] : 0; x = jump[x]; } else break;
+      }
+      for (let y = label[j]; y > 0 && y !== x;) { const nx = jump[y]; jump[y] = x; y = nx; }
       if (t === nbrRef.length) { nbrRef = growI32(nbrRef); nbrCell = growI32(nbrCell); }
       nbrRef[t] = x; nbrCell[t++] = g(j);
     }

@@ -98,8 +98,8 @@ export interface TiledPondsResult {
   filledVolume: number;
   filledCells: number;
   filledArea: number;
-  /** Perimeter cells of all windows, the bytes of all pass-1 summaries, the events the merge replayed. */
-  seams: { perimeterCells: number; summaryBytes: number; events: number };
+  /** Perimeter cells of all windows, the bytes of all pass-1 summaries and of their events, the events the merge replayed. */
+  seams: { perimeterCells: number; summaryBytes: number; eventBytes: number; events: number };
   options: { connectivity: Connectivity; nodataOutlet: boolean; minDepth: number; minArea: number; minVolume: number; minPersistence: number; fillOnlyBelow: number | null };
 }
 
@@ -215,12 +215,15 @@ export async function pondsTiled(mosaic: Mosaic, opts: TiledPondsOptions = {}): 
     if (owns) euler = eulerOf(eulers, connectivity);
     stage('seam merge');
     tree = seamMerge(summaries);
+    // pass 2 needs only the provisional flags of the summaries
+    const provs = summaries.map((x) => x.prov);
+    summaries = [];
 
     if (pool) await pool.broadcast('tree', { tree: { parent: tree.parent, spill: tree.spill, spillZ: tree.spillZ, z0: tree.z0 } });
     stage('pass 2: windows', 0, T);
     shares = await eachWindow(T, lanes, async (t) => {
       const cells = await readWindowCells(mosaic, tiles[t].own, connectivity, nodataOutlet);
-      const prov = summaries[t].prov, map = tree.windowMap[t];
+      const prov = provs[t], map = tree.windowMap[t];
       const r = pool
         ? await pool.run<Pass2Result>('pass2', { cells, prov, map })
         : pass2(cells, connectivity, nodataOutlet, prov, map, tree, areas.rowArea, areas.uniform);
@@ -257,7 +260,7 @@ export async function pondsTiled(mosaic: Mosaic, opts: TiledPondsOptions = {}): 
   }
   return {
     tree, sums, hierarchy, areas, euler, sweepPits, filledVolume, filledCells, filledArea,
-    seams: { perimeterCells, summaryBytes: tree.summaryBytes, events: tree.events },
+    seams: { perimeterCells, summaryBytes: tree.summaryBytes, eventBytes: tree.eventBytes, events: tree.events },
     options: { connectivity, nodataOutlet, minDepth, minArea, minVolume, minPersistence, fillOnlyBelow: opts.fillOnlyBelow ?? null },
   };
 }
