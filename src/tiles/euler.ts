@@ -14,7 +14,7 @@
  */
 import { Grid, type GridValues } from '../surface/grid.js';
 import { GridComplex, type Connectivity } from '../surface/complex.js';
-import type { CellWindow, Mosaic } from './mosaic.js';
+import type { CellWindow } from './mosaic.js';
 
 /** One window's part of the Euler check: critical points of its cells and P − G simplices of its anchors. */
 export interface WindowEuler {
@@ -31,8 +31,7 @@ const inside = (w: CellWindow, c: number, r: number): boolean => c >= w.col0 && 
  * @param halo  values of window `hw` (the own window grown by one cell, clipped to the mosaic)
  * @param owns  every owned window of the mosaic (to tell gaps from other windows' cells)
  */
-export function windowEuler(mosaic: Mosaic, own: CellWindow, hw: CellWindow, halo: GridValues, owns: CellWindow[], conn: Connectivity, nodataOutlet: boolean): WindowEuler {
-  const W = mosaic.width, H = mosaic.height;
+export function windowEuler(W: number, H: number, own: CellWindow, hw: CellWindow, halo: GridValues, owns: CellWindow[], conn: Connectivity, nodataOutlet: boolean): WindowEuler {
   // critical points of the owned cells
   const grid = new Grid({ width: hw.width, height: hw.height, values: halo.slice() });
   const cx = new GridComplex(grid, conn, 'open', nodataOutlet);

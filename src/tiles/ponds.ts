@@ -20,12 +20,12 @@ import { checkThreshold } from '../hydro/ponds.js';
 import type { PondsEuler } from '../hydro/common.js';
 import type { Connectivity } from '../surface/complex.js';
 import type { CellWindow, Mosaic, MosaicTile } from './mosaic.js';
-import { readWindowCells } from './windows.js';
+import { readHalo, classifyWindow } from './windows.js';
 import type { WindowEuler } from './euler.js';
 import { pass1, type WindowSummary } from './pass1.js';
 import { seamMerge, type GlobalTree } from './merge.js';
 import { pass2, SHARE_STRIDE, type WindowShare, type Pass2Result } from './pass2.js';
-import { TilePool } from './pool.js';
+import { TilePool, transferList } from './pool.js';
 import { availableParallelism } from 'node:os';
 import { readFile, writeFile, rm } from 'node:fs/promises';
 import { join } from 'node:path';
@@ -193,15 +193,20 @@ export async function pondsTiled(mosaic: Mosaic, opts: TiledPondsOptions = {}): 
   let summaries: WindowSummary[], shares: WindowShare[], tree: GlobalTree;
   let perimeterCells = 0, euler: PondsEuler | null = null;
   try {
-    if (pool) await pool.broadcast('setup', { setup: { conn: connectivity, nodataOutlet, rowArea: areas.rowArea, uniform: areas.uniform } });
-    stage('pass 1: windows', 0, T);
     const owns = opts.euler === false ? undefined : tiles.map((t) => t.own);
+    if (pool) await pool.broadcast('setup', { setup: { conn: connectivity, nodataOutlet, rowArea: areas.rowArea, uniform: areas.uniform, owns } });
+    stage('pass 1: windows', 0, T);
     const eulers: WindowEuler[] = [];
     summaries = await eachWindow(T, lanes, async (t) => {
-      const cells = await readWindowCells(mosaic, tiles[t].own, connectivity, nodataOutlet, owns);
+      const read = await readHalo(mosaic, tiles[t].own);
+      if (pool) {
+        const r = await pool.run<{ summary: WindowSummary; euler?: WindowEuler }>('pass1', { read });
+        if (r.euler) eulers[t] = r.euler;
+        return r.summary;
+      }
+      const cells = classifyWindow(read, connectivity, nodataOutlet, owns);
       if (cells.euler) eulers[t] = cells.euler;
-      cells.euler = undefined;
-      return pool ? pool.run<WindowSummary>('pass1', { cells }) : pass1(cells, connectivity, nodataOutlet);
+      return pass1(cells, connectivity, nodataOutlet);
     }, (done) => stage('pass 1: windows', done, T));
     let zmin = Infinity, zmax = -Infinity;
     for (const s of summaries) {
@@ -222,11 +227,11 @@ export async function pondsTiled(mosaic: Mosaic, opts: TiledPondsOptions = {}): 
     if (pool) await pool.broadcast('tree', { tree: { parent: tree.parent, spill: tree.spill, spillZ: tree.spillZ, z0: tree.z0 } });
     stage('pass 2: windows', 0, T);
     shares = await eachWindow(T, lanes, async (t) => {
-      const cells = await readWindowCells(mosaic, tiles[t].own, connectivity, nodataOutlet);
+      const read = await readHalo(mosaic, tiles[t].own);
       const prov = provs[t], map = tree.windowMap[t];
       const r = pool
-        ? await pool.run<Pass2Result>('pass2', { cells, prov, map })
-        : pass2(cells, connectivity, nodataOutlet, prov, map, tree, areas.rowArea, areas.uniform);
+        ? await pool.run<Pass2Result>('pass2', { read, prov, map }, transferList({ read, prov })) // the map stays in the tree
+        : pass2(classifyWindow(read, connectivity, nodataOutlet), connectivity, nodataOutlet, prov, map, tree, areas.rowArea, areas.uniform);
       await labels.put(t, r.label);
       return r.share;
     }, (done) => stage('pass 2: windows', done, T));

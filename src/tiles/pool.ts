@@ -70,8 +70,8 @@ export class TilePool {
     await Promise.all(this.workers.map((w) => this.send(w, kind, data)));
   }
 
-  /** Wait for an idle worker, then run the task on it; the promise of its result. */
-  async run<T>(kind: string, data: Record<string, unknown>, transfer = true): Promise<T> {
+  /** Wait for an idle worker, then run the task on it; the promise of its result. `transfer`: the buffers handed over (default: every typed array in `data`). */
+  async run<T>(kind: string, data: Record<string, unknown>, transfer: ArrayBuffer[] = transferList(data)): Promise<T> {
     while (this.idle.length === 0) await new Promise<void>((res) => this.waiting.push(res));
     const w = this.idle.pop()!;
     return this.send(w, kind, data, transfer) as Promise<T>;
@@ -82,14 +82,14 @@ export class TilePool {
     while (this.idle.length === 0) await new Promise<void>((res) => this.waiting.push(res));
   }
 
-  private send(w: Worker, kind: string, data: Record<string, unknown>, transfer = false): Promise<unknown> {
+  private send(w: Worker, kind: string, data: Record<string, unknown>, transfer: ArrayBuffer[] = []): Promise<unknown> {
     if (this.failed) return Promise.reject(this.failed);
     const id = this.nextId++;
     const i = this.idle.indexOf(w);
     if (i >= 0) this.idle.splice(i, 1);
     return new Promise((resolve, reject) => {
       this.pending.set(id, { resolve, reject });
-      w.postMessage({ id, kind, ...data }, transfer ? transferList(data) : []);
+      w.postMessage({ id, kind, ...data }, transfer);
     });
   }
 

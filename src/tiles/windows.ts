@@ -44,17 +44,41 @@ export function haloValue(cells: WindowCells, col: number, row: number): number 
   return z === z ? z : undefined;
 }
 
-/**
- * Read window `own` of the mosaic with its halo and classify its cells.
- * @param owns every owned window of the mosaic: when given, the window's part of the Euler check is taken too
- */
-export async function readWindowCells(mosaic: Mosaic, own: CellWindow, conn: Connectivity, nodataOutlet: boolean, owns?: CellWindow[]): Promise<WindowCells> {
+/** A window read with its one-cell halo (clipped to the mosaic): what a worker needs to classify and sweep it. */
+export interface HaloRead {
+  own: CellWindow;
+  /** The halo window (own grown by one cell, clipped to the mosaic) and its values. */
+  hw: CellWindow;
+  values: GridValues;
+  mosaicWidth: number;
+  mosaicHeight: number;
+}
+
+/** Read window `own` of the mosaic with its halo. */
+export async function readHalo(mosaic: Mosaic, own: CellWindow): Promise<HaloRead> {
   const W = mosaic.width, H = mosaic.height;
   const hc0 = Math.max(0, own.col0 - 1), hr0 = Math.max(0, own.row0 - 1);
   const hc1 = Math.min(W, own.col0 + own.width + 1), hr1 = Math.min(H, own.row0 + own.height + 1);
-  const hw = hc1 - hc0, hh = hr1 - hr0;
-  const halo = await mosaic.readWindow({ col0: hc0, row0: hr0, width: hw, height: hh });
-  if (halo.length !== hw * hh) throw new Error(`internal: readWindow returned ${halo.length} values for a ${hw}×${hh} window`);
+  const hw: CellWindow = { col0: hc0, row0: hr0, width: hc1 - hc0, height: hr1 - hr0 };
+  const values = await mosaic.readWindow(hw);
+  if (values.length !== hw.width * hw.height) throw new Error(`internal: readWindow returned ${values.length} values for a ${hw.width}×${hw.height} window`);
+  return { own, hw, values, mosaicWidth: W, mosaicHeight: H };
+}
+
+/** Read window `own` of the mosaic with its halo and classify its cells (see classifyWindow). */
+export async function readWindowCells(mosaic: Mosaic, own: CellWindow, conn: Connectivity, nodataOutlet: boolean, owns?: CellWindow[]): Promise<WindowCells> {
+  return classifyWindow(await readHalo(mosaic, own), conn, nodataOutlet, owns);
+}
+
+/**
+ * The window's cells from its halo read: which touch an outlet of the mosaic, which lie on its perimeter.
+ * @param owns every owned window of the mosaic: when given, the window's part of the Euler check is taken too
+ */
+export function classifyWindow(read: HaloRead, conn: Connectivity, nodataOutlet: boolean, owns?: CellWindow[]): WindowCells {
+  const { own, mosaicWidth: W, mosaicHeight: H } = read;
+  const halo = read.values;
+  const hc0 = read.hw.col0, hr0 = read.hw.row0, hw = read.hw.width, hh = read.hw.height;
+  const hc1 = hc0 + hw, hr1 = hr0 + hh;
   const w = own.width, h = own.height, n = w * h;
   const values: GridValues = halo instanceof Float64Array ? new Float64Array(n) : new Float32Array(n);
   const dc0 = own.col0 - hc0, dr0 = own.row0 - hr0;
@@ -95,7 +119,7 @@ export async function readWindowCells(mosaic: Mosaic, own: CellWindow, conn: Con
     ringV[2 * (w + 2) + r] = at(own.col0 - 1, own.row0 + r);
     ringV[2 * (w + 2) + h + r] = at(own.col0 + w, own.row0 + r);
   }
-  const euler = owns ? windowEuler(mosaic, own, { col0: hc0, row0: hr0, width: hw, height: hh }, halo, owns, conn, nodataOutlet) : undefined;
+  const euler = owns ? windowEuler(W, H, own, read.hw, halo, owns, conn, nodataOutlet) : undefined;
   return { own, values, outlet, perimeter, perimeterCells, hasNodata, mosaicWidth: W, halo: ringV, euler };
 }
 

@@ -25,7 +25,7 @@ async function run(g: Grid, seed: number, workers: number, labels?: LabelStore):
   });
   for (const a of [r.tree.vertex, r.tree.parent, r.tree.spill, r.tree.entry, r.tree.to, r.sums.rec, r.hierarchy.volume, r.hierarchy.area, r.hierarchy.pit]) b(a);
   parts.push(...rasters);
-  parts.push(Buffer.from(new Float64Array([r.filledVolume]).buffer));
+  parts.push(Buffer.from(new Float64Array([r.filledVolume]).buffer), Buffer.from(JSON.stringify(r.euler)));
   return Buffer.concat(parts);
 }
 
