@@ -113,13 +113,13 @@ describe('ponds tile by tile equals the single grid', () => {
     }), { numRuns: 200 });
   });
 
-  it('larger grids with few levels (long plateaus across seams)', async () => {
+  it('larger grids with few levels (long plateaus across seams), float32 and float64', async () => {
     await fc.assert(fc.asyncProperty(
-      fc.record({ w: fc.integer({ min: 10, max: 40 }), h: fc.integer({ min: 10, max: 40 }), levels: fc.constantFrom(2, 3, 4), seed: fc.integer(), conn: fc.constantFrom<4 | 8>(4, 8), outlet: fc.boolean(), hole: fc.constantFrom(0, 0.05) }),
+      fc.record({ w: fc.integer({ min: 10, max: 40 }), h: fc.integer({ min: 10, max: 40 }), levels: fc.constantFrom(0, 2, 3, 4), seed: fc.integer(), conn: fc.constantFrom<4 | 8>(4, 8), outlet: fc.boolean(), hole: fc.constantFrom(0, 0.05), f32: fc.boolean() }),
       tilingArb,
-      async ({ w, h, levels, seed, conn, outlet, hole }, tiling) => {
+      async ({ w, h, levels, seed, conn, outlet, hole, f32 }, tiling) => {
         const { randomGrid } = await import('../hydro/helpers.js');
-        await check(randomGrid(seed, w, h, levels, hole), conn, outlet, { ...tiling, maxTiles: tiling.maxTiles + 4 });
+        await check(randomGrid(seed, w, h, levels, hole, f32), conn, outlet, { ...tiling, maxTiles: tiling.maxTiles + 4 });
       }), { numRuns: 60 });
   });
 });
