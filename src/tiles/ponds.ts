@@ -26,6 +26,7 @@ import { pass1, type WindowSummary } from './pass1.js';
 import { seamMerge, type GlobalTree } from './merge.js';
 import { pass2, SHARE_STRIDE, type WindowShare, type Pass2Result } from './pass2.js';
 import { TilePool, transferList } from './pool.js';
+import { writeRunFile, readRunFile } from './runfile.js';
 import { availableParallelism } from 'node:os';
 import { readFile, writeFile, rm } from 'node:fs/promises';
 import { join } from 'node:path';
@@ -79,6 +80,12 @@ export interface TiledPondsOptions extends UnitOptions, HierarchyFilters {
   /** Receives each tile's filled, depth and label rasters (its owned window) as they are made. */
   onRasters?: (tile: MosaicTile, own: CellWindow, rasters: PondRasters) => void | Promise<void>;
   labels?: LabelStore;
+  /**
+   * A run folder: each window's pass-1 summary is written there as a stage file (pass1-<window>.run)
+   * and read back by the seam merge, and the labels wait there between pass 2 and the rasters
+   * (unless `labels` is given). The folder must exist; the summaries are left in it.
+   */
+  runDir?: string;
   /** Run the Euler self-check (critical points vs. simplex count). Default true. */
   euler?: boolean;
   /** Worker threads for the windows' passes (default: the number of cores); 1 runs them on this thread. Results are the same for every number. */
@@ -182,7 +189,8 @@ export async function pondsTiled(mosaic: Mosaic, opts: TiledPondsOptions = {}): 
   }
   const areas = cellAreas({ transform: mosaic.transform, width: mosaic.width, height: mosaic.height, crs: mosaic.crs }, opts, source);
   const stage = opts.onStage ?? (() => undefined);
-  const labels = opts.labels ?? memoryLabelStore();
+  const labels = opts.labels ?? (opts.runDir !== undefined ? folderLabelStore(opts.runDir) : memoryLabelStore());
+  const runDir = opts.runDir;
   const tiles = mosaic.tiles.filter((t) => t.own.width > 0 && t.own.height > 0);
   const T = tiles.length;
 
@@ -199,15 +207,23 @@ export async function pondsTiled(mosaic: Mosaic, opts: TiledPondsOptions = {}): 
     const eulers: WindowEuler[] = [];
     summaries = await eachWindow(T, lanes, async (t) => {
       const read = await readHalo(mosaic, tiles[t].own);
+      let s: WindowSummary;
       if (pool) {
         const r = await pool.run<{ summary: WindowSummary; euler?: WindowEuler }>('pass1', { read });
         if (r.euler) eulers[t] = r.euler;
-        return r.summary;
+        s = r.summary;
+      } else {
+        const cells = classifyWindow(read, connectivity, nodataOutlet, owns);
+        if (cells.euler) eulers[t] = cells.euler;
+        s = pass1(cells, connectivity, nodataOutlet);
       }
-      const cells = classifyWindow(read, connectivity, nodataOutlet, owns);
-      if (cells.euler) eulers[t] = cells.euler;
-      return pass1(cells, connectivity, nodataOutlet);
+      if (runDir === undefined) return s;
+      await writeRunFile(join(runDir, `pass1-${t}.run`), s as unknown as Record<string, unknown>);
+      return null as unknown as WindowSummary;
     }, (done) => stage('pass 1: windows', done, T));
+    if (runDir !== undefined) {
+      for (let t = 0; t < T; t++) summaries[t] = await readRunFile<WindowSummary>(join(runDir, `pass1-${t}.run`));
+    }
     let zmin = Infinity, zmax = -Infinity;
     for (const s of summaries) {
       perimeterCells += s.perimeterCells;

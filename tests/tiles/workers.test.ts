@@ -14,13 +14,13 @@ import { tileWorkerFile } from '../../src/tiles/pool.js';
 import { randomGrid } from '../hydro/helpers.js';
 import { guillotine, tilesOf } from './helpers.js';
 
-async function run(g: Grid, seed: number, workers: number, labels?: LabelStore): Promise<Buffer> {
+async function run(g: Grid, seed: number, workers: number, labels?: LabelStore, runDir?: string): Promise<Buffer> {
   const mosaic = gridMosaic(g, tilesOf(guillotine(g.width, g.height, seed, 9), seed % 2 === 0));
   const parts: Buffer[] = [];
   const b = (a: ArrayBufferView): void => { parts.push(Buffer.from(a.buffer, a.byteOffset, a.byteLength)); };
   const rasters: Buffer[] = [];
   const r = await pondsTiled(mosaic, {
-    workers, connectivity: 8, labels,
+    workers, connectivity: 8, labels, runDir,
     onRasters: (tile, _own, rs) => { rasters[mosaic.tiles.indexOf(tile)] = Buffer.concat([Buffer.from(rs.filled.buffer.slice(0)), Buffer.from(rs.labels.buffer.slice(0))]); },
   });
   for (const a of [r.tree.vertex, r.tree.parent, r.tree.spill, r.tree.entry, r.tree.to, r.sums.rec, r.hierarchy.volume, r.hierarchy.area, r.hierarchy.pit]) b(a);
@@ -33,7 +33,7 @@ describe('tile passes on worker threads', () => {
   it('finds the built worker module', () => {
     expect(tileWorkerFile()).not.toBeNull();
   });
-  it('gives byte-identical results for 1, 2 and 3 workers', async () => {
+  it('gives byte-identical results for 1, 2 and 3 workers, labels in files, summaries through a run folder', async () => {
     for (const seed of [3, 8]) {
       const g = randomGrid(seed, 90, 70, seed === 3 ? 0 : 4, 0.03);
       const one = await run(g, seed, 1);
@@ -44,6 +44,9 @@ describe('tile passes on worker threads', () => {
       try {
         expect((await run(g, seed, 2, folderLabelStore(dir))).equals(one)).toBe(true);
         expect(readdirSync(dir)).toEqual([]);
+        // pass-1 summaries through stage files of a run folder: the same
+        expect((await run(g, seed, 2, undefined, dir)).equals(one)).toBe(true);
+        expect(readdirSync(dir).every((f) => /^pass1-\d+\.run$/.test(f))).toBe(true);
       } finally { rmSync(dir, { recursive: true, force: true }); }
     }
   });
