@@ -238,10 +238,12 @@ export function seamMerge(sums: WindowSummary[]): GlobalTree {
   }
 
   // global numbers: the nodes sorted by creation cell in (value, index) order
-  const ids: number[] = [];
-  for (let k = 1; k < count; k++) if (tIsNode[k]) ids.push(k);
+  let nodes = 0;
+  for (let k = 1; k < count; k++) nodes += tIsNode[k];
+  const ids = new Int32Array(nodes);
+  for (let k = 1, i = 0; k < count; k++) if (tIsNode[k]) ids[i++] = k;
   ids.sort((a, b) => (tVertexZ[a] - tVertexZ[b]) || (tVertex[a] - tVertex[b]));
-  const K = ids.length + 1;
+  const K = nodes + 1;
   const gid = new Int32Array(count);
   for (let i = 0; i < ids.length; i++) gid[ids[i]] = i + 1;
   const vertex = new Int32Array(K), birth = new Int32Array(K), parent = new Int32Array(K), spill = new Int32Array(K), entry = new Int32Array(K), to = new Int32Array(K);
