@@ -123,3 +123,16 @@ describe('ponds tile by tile equals the single grid', () => {
       }), { numRuns: 60 });
   });
 });
+
+describe('ponds tile by tile: bad input', () => {
+  it('one-line InputErrors for bad options, an all-nodata or flat mosaic', async () => {
+    const g = new Grid({ width: 6, height: 5, values: Float64Array.from({ length: 30 }, (_, i) => (i * 7) % 11) });
+    const m = gridMosaic(g, tilesOf(guillotine(6, 5, 5, 4), false));
+    await expect(pondsTiled(m, { workers: 0 })).rejects.toThrow(/--workers must be a whole number ≥ 1, got 0/);
+    await expect(pondsTiled(m, { workers: 1, minDepth: -1 })).rejects.toThrow(InputError);
+    await expect(pondsTiled(gridMosaic(new Grid({ width: 6, height: 5, values: new Float64Array(30).fill(NaN) }), tilesOf(guillotine(6, 5, 1, 3), true)), { workers: 1 })).rejects.toThrow(/every cell is nodata/);
+    await expect(pondsTiled(gridMosaic(new Grid({ width: 6, height: 5, values: new Float64Array(30).fill(3) }), tilesOf(guillotine(6, 5, 1, 3), true)), { workers: 1 })).rejects.toThrow(/every valid cell has the same value/);
+    const huge = { ...m, width: 50_000, height: 50_000 };
+    await expect(pondsTiled(huge, { workers: 1 })).rejects.toThrow(/more than the 2147483647 sill indexes/);
+  });
+});
