@@ -117,8 +117,7 @@ export function seamMerge(sums: WindowSummary[]): GlobalTree {
     for (let i = 0; i < s.evCell.length; i++) perimeterEvents += s.evPerimeter[i];
   }
   if (z0 === Infinity) z0 = 0;
-  let count = L; // temporary ids in use: 1..count − 1 … the next new node is `count`
-  count = L;
+  let count = L; // temporary ids 1 … count − 1 are in use: the next node the merge creates is `count`
 
   // perimeter cell → element of its local label
   const cellElem = new CellTable(perimeterEvents);
