@@ -105,6 +105,9 @@ describe('sill runoff (command line)', () => {
     expect(gj.features).toHaveLength(rep.counts.ponds);
     expect(gj.caution).toMatch(/screening/i);
     for (const f of gj.features) expect(f.properties).toMatchObject({ kind: 'pond', volume: expect.any(Number), level: expect.any(Number) });
+    // polygons only: every pond has its outline
+    for (const f of gj.features) expect(['Polygon', 'MultiPolygon']).toContain(f.geometry.type);
+    expect(rep.outlines).toEqual({ features: rep.counts.ponds, note: expect.stringMatching(/all/) });
     if (!hasGdal) return;
     // Source: GDAL (python3-gdal) reading sill's files; OGR's polygon areas
     const script = `
