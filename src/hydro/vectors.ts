@@ -341,6 +341,7 @@ class OutlineTracer {
     lx.push(x0); ly.push(y0); ls.push(startSaddle ? 1 : 0);
     const marks = this.marks, V = this.V;
     let x = x0, y = y0, d = d0;
+    const limit = 4 * (this.W + 1) * (this.H + 1);
     for (let guard = 0; ; guard++) {
       x += STEP_X[d]; y += STEP_Y[d];
       let a: boolean, b: boolean;
@@ -358,7 +359,7 @@ class OutlineTracer {
         lx.push(x); ly.push(y); ls.push(!a && b ? 1 : 0);
       }
       d = nd;
-      if (guard > 4 * (this.W + 1) * (this.H + 1)) throw new Error('outline tracing did not close a ring (internal error)');
+      if (guard > limit) throw new Error('outline tracing did not close a ring (internal error)');
     }
   }
 
