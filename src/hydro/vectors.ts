@@ -181,7 +181,14 @@ class OutlineTracer {
     this.link(d, e);
   }
 
-  private addPair(d: number, runA: number, runB: number, labB: number): void {
+  /**
+   * Runs `runA` (label `labA`) and `runB` (label `labB`) touch: they are one piece from the level that
+   * holds both up. The pair waits at the larger id (an ancestor's id is larger than its
+   * descendants', so a pair of a depression and one inside it is joined at once).
+   */
+  private addPair(labA: number, runA: number, runB: number, labB: number): void {
+    if (labA < labB) { const t = labA; labA = labB; labB = t; const r = runA; runA = runB; runB = r; }
+    const d = labA;
     const e = this.pa.push(runA);
     this.pb.push(runB);
     this.plab.push(labB);
@@ -306,24 +313,26 @@ class OutlineTracer {
     }
     this.lx.length = 0; this.ly.length = 0; this.lsad.length = 0;
     this.loopStart.length = 0; this.loopRun.length = 0;
-    // walk a loop from every start corner not yet walked
-    for (let e = this.head[d]; e >= 0; e = this.enext.data[e]) {
-      if (nested && this.status(e) !== 1) continue;
-      const c2 = this.ev.data[e], corner = c2 >>> 1;
-      if (this.isMarked(corner)) continue;
-      const x = corner % this.V, y = (corner - x) / this.V;
-      this.walk(x, y, (c2 & 1) === 0 ? E : S, this.erun.data[e], (c2 & 1) === 0 && this.inside(x - 1, y - 1));
-    }
-    // clear the marks (every marked corner is a start corner of this region), pass the list up
+    // walk a loop from every start corner not yet walked; nested, pass the corners that may start
+    // a ring of the parent up to it (the others never will again)
     const parent = nested ? (this.spec as { parent: Int32Array }).parent[d] : 0;
     for (let e = this.head[d]; e >= 0;) {
       const next = this.enext.data[e];
       const s = nested ? this.status(e) : 1;
-      if (s === 1) { const corner = this.ev.data[e] >>> 1; this.marks[corner >>> 5] &= ~(1 << (corner & 31)); }
-      if (nested && s >= 0 && parent > 0) this.link(parent, e);
+      if (s === 1) {
+        const c2 = this.ev.data[e], corner = c2 >>> 1;
+        if (!this.isMarked(corner)) {
+          const x = corner % this.V, y = (corner - x) / this.V;
+          this.walk(x, y, (c2 & 1) === 0 ? E : S, this.erun.data[e], (c2 & 1) === 0 && this.inside(x - 1, y - 1));
+        }
+      }
+      if (s >= 0 && parent > 0) this.link(parent, e);
       e = next;
     }
     this.head[d] = -1; this.tail[d] = -1;
+    // clear the marks: every marked corner is a turning corner of a walked loop
+    const marks = this.marks, V = this.V, lx = this.lx.data, ly = this.ly.data;
+    for (let i = 0, n = this.lx.length; i < n; i++) { const c = ly[i] * V + lx[i]; marks[c >>> 5] &= ~(1 << (c & 31)); }
     return this.assemble();
   }
 
