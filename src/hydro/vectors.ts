@@ -142,6 +142,8 @@ class OutlineTracer {
 
   constructor(private readonly labels: Int32Array, private readonly W: number, private readonly H: number, private readonly spec: RegionSpec, private readonly reverse: boolean) {
     this.V = W + 1;
+    // a start corner is stored as corner·2 + type in an Int32Array
+    if ((W + 1) * (H + 1) > 0x3fffffff) throw new Error(`outlines of a ${W} × ${H} grid: more than 2^30 cell corners, beyond what the tracer indexes`);
     this.nested = spec.kind === 'nested';
     this.keyOf = spec.kind === 'flat' ? spec.keyOf : null;
     this.tin = spec.kind === 'nested' ? spec.tin : new Int32Array(0);

@@ -139,6 +139,27 @@ describe('depression outlines', () => {
       }), { numRuns: 250 });
   });
 
+  it('the streamed geometry text is the GeoJSON of the same rings (Polygon for one part, MultiPolygon for several), projected when asked', () => {
+    const t: GeoTransform = [100, 3, 1, 200, 0.5, -2];
+    const g = cornerGrid(11, 14, 12, t);
+    const { result } = pondsReport(g, { euler: false });
+    const lists = depressionOutlines(g, result.rasters.labels, result.hierarchy, 'all');
+    const project = (x: number, y: number): [number, number] => [y / 7, x * 3];
+    let k = 0;
+    traceDepressionOutlines(g, result.rasters.labels, result.hierarchy, 'all', (id, o) => {
+      const polys = lists[k++].polygons;
+      expect(lists[k - 1].id).toBe(id);
+      const geometry = (p: Poly[]) => (p.length === 1 ? { type: 'Polygon', coordinates: p[0] } : { type: 'MultiPolygon', coordinates: p });
+      let text = '';
+      writeOutlineGeometry({ write: (s) => { text += s; } }, o, t);
+      expect(text).toBe(JSON.stringify(geometry(polys)));
+      text = '';
+      writeOutlineGeometry({ write: (s) => { text += s; } }, o, t, project);
+      expect(text).toBe(JSON.stringify(geometry(polys.map((p) => p.map((r) => r.map(([x, y]) => project(x, y)))))));
+    });
+    expect(k).toBe(lists.length);
+  });
+
   it('cells that meet only at a corner: separate parts of a MultiPolygon, touching at that point', () => {
     const o = flatOutlines([[1, 0], [0, 1]]).get(1)!;
     expect(o).toEqual([[[[0, 0], [1, 0], [1, 1], [0, 1], [0, 0]]], [[[1, 1], [2, 1], [2, 2], [1, 2], [1, 1]]]]);
