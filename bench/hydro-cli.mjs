@@ -15,7 +15,8 @@
  *                erosion with the frame as seed (the filled DEM alone), Python start and imports included;
  *  - floor       node bench/lib/read-sort.mjs T.tif: read the GeoTIFF and radix-sort its values;
  *  - ponds-json  sill ponds T.tif --json > report (the whole report on stdout);
- *  - ponds-out   sill ponds T.tif -o DIR --quiet (filled, depth, labels, depressions.geojson and .csv, report.json);
+ *  - ponds-out   sill ponds T.tif -o DIR --quiet (filled, depth, labels, depressions.geojson (top-level outlines, the default),
+ *                pour-points.geojson, depressions.csv, report.json);
  *  - runoff-out  sill runoff T.tif --depth 40mm -o DIR --quiet.
  * Terrains: `fractal` (bench/lib/terrain.mjs, seed 17 — the bench's rough terrain), `spectral`
  * (bench/lib/spectral-terrain.py: power-law spectrum k^−2.2, 300 m relief, 0.3 m white noise; needs

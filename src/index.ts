@@ -39,7 +39,7 @@ export { ENERGY_UNITS, conversionFactor, type EnergyUnit } from './chem/units.js
 
 // writers
 export { writeGeoTiff, type RasterToWrite, type RasterValues, type GeoTiffWriteOptions } from './io/geotiff-write.js';
-export { writeJsonFile, writeCsvFile, writePointsGeoJson, writeDepressionsCsv, writeDepressionsGeoJson, pondsRasters, runoffRasters, type PointsGeoJsonOptions } from './api/write.js';
+export { writeJsonFile, writeCsvFile, writePointsGeoJson, writeDepressionsCsv, writeDepressionsGeoJson, writePourPointsGeoJson, pondsRasters, runoffRasters, type PointsGeoJsonOptions } from './api/write.js';
 export { TextSink, writeJson } from './io/stream.js';
 
 // errors

@@ -11,7 +11,8 @@ import type { PondsRun } from '../report/ponds.js';
 import type { RunoffRun } from '../report/runoff.js';
 import { pondsCsvColumns, pondsCsvRow } from '../report/ponds.js';
 import { topLabels } from '../hydro/rasters.js';
-import { writeDepressionsGeojson } from '../report/depressions-geojson.js';
+import { writeDepressionsGeojson, writePourPointsGeojson, depressionsDescription, POUR_POINTS_DESCRIPTION } from '../report/depressions-geojson.js';
+import type { OutlineLevels } from '../hydro/vectors.js';
 
 /**
  * `value` (a report, or anything JSON.stringify takes) as JSON at `path`, written piece by piece:
@@ -71,19 +72,21 @@ export function writeDepressionsCsv(path: string, run: PondsRun): void {
 }
 
 /**
- * depressions.geojson of `sill ponds`: one (Multi)Polygon per depression at its spill level (null
- * geometry for a nested merged depression of a very deep hierarchy, see `omitted`), then one point
- * per pour point; the CRS of the grid. Returns how many outlines were traced and left out.
+ * depressions.geojson of `sill ponds`: one Polygon or MultiPolygon per depression of the chosen
+ * levels at its spill level (`levels`: 'top', the default as on the command line, 'leaf' or
+ * 'all'), valid Simple Features polygons along cell edges; the CRS of the grid. Returns how many
+ * depressions were outlined.
  */
-export function writeDepressionsGeoJson(path: string, run: PondsRun): { traced: number; omitted: number } {
+export function writeDepressionsGeoJson(path: string, run: PondsRun, levels: OutlineLevels = 'top'): number {
   const { result, report } = run;
-  const meta = {
-    name: 'depressions',
-    description: 'closed depressions at their spill levels (polygons) and their pour points (points)',
-    units: report.units,
-    caution: report.caution,
-  };
-  return writeDepressionsGeojson(path, null, result, report.depressions.columns, null, meta);
+  const meta = { name: 'depressions', description: depressionsDescription(levels), units: report.units, caution: report.caution };
+  return writeDepressionsGeojson(path, null, result, report.depressions.columns, levels, null, meta);
+}
+
+/** pour-points.geojson of `sill ponds`: one point per depression, where it spills (the pass cell's centre). */
+export function writePourPointsGeoJson(path: string, run: PondsRun): void {
+  const { result, report } = run;
+  writePourPointsGeojson(path, null, result, report.depressions.columns, null, { name: 'pour-points', description: POUR_POINTS_DESCRIPTION, units: report.units, caution: report.caution });
 }
 
 function raster(g: Grid, values: RasterToWrite['values'], nodata: number): RasterToWrite {

@@ -103,12 +103,6 @@ export function stageCsv(table: StageRow[], tokens: PondsUnits['tokens']): strin
   ]);
 }
 
-/** The report's `outlines` entry: how many were traced, and `omittedNote(n)` when n were left out. */
-export function outlinesEntry(counts: { traced: number; omitted: number }, omittedNote: (n: number) => string, allNote: string): { traced: number; omitted: number; note: string } {
-  const { traced, omitted } = counts;
-  return { traced, omitted, note: omitted > 0 ? omittedNote(omitted) : allNote };
-}
-
 interface SummaryHead {
   surface: SurfaceInfo;
   nodataAs: 'outlet' | 'wall';
@@ -129,10 +123,10 @@ export function summaryHead(r: SummaryHead): string[] {
   return lines;
 }
 
-/** The summary's last lines: the caution, the outlines left out, the files written. */
-export function summaryTail(r: { caution: string; outlines?: { omitted: number; note: string } }, outDir: string | undefined, files: string[]): string[] {
+/** The summary's last lines: the caution, which outlines were written, the files written. */
+export function summaryTail(r: { caution: string; outlines?: { note: string } }, outDir: string | undefined, files: string[]): string[] {
   const lines = [`caution      ${r.caution}`];
-  if (r.outlines && r.outlines.omitted > 0) lines.push(`outlines     ${r.outlines.note}`);
+  if (r.outlines) lines.push(`outlines     ${r.outlines.note}`);
   if (outDir) lines.push(`files        ${outDir}/ ${files.map((f) => f.split(/[\\/]/).pop()).join(' ')}`);
   return lines;
 }

@@ -7,7 +7,8 @@ import type { Hierarchy } from '../hydro/hierarchy.js';
 import { applyCulverts, culvertEffects, type Culvert } from '../hydro/culverts.js';
 import { readCulverts, type CulvertSpec } from '../io/culverts.js';
 import { topK } from '../report/hydro-common.js';
-import { writeDepressionsGeojson } from '../report/depressions-geojson.js';
+import { writeDepressionsGeojson, writePourPointsGeojson, depressionsDescription, outlinesNote, POUR_POINTS_DESCRIPTION } from '../report/depressions-geojson.js';
+import { OUTLINE_LEVELS, type OutlineLevels } from '../hydro/vectors.js';
 import type { PondsResult } from '../hydro/ponds.js';
 import { topLabels } from '../hydro/rasters.js';
 import { writeSpillPathsGeojson } from '../report/spill-paths-geojson.js';
@@ -18,7 +19,7 @@ import type { OutputFolder } from '../io/outdir.js';
 import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, AREA_THRESHOLD, type NumberLimits } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printReport, writeReportFile, writeIdCsv,
-  stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
+  stageCsv, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
 import { checkCellBudget, featureBudget } from './budget.js';
@@ -31,6 +32,7 @@ export interface PondsCliOptions extends HydroCliOptions {
   minVolume?: string;
   fillOnlyBelow?: string;
   labelLevel?: string;
+  outlines?: string;
   zUnits?: string;
   xyUnits?: string;
   wgs84?: boolean;
@@ -49,10 +51,11 @@ export function registerPonds(program: Command): void {
     .option('--min-volume <v>', 'merge depressions holding less than V (m³) into their parent')
     .option('--fill-only-below <v>', 'in filled.tif and depth.tif, fill only depressions holding less than V (m³)')
     .addOption(new Option('--label-level <level>', 'labels.tif holds the innermost (leaf) or the outermost (top) depression id').choices(['leaf', 'top']).default('leaf'))
+    .addOption(new Option('--outlines <levels>', 'depressions.geojson outlines the outermost depressions (top), the innermost (leaf) or every level of the nesting (all)').choices([...OUTLINE_LEVELS]).default('top'))
     .option('--z-units <unit>', 'vertical unit of the DEM: m, ft, us-ft, cm, mm (default: metres, assumed)')
     .option('--z-factor <f>', 'metres per vertical unit of the DEM (instead of --z-units)')
     .option('--xy-units <unit>', 'horizontal unit when the input has no CRS: m, ft, us-ft, km, deg')
-    .option('--wgs84', 'also write depressions-wgs84.geojson in longitude/latitude (projected CRSs with a known EPSG code)')
+    .option('--wgs84', 'also write depressions-wgs84.geojson and pour-points-wgs84.geojson in longitude/latitude (projected CRSs with a known EPSG code)')
     .option('--stage-volume <id>', 'write stage-volume-ID.csv: water level, wet area and volume of depression ID from its pit to its spill level')
     .option('--culverts <file>', 'lines through embankments (GeoJSON LineStrings or CSV x1,y1,x2,y2[,invert][,name]) where water passes at the invert; reports what changed')
     .option('--stage-step <dz>', 'level step of the stage-volume table (vertical unit; default: 50 steps)')
@@ -71,6 +74,8 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   const nodataAs = parseNodataAs(opts);
   const labelLevel = opts.labelLevel ?? 'leaf';
   if (labelLevel !== 'leaf' && labelLevel !== 'top') throw new InputError(`--label-level must be leaf or top, got '${labelLevel}'`);
+  const outlines = (opts.outlines ?? 'top') as OutlineLevels;
+  if (!OUTLINE_LEVELS.includes(outlines)) throw new InputError(`--outlines must be leaf, top or all, got '${opts.outlines}'`);
   const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', THRESHOLD);
   const threads = parseThreads(opts.threads);
   const minDepth = optionalNumber('--min-depth', opts.minDepth, THRESHOLD);
@@ -79,9 +84,9 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   const fillOnlyBelow = opts.fillOnlyBelow === undefined ? undefined : parseNumber('--fill-only-below', opts.fillOnlyBelow, { ...AREA_THRESHOLD, positive: true });
   const { zFactor, stageId, stageStep } = parseZAndStage(opts);
   const render = reportRequest('ponds', [input], { ...opts }, flagsOf({ ...opts }, PONDS_FLAGS));
-  if (opts.wgs84 && !opts.out) throw new InputError('--wgs84 writes depressions-wgs84.geojson: give an output folder with -o/--out');
+  if (opts.wgs84 && !opts.out) throw new InputError('--wgs84 writes depressions-wgs84.geojson and pour-points-wgs84.geojson: give an output folder with -o/--out');
   const out = openOutput(opts, 'ponds', [
-    ...PONDS_FILES, ...(opts.wgs84 ? ['depressions-wgs84.geojson'] : []), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render),
+    ...PONDS_FILES, ...(opts.wgs84 ? PONDS_WGS84_FILES : []), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render),
   ], opts.culverts ? [input, opts.culverts] : [input]);
 
   progress.stage(`reading ${input}`);
@@ -118,7 +123,7 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   let written: string[] = [];
   if (out) {
     progress.stage('writing files');
-    written = await writePondsFiles(out, result, report, { project, stageId, stageStep, progress, render, threads });
+    written = await writePondsFiles(out, result, report, { project, outlines, stageId, stageStep, progress, render, threads });
   }
   progress.done();
   if (opts.json) printReport(report);
@@ -129,6 +134,8 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
 
 interface WriteOptions {
   project: ((x: number, y: number) => [number, number]) | null;
+  /** Which depressions depressions.geojson outlines (default: the top-level ones). */
+  outlines?: OutlineLevels;
   stageId?: number;
   stageStep?: number;
   progress?: Progress;
@@ -138,7 +145,9 @@ interface WriteOptions {
 }
 
 /** The files `ponds -o DIR` always writes (--wgs84, --stage-volume and --report add theirs). */
-export const PONDS_FILES = ['filled.tif', 'depth.tif', 'labels.tif', 'catchments.tif', 'depressions.geojson', 'spill-paths.geojson', 'depressions.csv', 'report.json'];
+export const PONDS_FILES = ['filled.tif', 'depth.tif', 'labels.tif', 'catchments.tif', 'depressions.geojson', 'pour-points.geojson', 'spill-paths.geojson', 'depressions.csv', 'report.json'];
+/** The files --wgs84 adds. */
+export const PONDS_WGS84_FILES = ['depressions-wgs84.geojson', 'pour-points-wgs84.geojson'];
 
 export async function writePondsFiles(out: OutputFolder, result: PondsResult, report: PondsReport, w: WriteOptions = { project: null }): Promise<string[]> {
   let rasters: Promise<void>[] = [];
@@ -164,17 +173,15 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     await out.checkpoint();
 
     const tokens = result.areas.units.tokens;
-    const meta = {
-      name: 'depressions',
-      description: 'closed depressions at their spill levels (polygons) and their pour points (points)',
-      units: report.units,
-      caution: report.caution,
-    };
+    const levels = w.outlines ?? 'top';
+    const meta = { name: 'depressions', description: depressionsDescription(levels), units: report.units, caution: report.caution };
     w.progress?.stage('tracing outlines, writing depressions.geojson');
-    const counts = writeDepressionsGeojson(out.path('depressions.geojson'), w.project ? out.path('depressions-wgs84.geojson') : null, result, report.depressions.columns, w.project, meta);
-    report.outlines = outlinesEntry(counts,
-      (omitted) => `${omitted} nested merged depressions have no polygon in depressions.geojson (null geometry): tracing every level of this deep hierarchy would scan the grid too many times; the top-level and leaf depressions and the largest nested ones are traced — use --min-depth, --min-area or --min-volume to simplify the hierarchy`,
-      'every depression has its polygon');
+    const features = writeDepressionsGeojson(out.path('depressions.geojson'), w.project ? out.path('depressions-wgs84.geojson') : null, result, report.depressions.columns, levels, w.project, meta);
+    report.outlines = { levels, features, depressions: report.depressions.length, note: outlinesNote(levels, features, report.depressions.length) };
+    await out.checkpoint();
+    w.progress?.stage('writing pour-points.geojson');
+    writePourPointsGeojson(out.path('pour-points.geojson'), w.project ? out.path('pour-points-wgs84.geojson') : null, result, report.depressions.columns, w.project,
+      { name: 'pour-points', description: POUR_POINTS_DESCRIPTION, units: report.units, caution: report.caution });
     await out.checkpoint();
     w.progress?.stage('writing spill-paths.geojson');
     writeSpillPathsGeojson(out.path('spill-paths.geojson'), result, catch0, meta);
@@ -190,7 +197,7 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     writeReportFile(out.path('report.json'), report);
     await out.checkpoint();
     w.progress?.stage('writing the report');
-    addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'spill-paths.geojson', 'filled.tif', 'depth.tif', 'labels.tif', 'catchments.tif'], (ctx) => buildPondsHtml(result, report, ctx));
+    addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'pour-points.geojson', 'spill-paths.geojson', 'filled.tif', 'depth.tif', 'labels.tif', 'catchments.tif'], (ctx) => buildPondsHtml(result, report, ctx));
     await Promise.all(rasters);
     return await out.commit();
   } catch (e) {

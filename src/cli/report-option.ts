@@ -59,6 +59,7 @@ export type FlagSpec = [string, string, string | undefined][];
 export const PONDS_FLAGS: FlagSpec = [
   ['nodataAs', '--nodata-as', 'outlet'], ['minDepth', '--min-depth', undefined], ['minArea', '--min-area', undefined],
   ['minVolume', '--min-volume', undefined], ['fillOnlyBelow', '--fill-only-below', undefined], ['labelLevel', '--label-level', 'leaf'],
+  ['outlines', '--outlines', 'top'],
   ['zUnits', '--z-units', undefined], ['zFactor', '--z-factor', undefined], ['xyUnits', '--xy-units', undefined],
 ];
 

@@ -7,13 +7,14 @@ import { runoffStageVolume } from '../hydro/runoff.js';
 import { parseDepth, depthUnit, DEPTH_UNITS } from '../hydro/runoff-input.js';
 import { traceBodyOutlines } from '../hydro/runoff-vectors.js';
 import { writeGeoTiff, loadSurface } from '../io/index.js';
-import { writePolygons, formatNumber as jn } from '../io/stream.js';
+import { formatNumber as jn } from '../io/stream.js';
+import { writeOutlineGeometry } from '../hydro/vectors.js';
 import type { OutputFolder } from '../io/outdir.js';
 import type { Grid } from '../surface/grid.js';
 import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, openOutput, THRESHOLD } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, checkBalance, printReport, writeReportFile, writeIdCsv, withCollection,
-  stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
+  stageCsv, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
 import { loadInput } from './load.js';
 import { checkCellBudget, featureBudget } from './budget.js';
@@ -155,18 +156,17 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
       caution: report.caution,
     };
     const B = result.bodies;
-    let counts = { traced: 0, omitted: 0 };
+    let features = 0;
     withCollection(out.path('ponds.geojson'), g.crs, meta, (fc) => {
       // one polygon per pond, written as it is traced
-      counts = traceBodyOutlines(g, R.bodies, B.count, B.volume, (b, polygons) => {
+      features = traceBodyOutlines(g, R.bodies, B.count, (b, o) => {
         const props = `{"kind":"pond","id":${b},"volume":${jn(B.volume[b])},"level":${jn(B.level[b])},"area":${jn(B.area[b])},"cells":${jn(B.cells[b])}` +
           `,"maxDepth":${jn(B.maxDepth[b])},"depression":${B.depression[b] > 0 ? B.depression[b] : 'null'},"full":${B.full[b] === 1 ? 'true' : 'false'}}`;
-        fc.featureWith(b, (k) => { if (polygons === null || polygons.length === 0) k.write('null'); else writePolygons(k, polygons); }, props);
+        fc.featureWith(b, (k) => writeOutlineGeometry(k, o, g.transform), props);
       });
     });
-    report.outlines = outlinesEntry(counts,
-      (omitted) => `${omitted} of the smallest ponds have no polygon in ponds.geojson (null geometry): their bounding boxes would take the tracing past its budget of 8 × the grid's cells; water-depth.tif has every one`,
-      'every pond has its polygon');
+    if (features !== B.count) throw new Error(`${features} pond outlines traced for ${B.count} ponds (internal error)`);
+    report.outlines = { features, note: `ponds.geojson outlines all ${features} ponds` };
     await out.checkpoint();
     w.progress?.stage('writing runoff.csv');
     const cols = report.depressions.columns;

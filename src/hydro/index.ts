@@ -5,7 +5,10 @@ export { cellAreas, ellipsoidalCellArea, zoneArea, XY_UNITS, Z_UNITS, type CellA
 export { sweepDepressions, nodeSums, type DepressionSweep, type NodeSums } from './sweep.js';
 export { buildHierarchy, type Hierarchy, type HierarchyFilters, type RemovedSummary } from './hierarchy.js';
 export { pondRasters, topLabels, type PondRasters, type SpareMemory } from './rasters.js';
-export { depressionOutlines, traceDepressionOutlines, depressionBoxes, ringArea, maskRings, type DepressionOutline, type OutlineOptions, type FlatPolygon, type FlatRing } from './vectors.js';
+export {
+  depressionOutlines, traceDepressionOutlines, traceOutlines, writeOutlineGeometry, outlineRings, depressionRegions, ringArea, OUTLINE_LEVELS,
+  type DepressionOutline, type Outline, type OutlineLevels, type RegionSpec, type FlatPolygon, type FlatRing,
+} from './vectors.js';
 export { stageVolume, type StageRow } from './stage.js';
 export { toWgs84, projDefinition } from './reproject.js';
 export { runoff, runoffStageVolume, type RunoffOptions, type RunoffResult, type RunoffWater, type RunoffInputInfo, type WaterBodies } from './runoff.js';

@@ -102,8 +102,11 @@ export interface PondsReport {
     catchments: { cells: number; area: number } | null;
   };
   labelLevel: 'leaf' | 'top';
-  /** With -o: how many depressions have a polygon in depressions.geojson. */
-  outlines?: { traced: number; omitted: number; note: string };
+  /**
+   * With -o: which depressions have a polygon in depressions.geojson (`--outlines`: the leaf, the
+   * top-level or all depressions), how many of them, and a note saying so.
+   */
+  outlines?: { levels: 'leaf' | 'top' | 'all'; features: number; depressions: number; note: string };
   /** With --culverts: the lines applied and how the depressions changed against the DEM without them. */
   culverts?: CulvertsReport;
   /** One record per depression, made on demand from the columns (`depressions.columns`). */

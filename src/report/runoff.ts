@@ -84,8 +84,8 @@ export interface RunoffReport {
     closedRegionWater: number;
   };
   warnings: string[];
-  /** With -o: how many ponds have a polygon in ponds.geojson. */
-  outlines?: { traced: number; omitted: number; note: string };
+  /** With -o: how many ponds have a polygon in ponds.geojson (every pond). */
+  outlines?: { features: number; note: string };
   /** Records made on demand from the columns (record i is depression id i + 1, pond id i + 1). */
   depressions: DepressionRows<RunoffDepressionRecord>;
   ponds: Rows<PondRecord>;

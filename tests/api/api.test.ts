@@ -10,7 +10,7 @@ import fc from 'fast-check';
 import { readFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import {
-  readSurface, gridFromArray, surfaceName, survey, ponds, runoff, barriers, writeJsonFile, writeDepressionsCsv, writeDepressionsGeoJson,
+  readSurface, gridFromArray, surfaceName, survey, ponds, runoff, barriers, writeJsonFile, writeDepressionsCsv, writeDepressionsGeoJson, writePourPointsGeoJson,
   writeCsvFile, writePointsGeoJson, pondsRasters, runoffRasters, writeGeoTiff, InputError, Grid,
 } from '../../src/index.js';
 import { sill, tempDir, writeTerrainNpy } from '../cli/run.js';
@@ -28,7 +28,7 @@ const read = (p: string) => readFileSync(p);
 const json = (p: string) => JSON.parse(readFileSync(p, 'utf8'));
 
 describe('the library gives what the command line gives', () => {
-  it('ponds: report, depressions.csv, depressions.geojson and the rasters, byte for byte', async () => {
+  it('ponds: report, depressions.csv, depressions.geojson, pour-points.geojson and the rasters, byte for byte', async () => {
     const out = join(dir, 'ponds-cli');
     const r = sill(['ponds', dem, '-o', out, '--min-depth', '0.01', '--quiet', '--threads', '1']);
     expect(r.code, r.stderr).toBe(0);
@@ -36,17 +36,18 @@ describe('the library gives what the command line gives', () => {
     expect(run.report.input).toBe(dem); // named after the file it was read from
     const lib = join(dir, 'ponds-lib-');
     writeDepressionsCsv(`${lib}depressions.csv`, run);
-    const traced = writeDepressionsGeoJson(`${lib}depressions.geojson`, run);
+    const outlined = writeDepressionsGeoJson(`${lib}depressions.geojson`, run);
+    writePourPointsGeoJson(`${lib}pour-points.geojson`, run);
     writeJsonFile(`${lib}report.json`, run.report);
     const { filled, depth, labels } = pondsRasters(run);
     await writeGeoTiff(`${lib}filled.tif`, filled, { threads: 1 });
     await writeGeoTiff(`${lib}depth.tif`, depth, { threads: 1 });
     await writeGeoTiff(`${lib}labels.tif`, labels, { threads: 1 });
-    for (const f of ['depressions.csv', 'depressions.geojson', 'filled.tif', 'depth.tif', 'labels.tif']) {
+    for (const f of ['depressions.csv', 'depressions.geojson', 'pour-points.geojson', 'filled.tif', 'depth.tif', 'labels.tif']) {
       expect(read(`${lib}${f}`).equals(read(join(out, f))), f).toBe(true);
     }
     const cliReport = json(join(out, 'report.json'));
-    expect(cliReport.outlines.traced).toBe(traced.traced);
+    expect(cliReport.outlines).toMatchObject({ levels: 'top', features: outlined });
     delete cliReport.outlines; // set by the command's writer, with its note
     expect(json(`${lib}report.json`)).toEqual(cliReport);
     expect(run.report.depressions.length).toBeGreaterThan(5);

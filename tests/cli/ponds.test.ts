@@ -15,6 +15,7 @@ import { larkmoorDem, larkmoorCulverts } from '../../src/demo/generate.js';
 import { writeGeoTiff, readGeoTiff } from '../../src/io/index.js';
 import { Grid } from '../../src/surface/grid.js';
 import { pondsReport } from '../../src/report/ponds.js';
+import { fractalTerrain } from '../../bench/lib/terrain.mjs';
 
 const hasGdal = runs('gdal');
 const hasSkimage = runs('skimage');
@@ -69,7 +70,7 @@ describe('sill ponds (command line)', () => {
     const r = sill(['ponds', dem, '-o', out, '--quiet']);
     expect(r.code).toBe(0);
     expect(r.stdout).toBe('');
-    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'catchments.tif', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'report.json', 'spill-paths.geojson']);
+    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'catchments.tif', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'pour-points.geojson', 'report.json', 'spill-paths.geojson']);
     const rep = JSON.parse(readFileSync(join(out, 'report.json'), 'utf8'));
     const csv = readFileSync(join(out, 'depressions.csv'), 'utf8').trim().split('\n');
     expect(csv[0]).toMatch(/^id,parent,/);
@@ -85,8 +86,22 @@ describe('sill ponds (command line)', () => {
     expect(csv).toHaveLength(rep.depressions.length + 1);
     const gj = JSON.parse(readFileSync(join(out, 'depressions.geojson'), 'utf8'));
     expect(gj.crs.properties.name).toBe('urn:ogc:def:crs:EPSG::32633');
-    expect(gj.features.filter((f: { geometry: { type: string } }) => f.geometry.type === 'Point')).toHaveLength(rep.depressions.length);
+    // one geometry type a file: the top-level depressions' polygons (the default --outlines top), the pour points apart
+    const tops = rep.depressions.filter((d: { parent: number | null }) => d.parent === null).map((d: { id: number }) => d.id);
+    expect(gj.features.map((f: { id: number }) => f.id)).toEqual(tops);
+    for (const f of gj.features) expect(['Polygon', 'MultiPolygon']).toContain(f.geometry.type);
     expect(gj.caution).toMatch(/screening/i);
+    expect(rep.outlines).toMatchObject({ levels: 'top', features: tops.length, depressions: rep.depressions.length });
+    const pp = JSON.parse(readFileSync(join(out, 'pour-points.geojson'), 'utf8'));
+    expect(pp.name).toBe('pour-points');
+    expect(pp.crs.properties.name).toBe('urn:ogc:def:crs:EPSG::32633');
+    expect(pp.features.map((f: { id: number }) => f.id)).toEqual(rep.depressions.map((d: { id: number }) => d.id));
+    for (const f of pp.features) {
+      expect(f.geometry.type).toBe('Point');
+      const d = rep.depressions[f.id - 1];
+      expect(f.geometry.coordinates).toEqual([d.pour.x, d.pour.y]);
+      expect(f.properties).toMatchObject({ kind: 'pour point', id: d.id, pourCol: d.pour.col, pourRow: d.pour.row });
+    }
     if (!hasGdal) return;
     // Source: GDAL (python3-gdal) reading sill's files
     const script = `
@@ -121,6 +136,9 @@ s = sds.GetLayer(0)
 out['paths'] = {'n': s.GetFeatureCount(), 'types': sorted({ogr.GeometryTypeToName(f.GetGeometryRef().GetGeometryType()) for f in s}), 'epsg': int(s.GetSpatialRef().GetAuthorityCode(None))}
 s.ResetReading()
 out['paths']['lengths'] = {str(f.GetField('from')): f.GetGeometryRef().Length() for f in s}
+pds = ogr.Open(sys.argv[1] + '/pour-points.geojson')  # kept: a layer dies with its data source
+p = pds.GetLayer(0)
+out['points'] = {'features': p.GetFeatureCount(), 'type': ogr.GeometryTypeToName(p.GetGeomType())}
 print(json.dumps(out))
 `;
     const py = spawnSync(PY, ['-c', script, out], { encoding: 'utf8' });
@@ -146,7 +164,8 @@ print(json.dumps(out))
     expect(g.vector.epsg).toBe(32633);
     expect(g.vector.top).toBe(top.length);
     expect(g.vector.topArea).toBeCloseTo(rep.totals.area, 6);
-    expect(g.vector.features).toBe(2 * rep.depressions.length);
+    expect(g.vector.features).toBe(top.length);
+    expect(g.points).toEqual({ features: rep.depressions.length, type: 'Point' });
     // catchments.tif (GDAL's cell counts per value) = the report's catchment cells of the leaf depressions
     // (innermost labels), and the rest drains off the map
     const leafCells = new Map<number, number>();
@@ -171,6 +190,70 @@ print(json.dumps(out))
       expect(f.properties.to).toBe(into);
       if (into === 'outside') expect(f.properties.arrives === 'outside' || typeof f.properties.arrives === 'number').toBe(true);
     }
+  });
+
+  it('--outlines leaf and all: the innermost depressions, or every one; a bad level is refused', () => {
+    const leafOut = join(dir, 'out-leaf'), allOut = join(dir, 'out-all');
+    const lr = sill(['ponds', dem, '-o', leafOut, '--outlines', 'leaf', '--json']);
+    expect(lr.code, lr.stderr).toBe(0);
+    const rep = JSON.parse(lr.stdout);
+    const leaves = rep.depressions.filter((d: { children: number[] }) => d.children.length === 0).map((d: { id: number }) => d.id);
+    expect(rep.outlines).toMatchObject({ levels: 'leaf', features: leaves.length });
+    const lg = JSON.parse(readFileSync(join(leafOut, 'depressions.geojson'), 'utf8'));
+    expect(lg.features.map((f: { id: number }) => f.id)).toEqual(leaves);
+    expect(sill(['ponds', dem, '-o', allOut, '--outlines', 'all', '--quiet']).code).toBe(0);
+    const ag = JSON.parse(readFileSync(join(allOut, 'depressions.geojson'), 'utf8'));
+    expect(ag.features.map((f: { id: number }) => f.id)).toEqual(rep.depressions.map((d: { id: number }) => d.id));
+    for (const f of ag.features) expect(f.properties.area).toBe(rep.depressions[f.id - 1].area);
+    const bad = sill(['ponds', dem, '-o', join(dir, 'out-bad'), '--outlines', 'some']);
+    expect(bad.code).toBe(2);
+    expect(existsSync(join(dir, 'out-bad'))).toBe(false);
+  });
+
+  it.skipIf(!hasGdal)('on a rough terrain every vector file opens in OGR: valid polygons (GEOS), areas, one geometry type, GeoPackage without a warning (live)', async () => {
+    // a rough terrain like the benchmark's (bench/lib/terrain.mjs), unfiltered: a deep hierarchy
+    const size = 200;
+    const tif = join(dir, 'rough.tif');
+    await writeGeoTiff(tif, { width: size, height: size, values: fractalTerrain(size, { seed: 17 }), transform: [500000, 5, 0, 5800000, 0, -5], crs: { epsg: 32633, geographic: false }, nodata: -9999 });
+    const out = join(dir, 'out-rough');
+    const r = sill(['ponds', tif, '-o', out, '--outlines', 'all', '--wgs84', '--json']);
+    expect(r.code, r.stderr).toBe(0);
+    const rep = JSON.parse(r.stdout);
+    expect(rep.depressions.length).toBeGreaterThan(200);
+    // Source: GDAL/OGR with GEOS — IsValid() (OGC Simple Features), GetArea(), ogr2ogr -f GPKG
+    const script = `
+import json, sys, subprocess
+from osgeo import ogr, gdal
+gdal.UseExceptions()
+res = {}
+for name in ('depressions', 'pour-points', 'depressions-wgs84', 'pour-points-wgs84'):
+    path = sys.argv[1] + '/' + name + '.geojson'
+    ds = ogr.Open(path)  # kept: a layer dies with its data source
+    lay = ds.GetLayer(0)
+    invalid, worst, types, areas = 0, 0.0, set(), {}
+    for f in lay:
+        g = f.GetGeometryRef()
+        types.add(g.GetGeometryName())
+        if not g.IsValid(): invalid += 1
+        if name == 'depressions': areas[f.GetFID()] = g.GetArea()
+    p = subprocess.run(['ogr2ogr', '-f', 'GPKG', sys.argv[1] + '/' + name + '.gpkg', path], capture_output=True, text=True)
+    res[name] = {'n': lay.GetFeatureCount(), 'invalid': invalid, 'types': sorted(types), 'areas': areas, 'ogr2ogr': p.returncode, 'stderr': p.stderr}
+print(json.dumps(res))
+`;
+    const py = spawnSync(PY, ['-c', script, out], { encoding: 'utf8' });
+    expect(py.status, py.stderr).toBe(0);
+    const g = JSON.parse(py.stdout);
+    const n = rep.depressions.length;
+    for (const name of ['depressions', 'pour-points', 'depressions-wgs84', 'pour-points-wgs84']) {
+      expect(g[name].n).toBe(n);
+      expect(g[name].invalid).toBe(0);
+      expect(g[name].ogr2ogr).toBe(0);
+      expect(g[name].stderr).toBe('');
+    }
+    expect(g['pour-points'].types).toEqual(['POINT']);
+    expect(g.depressions.types).toEqual(['MULTIPOLYGON', 'POLYGON']);
+    // OGR's area of each outline = the depression's area (projected grid), to 1e-9
+    for (const d of rep.depressions) expect(Math.abs(g.depressions.areas[d.id] - d.area) / d.area).toBeLessThan(1e-9);
   });
 
   it.skipIf(!hasSkimage || !hasGdal)('filled.tif equals scikit-image reconstruction by erosion on the demo DEM (live)', () => {
@@ -205,7 +288,8 @@ print(int((ref[valid] != f[valid]).sum()))
     expect(rep.filters).toMatchObject({ minDepth: 0.05, minArea: 100, fillOnlyBelow: 5000 });
     expect(rep.removed.filtered).toBeGreaterThan(0);
     for (const d of rep.depressions) { expect(d.maxDepth).toBeGreaterThanOrEqual(0.05); expect(d.area).toBeGreaterThanOrEqual(100); }
-    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'catchments.tif', 'depressions-wgs84.geojson', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'report.json', 'spill-paths.geojson', 'stage-volume-1.csv']);
+    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'catchments.tif', 'depressions-wgs84.geojson', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif',
+      'pour-points-wgs84.geojson', 'pour-points.geojson', 'report.json', 'spill-paths.geojson', 'stage-volume-1.csv']);
     const labels = await readGeoTiff(join(out, 'labels.tif'));
     const ids = new Set<number>();
     for (const v of labels.values) if (v > 0) ids.add(v);
@@ -218,7 +302,11 @@ print(int((ref[valid] != f[valid]).sum()))
     expect(last[2]).toBeCloseTo(rep.depressions[0].volume, 3);
     const w = JSON.parse(readFileSync(join(out, 'depressions-wgs84.geojson'), 'utf8'));
     expect(w.crs).toBeUndefined();
-    const [lon, lat] = w.features.find((f: { geometry: { type: string } }) => f.geometry.type === 'Point').geometry.coordinates;
+    for (const f of w.features) expect(['Polygon', 'MultiPolygon']).toContain(f.geometry.type);
+    const wp = JSON.parse(readFileSync(join(out, 'pour-points-wgs84.geojson'), 'utf8'));
+    expect(wp.crs).toBeUndefined();
+    expect(wp.features).toHaveLength(rep.depressions.length);
+    const [lon, lat] = wp.features[0].geometry.coordinates;
     expect(lon).toBeGreaterThan(15.1); expect(lon).toBeLessThan(15.3);
     expect(lat).toBeGreaterThan(52.9); expect(lat).toBeLessThan(53.1);
   });

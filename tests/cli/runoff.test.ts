@@ -105,10 +105,13 @@ describe('sill runoff (command line)', () => {
     expect(gj.features).toHaveLength(rep.counts.ponds);
     expect(gj.caution).toMatch(/screening/i);
     for (const f of gj.features) expect(f.properties).toMatchObject({ kind: 'pond', volume: expect.any(Number), level: expect.any(Number) });
+    // polygons only: every pond has its outline
+    for (const f of gj.features) expect(['Polygon', 'MultiPolygon']).toContain(f.geometry.type);
+    expect(rep.outlines).toEqual({ features: rep.counts.ponds, note: expect.stringMatching(/all/) });
     if (!hasGdal) return;
     // Source: GDAL (python3-gdal) reading sill's files; OGR's polygon areas
     const script = `
-import json, sys
+import json, sys, subprocess
 from osgeo import gdal, ogr
 gdal.UseExceptions()
 out = {}
@@ -122,11 +125,16 @@ for name in ('water-level', 'water-depth'):
 v = ogr.Open(sys.argv[1] + '/ponds.geojson')
 l = v.GetLayer(0)
 areas = {}
+invalid = 0
 for f in l:
     g = f.GetGeometryRef()
     if g is not None:
         areas[f.GetField('id')] = g.GetArea()
+        if not g.IsValid(): invalid += 1
 out['areas'] = areas
+out['invalid'] = invalid
+p = subprocess.run(['ogr2ogr', '-f', 'GPKG', sys.argv[1] + '/../ponds-check.gpkg', sys.argv[1] + '/ponds.geojson'], capture_output=True, text=True)
+out['ogr2ogr'] = [p.returncode, p.stderr]
 out['epsg'] = int(l.GetSpatialRef().GetAuthorityCode(None))
 print(json.dumps(out))
 `;
@@ -143,6 +151,9 @@ print(json.dumps(out))
     expect(Math.abs(g['water-depth'].sum * 25 - rep.water.ponded) / rep.water.ponded).toBeLessThan(1e-5);
     expect(g.epsg).toBe(32633);
     for (const p of rep.ponds) expect(g.areas[String(p.id)]).toBeCloseTo(p.area, 6);
+    // GEOS (through OGR): every pond polygon valid; ogr2ogr converts the file to GeoPackage without a warning
+    expect(g.invalid).toBe(0);
+    expect(g.ogr2ogr).toEqual([0, '']);
   });
 
   it('--depth-raster on the DEM grid (in mm) gives the uniform result; a raster on another grid is resampled with a warning', () => {

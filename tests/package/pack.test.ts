@@ -117,7 +117,7 @@ const report: SurveyReport = survey(grid, { boundary: 'periodic', minPersistence
 const persistence: number = report.pairs.top(1)[0]?.persistence ?? 0;
 const forward: number | null = barriers(grid, { units: 'kJ/mol', to: 'kcal/mol' }).report.barriers[0]?.forward ?? null;
 const ponded: number = runoff(grid, { depth: '25mm' }).report.water.ponded;
-const traced: number = writeDepressionsGeoJson('d.geojson', run).traced;
+const traced: number = writeDepressionsGeoJson('d.geojson', run, 'all');
 async function read(): Promise<Surface> { return readSurface('dem.tif', { band: 1, layout: 'matrix' }); }
 function kind(e: unknown): string { return e instanceof InputError ? 'input' : e instanceof SelfCheckError ? 'self-check' : 'other'; }
 // @ts-expect-error connectivity is 4, 6 or 8

@@ -138,7 +138,7 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
   const mapNotes = [...displayNotes(sd, g, contours, zu), ...layer.notes,
     `water depth: each display cell's mean depth with every depression filled to its spill level (deepest ${fz(dmax)} ${zu})`];
   if (shownDeps < deps.length || shapes.length < deps.length) mapNotes.push(`${shownDeps} largest of ${deps.length} depressions marked, ${shapes.length} outlined`);
-  mapNotes.push(`outlines traced at display resolution${f > 1 ? ` (blocks of ${f} × ${f} cells)` : ''}; depressions.geojson has them cell by cell`);
+  mapNotes.push(`outlines traced at display resolution${f > 1 ? ` (blocks of ${f} × ${f} cells)` : ''}; depressions.geojson has them cell by cell (the levels of --outlines: top-level ones by default)`);
   const map = mapSvg({
     id: 'map', title: `Depressions of ${report.input ?? 'the DEM'}`,
     desc: `${g.width} by ${g.height} DEM in grey with hillshade; water depth at the spill levels in colour; ${shapes.length} depression outlines; `
