@@ -63,6 +63,9 @@ export interface RefineOptions {
   maxIterations?: number;
 }
 
+/** Halvings of a step that lands where the fit is undefined, before the refinement gives up. */
+const MAX_HALVINGS = 4;
+
 /** Refine the stationary point of `kind` near (x0, y0) on the field. */
 export function refineStationary(field: Field, x0: number, y0: number, kind: RefineKind, opts: RefineOptions = {}): Refined {
   const h = field.spacing;
@@ -104,8 +107,12 @@ export function refineStationary(field: Field, x0: number, y0: number, kind: Ref
     if (Math.hypot(...field.delta(x0, y0, x, y)) > maxShift) {
       return fail('left-neighbourhood', `Newton's iteration moved more than ${opts.maxShift ?? 3} sample spacings from the sampled point without converging; the grid location is kept`, it + 1);
     }
-    if (!field.evaluate(x, y, s)) {
-      return fail('outside-fit', 'the iteration reached unsampled cells or the edge of the samples', it + 1);
+    // where the fit has a gap (too few samples around a point of scattered samples), shorter steps first
+    let halvings = 0;
+    while (!field.evaluate(x, y, s)) {
+      if (halvings++ === MAX_HALVINGS) return fail('outside-fit', 'the iteration reached unsampled cells or the edge of the samples', it + 1);
+      dx /= 2; dy /= 2; len /= 2;
+      x -= dx; y -= dy;
     }
     if (len < 1e-10 * h) { converged = true; it++; break; }
   }
