@@ -26,7 +26,7 @@ import { simplifyMergeTree, type MergeTree } from '../morse/mergetree.js';
 import { PASS } from '../morse/critical.js';
 import { locate, type Location } from '../report/common.js';
 import { fieldFor, type Field, type MeshFieldOptions } from './field.js';
-import { refineStationary, type Refined } from './refine.js';
+import { refineStationary, descendOnFit, type Refined } from './refine.js';
 import { minimumEnergyPath, type MinimumEnergyPath } from './mep.js';
 import { pitRepresentatives, descentLabels, lowerLinkComponents, OUTSIDE, GHOST } from './basins.js';
 import { applyCap, preparePeriodic } from './prepare.js';
@@ -344,18 +344,27 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
   const leader = new Int32Array(nm);
   for (let k = 0; k < nm; k++) leader[k] = minGroup[k];
   // the deepest member leads each group
-  for (let k = 0; k < nm; k++) if (better(minRaw[k], minRaw[leader[minGroup[k]]]) < 0) leader[minGroup[k]] = k;
+  // (members of a group share the refined point, so the lowest sample leads)
+  const lower = (a: { energy: number; vertex: number }, b: { energy: number; vertex: number }) => a.energy - b.energy || a.vertex - b.vertex;
+  for (let k = 0; k < nm; k++) if (lower(minRaw[k], minRaw[leader[minGroup[k]]]) < 0) leader[minGroup[k]] = k;
   const headOf = (k: number) => leader[minGroup[k]];
   const failedInto = new Int32Array(nm).fill(-1);
-  if (threshold > Number.MIN_VALUE) {
+  if (threshold > Number.MIN_VALUE && minRaw.some((m) => m.basis === 'sampled' && !m.onEdge)) {
+    const leaders: number[] = [];
+    for (let j = 0; j < nm; j++) if (minRaw[j].basis === 'refined' && headOf(j) === j) leaders.push(j);
+    // a periodic surface wraps x, so there every leader is looked at
+    leaders.sort((a, b) => minRaw[a].bestX - minRaw[b].bestX);
+    const leadX = Float64Array.from(leaders, (j) => (field.periodic ? 0 : minRaw[j].bestX));
+    const leadTolMax = field.periodic ? Infinity : leaders.reduce((t, j) => Math.max(t, mergeTol(minRaw[j].vertex)), 0);
     for (let k = 0; k < nm; k++) {
       const f = minRaw[k];
       if (f.basis === 'refined' || f.onEdge) continue;
-      const d = refineStationary(field, f.location.x, f.location.y, 'minimum', { maxShift: FAILED_DESCENT_SPACINGS, maxIterations: 4 * FAILED_DESCENT_SPACINGS });
-      if (d.status !== 'converged') continue;
-      for (let j = 0; j < nm; j++) {
-        const m = minRaw[j];
-        if (m.basis !== 'refined' || headOf(j) !== j) continue;
+      const d = descendOnFit(field, f.location.x, f.location.y, FAILED_DESCENT_SPACINGS);
+      if (d === null) continue;
+      // the refined minimum the descent reached (leaders sorted by x; look within the largest tolerance)
+      const from = lowerBound(leadX, d.x - leadTolMax);
+      for (let q = from; q < leaders.length && leadX[q] <= d.x + leadTolMax; q++) {
+        const j = leaders[q], m = minRaw[j];
         if (Math.hypot(...field.delta(d.x, d.y, m.bestX, m.bestY)) > mergeTol(m.vertex)) continue;
         if (f.energy - m.bestEnergy <= threshold) failedInto[k] = j;
         break;
@@ -377,12 +386,10 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
   for (let k = 0; k < nm; k++) if (stateOfPit[k] === k) { compact[k] = stateIds.length; stateIds.push(k); }
   const labelOf = new Int32Array(nm);
   for (let k = 0; k < nm; k++) labelOf[k] = compact[stateOfPit[k]];
-  if (mergedAway.minima > 0) for (let i = 0; i < basinOf.length; i++) if (basinOf[i] >= 0) basinOf[i] = labelOf[basinOf[i]];
-  const minPersOf = (k: number): number | null => {
-    let p = -Infinity;
-    for (let j = 0; j < nm; j++) if (stateOfPit[j] === k) p = Math.max(p, persOf.get(minimaVerts[j]) ?? Infinity);
-    return Number.isFinite(p) ? p : null;
-  };
+  // a state's persistence: the largest of its sampled pits' (a pit that never dies makes it null)
+  const statePers = new Float64Array(nm).fill(-Infinity);
+  for (let j = 0; j < nm; j++) statePers[stateOfPit[j]] = Math.max(statePers[stateOfPit[j]], persOf.get(minimaVerts[j]) ?? Infinity);
+  const minPersOf = (k: number): number | null => (Number.isFinite(statePers[k]) ? statePers[k] : null);
   const minTmp = stateIds.map((k) => ({ k: compact[k], rec: minRaw[k], merged: minMerged[k], persistence: minPersOf(k) }));
   minTmp.sort((a, b) => better(a.rec, b.rec));
   const minId = new Array<string>(stateIds.length);
@@ -407,11 +414,14 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
     return pairs;
   };
   const tsRaw = passVerts.map((v, k) => {
-    const comps = lowerLinkComponents(cx, v).map((u) => (u === GHOST ? OUTSIDE : basinOf[u]));
-    // joined distinct basins before the minima were merged
-    const distinct = new Set(comps).size > 1;
+    const raw = lowerLinkComponents(cx, v).map((u) => (u === GHOST ? OUTSIDE : basinOf[u]));
+    // whether it joined distinct basins before the minima were merged
+    const distinct = new Set(raw).size > 1;
+    const comps = raw.map((b) => (b >= 0 ? labelOf[b] : b));
     return { k, mult: passMult[k], comps, distinct, inTree: treeVerts.has(v), rec: base(v, 'transition-state') };
   });
+  // every sample's basin label in terms of the states
+  if (mergedAway.minima > 0) for (let i = 0; i < basinOf.length; i++) if (basinOf[i] >= 0) basinOf[i] = labelOf[basinOf[i]];
   const nt = tsRaw.length;
   const tsGroup = groupByPoint(
     tsRaw.map((t) => t.rec.bestX), tsRaw.map((t) => t.rec.bestY), tsRaw.map((t) => mergeTol(t.rec.vertex)),
@@ -419,7 +429,7 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
   );
   const tsLead = new Int32Array(nt);
   for (let k = 0; k < nt; k++) tsLead[k] = tsGroup[k];
-  for (let k = 0; k < nt; k++) if (better(tsRaw[k].rec, tsRaw[tsLead[tsGroup[k]]].rec) < 0) tsLead[tsGroup[k]] = k;
+  for (let k = 0; k < nt; k++) if (lower(tsRaw[k].rec, tsRaw[tsLead[tsGroup[k]]].rec) < 0) tsLead[tsGroup[k]] = k;
   const minOfLabel = (label: number) => stateIds[label];
   const edgeRemoved: number[] = [];
   const tsKeep: { lead: number; members: number[] }[] = [];
@@ -650,6 +660,16 @@ function hierarchyOverStates(minima: MinimumRecord[], transitionStates: Transiti
     t.inTree = node >= 0;
   }
   return nodes;
+}
+
+/** First index of a sorted array whose value is at least v. */
+function lowerBound(a: Float64Array, v: number): number {
+  let lo = 0, hi = a.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >> 1;
+    if (a[mid] < v) lo = mid + 1; else hi = mid;
+  }
+  return lo;
 }
 
 function fmt(x: number): string {

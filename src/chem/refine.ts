@@ -140,3 +140,31 @@ export function refineStationary(field: Field, x0: number, y0: number, kind: Ref
 function fmtEig(v: [number, number]): string {
   return v.map((x) => Number(x.toPrecision(4))).join(', ');
 }
+
+/**
+ * Steepest descent on the fit from (x0, y0): steps along −∇f of at most half a sample spacing, each
+ * halved until the energy drops; stops when a step shorter than 10⁻⁶ spacing no longer lowers it or
+ * after `maxTravel` spacings. Returns where it stopped, or null when the fit is undefined at the start.
+ */
+export function descendOnFit(field: Field, x0: number, y0: number, maxTravel: number): { x: number; y: number; energy: number } | null {
+  const h = field.spacing;
+  const s = newSample(), t = newSample();
+  if (!field.evaluate(x0, y0, s)) return null;
+  let x = x0, y = y0, travelled = 0;
+  let step = 0.5 * h;
+  for (let it = 0; it < 100 * maxTravel && travelled < maxTravel * h; it++) {
+    const g = Math.hypot(s[1], s[2]);
+    if (!(g > 0)) break;
+    let moved = false;
+    for (let a = Math.min(step * 2, 0.5 * h); a >= 1e-6 * h; a /= 2) {
+      const nx = x - (a * s[1]) / g, ny = y - (a * s[2]) / g;
+      if (field.evaluate(nx, ny, t) && t[0] < s[0]) {
+        x = nx; y = ny; s.set(t); travelled += a; step = a; moved = true;
+        break;
+      }
+    }
+    if (!moved) break;
+  }
+  const [wx, wy] = field.wrap(x, y);
+  return { x: wx, y: wy, energy: s[0] };
+}
