@@ -42,7 +42,7 @@ export function registerBarriers(program: Command): void {
   const mp = cmd.options.find((o) => o.long === '--min-persistence');
   if (mp) {
     mp.description = 'merge basins whose barrier is below V (input energy unit)';
-    mp.defaultValueDescription = '1 kT at --temperature when --units is given, else 0';
+    mp.defaultValueDescription = '1 kT at --temperature when --units is given, else the noise floor of the samples; 0 keeps everything';
   }
   cmd
     .option('--units <unit>', `energy unit of the input: ${ENERGY_UNITS.join(', ')}`, 'none')
