@@ -31,7 +31,7 @@ import { minimumEnergyPath, type MinimumEnergyPath } from './mep.js';
 import { pitRepresentatives, descentLabels, lowerLinkComponents, OUTSIDE, GHOST } from './basins.js';
 import { applyCap, preparePeriodic } from './prepare.js';
 import { noiseFloor, type NoiseFloor } from './noise.js';
-import { groupByPoint, localSpacing, outwardRise } from './merge.js';
+import { groupByPoint, hullInfo, localSpacing, outwardRise } from './merge.js';
 import { checkTemperature, kTIn, type EnergyUnit } from './units.js';
 
 export interface BarriersOptions {
@@ -323,6 +323,9 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
       basis: good ? 'refined' : 'sampled',
     };
   };
+  // x wraps (grids only): the period, for the searches by x
+  const periodX = field.periodic && wrapX ? prep.period[0] : null;
+  const hull = surface.kind === 'mesh' ? hullInfo(surface) : null;
   // two refined points closer than half the local sample spacing are one stationary point
   const mergeTol = (vertex: number) => MERGE_TOLERANCE * localSpacing(surface, vertex, field.spacing);
   const mergedAway = { minima: 0, transitionStates: 0, edge: 0 };
@@ -337,7 +340,7 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
   const nm = minRaw.length;
   const minGroup = groupByPoint(
     minRaw.map((m) => m.bestX), minRaw.map((m) => m.bestY), minRaw.map((m) => mergeTol(m.vertex)),
-    minRaw.map((m) => m.basis === 'refined'), field.delta.bind(field), field.periodic,
+    minRaw.map((m) => m.basis === 'refined'), field.delta.bind(field), periodX,
   );
   // a failed minimum that lies in a refined minimum's basin of the fit, no higher than the floor above it, joins it
   const minMerged: MergedPoint[][] = minRaw.map(() => []);
@@ -352,22 +355,24 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
   if (threshold > Number.MIN_VALUE && minRaw.some((m) => m.basis === 'sampled' && !m.onEdge)) {
     const leaders: number[] = [];
     for (let j = 0; j < nm; j++) if (minRaw[j].basis === 'refined' && headOf(j) === j) leaders.push(j);
-    // a periodic surface wraps x, so there every leader is looked at
     leaders.sort((a, b) => minRaw[a].bestX - minRaw[b].bestX);
-    const leadX = Float64Array.from(leaders, (j) => (field.periodic ? 0 : minRaw[j].bestX));
-    const leadTolMax = field.periodic ? Infinity : leaders.reduce((t, j) => Math.max(t, mergeTol(minRaw[j].vertex)), 0);
+    const leadX = Float64Array.from(leaders, (j) => minRaw[j].bestX);
+    const leadTolMax = leaders.reduce((t, j) => Math.max(t, mergeTol(minRaw[j].vertex)), 0);
     for (let k = 0; k < nm; k++) {
       const f = minRaw[k];
       if (f.basis === 'refined' || f.onEdge) continue;
       const d = descendOnFit(field, f.location.x, f.location.y, FAILED_DESCENT_SPACINGS);
       if (d === null) continue;
-      // the refined minimum the descent reached (leaders sorted by x; look within the largest tolerance)
-      const from = lowerBound(leadX, d.x - leadTolMax);
-      for (let q = from; q < leaders.length && leadX[q] <= d.x + leadTolMax; q++) {
-        const j = leaders[q], m = minRaw[j];
-        if (Math.hypot(...field.delta(d.x, d.y, m.bestX, m.bestY)) > mergeTol(m.vertex)) continue;
-        if (f.energy - m.bestEnergy <= threshold) failedInto[k] = j;
-        break;
+      // the refined minimum the descent reached (leaders sorted by x; look within the largest
+      // tolerance, and across the seam when x wraps)
+      search: for (const shift of periodX === null ? [0] : [0, periodX, -periodX]) {
+        const cx = d.x + shift;
+        for (let q = lowerBound(leadX, cx - leadTolMax); q < leaders.length && leadX[q] <= cx + leadTolMax; q++) {
+          const j = leaders[q], m = minRaw[j];
+          if (Math.hypot(...field.delta(d.x, d.y, m.bestX, m.bestY)) > mergeTol(m.vertex)) continue;
+          if (f.energy - m.bestEnergy <= threshold) failedInto[k] = j;
+          break search;
+        }
       }
     }
   }
@@ -425,7 +430,7 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
   const nt = tsRaw.length;
   const tsGroup = groupByPoint(
     tsRaw.map((t) => t.rec.bestX), tsRaw.map((t) => t.rec.bestY), tsRaw.map((t) => mergeTol(t.rec.vertex)),
-    tsRaw.map((t) => t.rec.basis === 'refined'), field.delta.bind(field), field.periodic,
+    tsRaw.map((t) => t.rec.basis === 'refined'), field.delta.bind(field), periodX,
   );
   const tsLead = new Int32Array(nt);
   for (let k = 0; k < nt; k++) tsLead[k] = tsGroup[k];
@@ -454,7 +459,7 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
     }
     // scattered samples: an unrefined saddle on the hull (or next to it) where the surface climbs out
     // of the window by more than the threshold within one spacing is an artefact of where the hull was sampled
-    if (surface.kind === 'mesh' && !inTree && threshold > Number.MIN_VALUE && t.rec.basis === 'sampled' && members.length === 1 && outwardRise(surface, t.rec.vertex, field, localSpacing(surface, t.rec.vertex, field.spacing)) > threshold) {
+    if (surface.kind === 'mesh' && hull !== null && !inTree && threshold > Number.MIN_VALUE && t.rec.basis === 'sampled' && members.length === 1 && outwardRise(surface, hull, t.rec.vertex, field, localSpacing(surface, t.rec.vertex, field.spacing)) > threshold) {
       edgeRemoved.push(lead);
       continue;
     }

@@ -29,32 +29,56 @@ export function localSpacing(surface: Grid | Mesh, i: number, fallback: number):
 
 /**
  * Groups of points within tolerance of each other (transitively): the group index of every point.
- * `tol[k]` is point k's tolerance; two points join when their distance is at most the larger one.
- * Points with `use[k]` false stay alone.
+ * `tol[k]` is point k's tolerance; two points join when their distance (by `delta`, which honours
+ * periodicity) is at most the larger one. Points with `use[k]` false stay alone. A sweep over x:
+ * each point is compared with those at most the largest tolerance further along, and, when x wraps
+ * with period `periodX`, with those across the seam.
  */
 export function groupByPoint(x: ArrayLike<number>, y: ArrayLike<number>, tol: ArrayLike<number>, use: ArrayLike<boolean>,
-  delta: (ax: number, ay: number, bx: number, by: number) => [number, number], periodic: boolean): Int32Array {
+  delta: (ax: number, ay: number, bx: number, by: number) => [number, number], periodX: number | null): Int32Array {
   const n = x.length;
   const parent = Int32Array.from({ length: n }, (_, k) => k);
   const find = (a: number): number => { while (parent[a] !== a) a = parent[a] = parent[parent[a]]; return a; };
   const idx: number[] = [];
   let tmax = 0;
   for (let k = 0; k < n; k++) if (use[k]) { idx.push(k); tmax = Math.max(tmax, tol[k]); }
-  const close = (a: number, b: number) => Math.hypot(...delta(x[a], y[a], x[b], y[b])) <= Math.max(tol[a], tol[b]);
-  if (periodic) {
-    // few points on a torus in practice; pairwise keeps the wrap exact
-    for (let p = 0; p < idx.length; p++) for (let q = p + 1; q < idx.length; q++) if (close(idx[p], idx[q])) parent[find(idx[p])] = find(idx[q]);
-  } else {
-    idx.sort((a, b) => x[a] - x[b]);
-    for (let p = 0; p < idx.length; p++) {
-      for (let q = p + 1; q < idx.length && x[idx[q]] - x[idx[p]] <= tmax; q++) {
-        if (close(idx[p], idx[q])) parent[find(idx[p])] = find(idx[q]);
-      }
+  const join = (a: number, b: number) => {
+    if (Math.hypot(...delta(x[a], y[a], x[b], y[b])) <= Math.max(tol[a], tol[b])) parent[find(a)] = find(b);
+  };
+  idx.sort((a, b) => x[a] - x[b]);
+  for (let p = 0; p < idx.length; p++) {
+    for (let q = p + 1; q < idx.length && x[idx[q]] - x[idx[p]] <= tmax; q++) join(idx[p], idx[q]);
+  }
+  if (periodX !== null && idx.length > 1) {
+    // across the seam: the first points (within tmax of the lowest x) against the last ones
+    const lo = x[idx[0]];
+    for (let p = 0; p < idx.length && x[idx[p]] - lo <= tmax; p++) {
+      for (let q = idx.length - 1; q > p && x[idx[p]] + periodX - x[idx[q]] <= tmax; q--) join(idx[p], idx[q]);
     }
   }
   const out = new Int32Array(n);
   for (let k = 0; k < n; k++) out[k] = find(k);
   return out;
+}
+
+/** What outwardRise needs of the hull, computed once: each sample's place on it and the hull's orientation. */
+export interface HullInfo {
+  /** Position of each sample on the hull, −1 off it. */
+  position: Int32Array;
+  /** +1 when the hull runs counter-clockwise, −1 clockwise. */
+  orientation: number;
+}
+
+export function hullInfo(mesh: Mesh): HullInfo {
+  const H = mesh.hull.length;
+  const position = new Int32Array(mesh.size).fill(-1);
+  let area2 = 0;
+  for (let k = 0; k < H; k++) {
+    const a = mesh.hull[k], b = mesh.hull[(k + 1) % H];
+    position[a] = k;
+    area2 += mesh.x[a] * mesh.y[b] - mesh.x[b] * mesh.y[a];
+  }
+  return { position, orientation: area2 > 0 ? 1 : -1 };
 }
 
 /**
@@ -63,7 +87,7 @@ export function groupByPoint(x: ArrayLike<number>, y: ArrayLike<number>, tol: Ar
  * gradient of the fit at the sample, or where the fit is not defined there (too few samples on the
  * hull), up to two spacings inside. NaN when i is not on or next to the hull, or the fit is undefined.
  */
-export function outwardRise(mesh: Mesh, i: number, field: Field, h: number): number {
+export function outwardRise(mesh: Mesh, hull: HullInfo, i: number, field: Field, h: number): number {
   const H = mesh.hull.length;
   // the hull sample itself, or the nearest hull sample among its neighbours
   let e = mesh.onHull[i] ? i : -1, bestD = Infinity;
@@ -74,16 +98,11 @@ export function outwardRise(mesh: Mesh, i: number, field: Field, h: number): num
       if (mesh.onHull[j] && d < bestD) { e = j; bestD = d; }
     }
   }
-  const hp = e < 0 ? -1 : mesh.hull.indexOf(e);
+  const hp = e < 0 ? -1 : hull.position[e];
   if (hp < 0 || H < 3) return NaN;
   const prev = mesh.hull[(hp + H - 1) % H], next = mesh.hull[(hp + 1) % H];
-  // orientation of the hull polygon (signed area), so the normal points out whichever way it runs
-  let area2 = 0;
-  for (let k = 0; k < H; k++) {
-    const a = mesh.hull[k], b = mesh.hull[(k + 1) % H];
-    area2 += mesh.x[a] * mesh.y[b] - mesh.x[b] * mesh.y[a];
-  }
-  const sgn = area2 > 0 ? 1 : -1;
+  // the outward normal, whichever way the hull runs
+  const sgn = hull.orientation;
   let nx = 0, ny = 0;
   for (const [a, b] of [[prev, e], [e, next]]) {
     const dx = mesh.x[b] - mesh.x[a], dy = mesh.y[b] - mesh.y[a];

@@ -4,6 +4,7 @@ import { barriers, MERGE_TOLERANCE, type BarriersResult, type StationaryRecord }
 import { noiseFloor, valueQuantum, NOISE_FACTOR } from '../../src/chem/noise.js';
 import { Mesh } from '../../src/surface/mesh.js';
 import { Grid } from '../../src/surface/grid.js';
+import { groupByPoint } from '../../src/chem/merge.js';
 import { mbGrid, mbReference, muellerBrown, scatteredSamples, wolfeQuapp, wqReference, WQ_WINDOW, type MbReference } from './mb.js';
 
 const MB_WINDOW = { x: [-1.5, 1.2], y: [-0.5, 2.0] };
@@ -150,6 +151,26 @@ describe('one state per stationary point', () => {
     // with a threshold below its height above the minimum (0.0005) it stays a state of its own, unrefined, as before
     const low = barriers(m, { threads: 1, minPersistence: 0.0004, meshFit: fit });
     expect(low.minima.some((s) => s.vertex === k && s.refined.status !== 'converged')).toBe(true);
+  });
+});
+
+describe('groupByPoint', () => {
+  it('joins points within the larger tolerance, transitively, and across the seam of a periodic axis', () => {
+    // analytic: distances on a line and on a circle of circumference 360
+    const plain = (ax: number, ay: number, bx: number, by: number): [number, number] => [bx - ax, by - ay];
+    const wrap = (ax: number, ay: number, bx: number, by: number): [number, number] => [bx - ax - 360 * Math.round((bx - ax) / 360), by - ay];
+    const x = [0.5, 359.7, 10, 10.8, 11.2, 50, 11.9], y = [0, 0, 0, 0, 0, 0, 0];
+    const tol = [1, 1, 1, 0.5, 0.5, 1, 0.5], use = [true, true, true, true, true, true, true];
+    const g = groupByPoint(x, y, tol, use, plain, null);
+    expect(g[0]).not.toBe(g[1]);
+    expect(g[2]).toBe(g[3]);
+    expect(g[3]).toBe(g[4]); // so 10 and 11.2, 1.2 apart, are one group through 10.8
+    expect(g[6]).not.toBe(g[4]); // 0.7 apart, both tolerances 0.5
+    expect(g[5]).not.toBe(g[2]);
+    const w = groupByPoint(x, y, tol, use, wrap, 360);
+    expect(w[0]).toBe(w[1]); // 0.8 apart across the seam
+    const off = groupByPoint(x, y, tol, [true, false, true, true, true, true, true], wrap, 360);
+    expect(off[0]).not.toBe(off[1]);
   });
 });
 
