@@ -70,15 +70,16 @@ export function planeResiduals(mesh: Mesh): Float64Array {
 
 function meshResidualFloor(mesh: Mesh): NoiseFloor {
   const r = planeResiduals(mesh);
-  const vals: number[] = [];
-  for (let i = 0; i < r.length; i++) if (r[i] === r[i]) vals.push(r[i]);
+  // the residuals that exist, packed to the front
+  let k = 0;
+  for (let i = 0; i < r.length; i++) if (r[i] === r[i]) r[k++] = r[i];
   const how = `${NOISE_FACTOR} × 1.4826 × the median absolute deviation of each sample from the least-squares plane through its Delaunay neighbours`;
-  if (vals.length < 3) return { value: 0, estimator: `${how}: too few samples off the hull, so 0`, scale: null, samples: vals.length };
-  const a = Float64Array.from(vals);
+  if (k < 3) return { value: 0, estimator: `${how}: too few samples off the hull, so 0`, scale: null, samples: k };
+  const a = r.subarray(0, k);
   const med = median(a);
   for (let k = 0; k < a.length; k++) a[k] = Math.abs(a[k] - med);
   const sigma = MAD_SCALE * median(a);
-  return { value: NOISE_FACTOR * sigma, estimator: how, scale: sigma, samples: vals.length };
+  return { value: NOISE_FACTOR * sigma, estimator: how, scale: sigma, samples: k };
 }
 
 /** Median of a typed array (sorted in place). */
@@ -88,38 +89,55 @@ function median(a: Float64Array): number {
   return a.length % 2 ? a[m] : (a[m - 1] + a[m]) / 2;
 }
 
+/** Values the quantum is first estimated from (a strided sample of the grid, sorted). */
+const QUANTUM_SAMPLE = 65536;
+
 /**
  * The value quantum of a grid: the step q such that every valid value is the lowest plus a whole
- * number of steps (within the rounding of the stored type) — the greatest common divisor of the gaps
- * between sorted distinct values, by Euclid's algorithm with that tolerance. Null when the values are
- * not quantised (the divisor shrinks below a millionth of the value range).
+ * number of steps (within the rounding of the stored type). Estimated from a strided sample of at
+ * most 65 536 values — the greatest common divisor of the gaps between its sorted distinct values,
+ * by Euclid's algorithm with the storage rounding as tolerance, sharpened by the whole value range —
+ * then checked against every value in one pass (no copy of the grid). Null when the values are not
+ * quantised: the divisor shrinks below a millionth of the range, or a value is off the steps.
  */
 export function valueQuantum(values: ArrayLike<number>): number | null {
   const n = values.length;
-  let count = 0;
-  for (let i = 0; i < n; i++) if (values[i] === values[i]) count++;
-  if (count < 2) return null;
-  const sorted = new Float64Array(count);
-  let k = 0;
-  for (let i = 0; i < n; i++) if (values[i] === values[i]) sorted[k++] = values[i];
-  sorted.sort();
-  const lo = sorted[0], hi = sorted[count - 1];
+  let lo = Infinity, hi = -Infinity, count = 0;
+  for (let i = 0; i < n; i++) {
+    const v = values[i];
+    if (v !== v) continue;
+    count++;
+    if (v < lo) lo = v;
+    if (v > hi) hi = v;
+  }
   if (!(hi > lo)) return null;
   // rounding of the stored values: float32 grids carry about 7 significant digits
   const mag = Math.max(Math.abs(lo), Math.abs(hi));
   const slack = 4 * (values instanceof Float32Array ? 2 ** -23 : 2 ** -52) * mag;
   const least = 1e-6 * (hi - lo);
+  const stride = Math.max(1, Math.floor(count / QUANTUM_SAMPLE));
+  const pick: number[] = [lo, hi];
+  for (let i = 0, k = 0; i < n; i++) {
+    const v = values[i];
+    if (v !== v) continue;
+    if (k++ % stride === 0) pick.push(v);
+  }
+  const sample = Float64Array.from(pick).sort();
   let q = 0;
-  for (let i = 1; i < count; i++) {
-    const d = sorted[i] - sorted[i - 1];
+  for (let i = 1; i < sample.length; i++) {
+    const d = sample[i] - sample[i - 1];
     if (d <= slack) continue;
-    q = q === 0 ? d : gcdTol(q, d, slack + 1e-9 * (hi - lo));
+    q = q === 0 ? d : gcdTol(q, d, 2 * slack + 1e-9 * d);
     if (q < least) return null;
   }
   if (q === 0) return null;
+  // the step from the whole range (the divisor's own rounding would grow with the step count)
+  q = (hi - lo) / Math.round((hi - lo) / q);
   // check: every value a whole number of steps above the lowest
-  for (let i = 0; i < count; i++) {
-    const m = (sorted[i] - lo) / q;
+  for (let i = 0; i < n; i++) {
+    const v = values[i];
+    if (v !== v) continue;
+    const m = (v - lo) / q;
     if (Math.abs(m - Math.round(m)) * q > 2 * slack + 1e-6 * q) return null;
   }
   return q;

@@ -204,6 +204,11 @@ describe('the noise floor', () => {
     expect(valueQuantum(rounded)).toBeCloseTo(0.01, 9);
     expect(valueQuantum(Float32Array.from(g.values, (z) => Math.round(z * 4) / 4))).toBeCloseTo(0.25, 9);
     expect(valueQuantum(g.values)).toBeNull();
+    // more values than the estimate samples: 300 000 values of 50·sin(i) rounded to 0.001
+    const big = Float64Array.from({ length: 300000 }, (_, i) => Math.round(50000 * Math.sin(i)) / 1000);
+    expect(valueQuantum(big)).toBeCloseTo(0.001, 12);
+    big[123457] += 0.0004; // one value off the steps
+    expect(valueQuantum(big)).toBeNull();
     const rg = new Grid({ width: g.width, height: g.height, values: rounded, transform: g.transform });
     const r = barriers(rg, { threads: 1 });
     expect(r.noiseFloor).toMatchObject({ used: true });
