@@ -141,6 +141,7 @@ export async function writeBarriersFiles(out: OutputFolder, result: BarriersResu
       ['hessian_xx', (r) => r.hessian?.[0][0]], ['hessian_xy', (r) => r.hessian?.[0][1]], ['hessian_yy', (r) => r.hessian?.[1][1]],
       ['eigenvalue_1', (r) => r.hessianEigenvalues?.[0]], ['eigenvalue_2', (r) => r.hessianEigenvalues?.[1]],
       ['refinement', (r) => r.refinement.status],
+      ['persistence', (r) => r.persistence], ['merged_points', (r) => r.merged.length],
     ];
     csv('minima.csv', report.minima, [
       ...stationaryCols<BarriersReport['minima'][number]>(),
