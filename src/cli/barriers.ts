@@ -194,7 +194,7 @@ export function removedLine(r: BarriersReport, u: string): string | null {
   }
   if (rm.edge.transitionStates) parts.push(`${n(rm.edge.transitionStates, 'transition state', 'transition states')} on the hull of the samples where the surface rises out of the window (more than the threshold within one spacing)`);
   const merged = both(rm.merged.minima, rm.merged.transitionStates);
-  if (merged) parts.push(`${merged} merged into another state (same refined point within ${MERGE_TOLERANCE} local spacing, or a failed minimum inside its basin; listed as \`merged\` in report.json)`);
+  if (merged) parts.push(`${merged} merged into another state (same refined point within ${MERGE_TOLERANCE} local spacing, a failed minimum inside its basin, or the saddle between two such pits; listed as \`merged\` in report.json)`);
   return parts.length ? parts.join('; ') : null;
 }
 
