@@ -14,7 +14,7 @@ const MB_WINDOW = { x: [-1.5, 1.2], y: [-0.5, 2.0] };
  * h/4 of SciPy's root, its energy within the noise floor the run reports (the floor is 5 robust
  * deviations of the linear-interpolation error, so a refined energy off by more than it is no better
  * than a sample). Worst cases over 20 seeds (bench/barriers-scattered.mjs, docs/barriers.md): 0.18·h
- * and 0.06 × the floor on Müller–Brown, 0.004·h and 0.001 × the floor on Wolfe–Quapp.
+ * and 0.056 × the floor on Müller–Brown, 0.004·h and 0.0012 × the floor on Wolfe–Quapp.
  */
 const POSITION_TOL = 0.25;
 
