@@ -26,10 +26,12 @@ import { simplifyMergeTree, type MergeTree } from '../morse/mergetree.js';
 import { PASS } from '../morse/critical.js';
 import { locate, type Location } from '../report/common.js';
 import { fieldFor, type Field, type MeshFieldOptions } from './field.js';
-import { refineStationary, type Refined } from './refine.js';
+import { refineStationary, descendOnFit, type Refined } from './refine.js';
 import { minimumEnergyPath, type MinimumEnergyPath } from './mep.js';
 import { pitRepresentatives, descentLabels, lowerLinkComponents, OUTSIDE, GHOST } from './basins.js';
 import { applyCap, preparePeriodic } from './prepare.js';
+import { noiseFloor, type NoiseFloor } from './noise.js';
+import { groupByPoint, hullInfo, localSpacing, outwardRise } from './merge.js';
 import { checkTemperature, kTIn, type EnergyUnit } from './units.js';
 
 export interface BarriersOptions {
@@ -68,6 +70,29 @@ export const MINIMAX_LIMIT = 300;
 
 export type EnergyBasis = 'refined' | 'sampled';
 
+/** Refined points closer than this many local sample spacings are one stationary point. */
+export const MERGE_TOLERANCE = 0.5;
+/** How far (in sample spacings) the descent on the fit from a failed minimum may go to find the minimum whose basin holds it. */
+export const FAILED_DESCENT_SPACINGS = 20;
+
+/** A sampled critical point folded into a state. */
+export interface MergedPoint {
+  /** Sample index, location and value. */
+  index: number;
+  x: number;
+  y: number;
+  energy: number;
+  /** Its own refinement status. */
+  refinement: string;
+  /**
+   * 'same-minimum' / 'same-saddle': refined to the same point as the state (within MERGE_TOLERANCE
+   * local spacings); 'failed-minimum-in-basin': its refinement failed, descent on the fit from it
+   * reaches the state's minimum, and it lies no more than the threshold above that minimum;
+   * 'saddle-inside-minimum': the pass that joined two sampled pits that are this one minimum.
+   */
+  rule: 'same-minimum' | 'same-saddle' | 'failed-minimum-in-basin' | 'saddle-inside-minimum';
+}
+
 export interface StationaryRecord {
   id: string;
   vertex: number;
@@ -82,6 +107,10 @@ export interface StationaryRecord {
   bestX: number;
   bestY: number;
   basis: EnergyBasis;
+  /** Sampled critical points folded into this state (none usually). */
+  merged: MergedPoint[];
+  /** Persistence of the feature on the samples (its pair in the sublevel filtration); null when it never dies. */
+  persistence: number | null;
 }
 
 export interface BasinInfo {
@@ -163,6 +192,18 @@ export interface BarriersResult {
   /** k_B·T in input units (null for 'none'). */
   kT: number | null;
   minPersistence: { value: number; source: string };
+  /** The noise floor estimated from the samples, and whether it set the threshold. */
+  noiseFloor: NoiseFloor & { used: boolean };
+  /**
+   * What was left out or folded together: features with positive persistence below the threshold,
+   * saddles on the hull of scattered samples where the surface climbs out of the window, and
+   * sampled points merged into another state.
+   */
+  removed: {
+    belowThreshold: { minima: number; transitionStates: number; threshold: number; rule: string };
+    edge: { transitionStates: number; rule: string };
+    merged: { minima: number; transitionStates: number; rule: string };
+  };
   minima: MinimumRecord[];
   transitionStates: TransitionStateRecord[];
   barriers: BarrierRow[];
@@ -188,19 +229,8 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
   const boundary = opts.boundary ?? 'closed';
   const notes: string[] = [];
 
-  let minP: number, minPSource: string;
-  if (opts.minPersistence !== undefined) {
-    if (!(opts.minPersistence >= 0) || !Number.isFinite(opts.minPersistence)) {
-      throw new InputError(`minimum persistence must be a number ≥ 0, got ${opts.minPersistence}`);
-    }
-    minP = opts.minPersistence;
-    minPSource = 'given';
-  } else if (kT !== null) {
-    minP = kT;
-    minPSource = `default: 1 kT at ${T} K`;
-  } else {
-    minP = 0;
-    minPSource = 'default: 0 (energy unit unknown, so no kT); only zero-persistence pairs are removed';
+  if (opts.minPersistence !== undefined && (!(opts.minPersistence >= 0) || !Number.isFinite(opts.minPersistence))) {
+    throw new InputError(`minimum persistence must be a number ≥ 0, got ${opts.minPersistence}`);
   }
 
   let surface = input;
@@ -215,11 +245,30 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
   surface = prep.surface;
   notes.push(...prep.notes);
 
+  // the noise floor of the samples: the default threshold when neither a unit nor a threshold is given
+  const floor = noiseFloor(surface);
+  let minP: number, minPSource: string, threshold: number;
+  if (opts.minPersistence !== undefined) {
+    minP = opts.minPersistence;
+    minPSource = 'given';
+    threshold = minP;
+  } else if (kT !== null) {
+    minP = kT;
+    minPSource = `default: 1 kT at ${T} K`;
+    threshold = minP;
+  } else {
+    minP = floor.value;
+    minPSource = `default: the noise floor of the samples (${floor.estimator})`;
+    // a quantised grid: features one quantum deep are within the rounding, so they go too
+    threshold = surface.kind === 'grid' && floor.value > 0 ? floor.value * (1 + 1e-6) : floor.value;
+  }
+  const floorUsed = opts.minPersistence === undefined && kT === null;
+
   const res = survey(surface, { connectivity: opts.connectivity, boundary, minPersistence: 0, threads: opts.threads });
   const cx = res.complex;
   const values = cx.values;
   // persistence below the threshold is cancelled; zero persistence (ties) always is
-  const threshold = Math.max(minP, Number.MIN_VALUE);
+  threshold = Math.max(threshold, Number.MIN_VALUE);
   const tree = simplifyMergeTree(res.join, values, threshold);
   const rep = pitRepresentatives(res.join, values, threshold);
 
@@ -231,13 +280,24 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
   const minimaArr = Int32Array.from(minimaVerts);
   const basinOf = descentLabels(cx, res.order, rep, minimaArr);
 
-  // passes left after cancelling pairs below the threshold
+  // passes left after cancelling pairs below the threshold; features with positive persistence below it are counted as removed
   const cancelled = new Map<number, number>();
   const P = res.pairs;
+  // persistence of the surviving pair(s) at each pit and pass (the largest, for a pass in two pairs)
+  const persOf = new Map<number, number>();
+  const removed = { minima: 0, transitionStates: 0 };
   for (let k = 0; k < P.dim.length; k++) {
-    if (!(P.persistence[k] < threshold)) continue;
     const passV = P.dim[k] === 0 ? P.deathVertex[k] : P.birthVertex[k];
+    if (!(P.persistence[k] < threshold)) {
+      if (P.dim[k] === 0) persOf.set(P.birthVertex[k], P.persistence[k]);
+      persOf.set(passV, Math.max(persOf.get(passV) ?? 0, P.persistence[k]));
+      continue;
+    }
     cancelled.set(passV, (cancelled.get(passV) ?? 0) + 1);
+    if (P.persistence[k] > 0) {
+      removed.transitionStates++;
+      if (P.dim[k] === 0) removed.minima++;
+    }
   }
   const passVerts: number[] = [], passMult: number[] = [];
   const cp = res.critical;
@@ -251,7 +311,7 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
   const wrapY = boundary === 'periodic' || boundary === 'periodic-y';
   const field = fieldFor(surface, wrapX && surface.kind === 'grid', wrapY && surface.kind === 'grid', opts.meshFit);
 
-  const base = (vertex: number, kind: 'minimum' | 'transition-state'): Omit<StationaryRecord, 'id'> => {
+  const base = (vertex: number, kind: 'minimum' | 'transition-state'): Omit<StationaryRecord, 'id' | 'merged' | 'persistence'> => {
     const location = locate(surface, vertex);
     const refined = refineStationary(field, location.x, location.y, kind);
     const good = refined.status === 'converged';
@@ -263,24 +323,91 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
       basis: good ? 'refined' : 'sampled',
     };
   };
+  // x wraps (grids only): the period, for the searches by x
+  const periodX = field.periodic && wrapX ? prep.period[0] : null;
+  const hull = surface.kind === 'mesh' ? hullInfo(surface) : null;
+  // two refined points closer than half the local sample spacing are one stationary point
+  const mergeTol = (vertex: number) => MERGE_TOLERANCE * localSpacing(surface, vertex, field.spacing);
+  const mergedAway = { minima: 0, transitionStates: 0, edge: 0 };
+  const mergedPoint = (r: Omit<StationaryRecord, 'id' | 'merged' | 'persistence'>, rule: MergedPoint['rule']): MergedPoint => ({
+    index: r.vertex, x: r.location.x, y: r.location.y, energy: r.energy, refinement: r.refined.status, rule,
+  });
+  const better = (a: Omit<StationaryRecord, 'id' | 'merged' | 'persistence'>, b: Omit<StationaryRecord, 'id' | 'merged' | 'persistence'>) =>
+    a.bestEnergy - b.bestEnergy || a.energy - b.energy || a.vertex - b.vertex;
 
-  // minima, numbered by energy
-  const minTmp = minimaVerts.map((v, k) => ({ k, rec: base(v, 'minimum') }));
-  minTmp.sort((a, b) => a.rec.bestEnergy - b.rec.bestEnergy || a.rec.vertex - b.rec.vertex);
-  const minId = new Array<string>(minimaVerts.length);
+  // minima: refine every sampled pit, then one state per refined point
+  const minRaw = minimaVerts.map((v) => base(v, 'minimum'));
+  const nm = minRaw.length;
+  const minGroup = groupByPoint(
+    minRaw.map((m) => m.bestX), minRaw.map((m) => m.bestY), minRaw.map((m) => mergeTol(m.vertex)),
+    minRaw.map((m) => m.basis === 'refined'), field.delta.bind(field), periodX,
+  );
+  // a failed minimum that lies in a refined minimum's basin of the fit, no higher than the floor above it, joins it
+  const minMerged: MergedPoint[][] = minRaw.map(() => []);
+  const leader = new Int32Array(nm);
+  for (let k = 0; k < nm; k++) leader[k] = minGroup[k];
+  // the deepest member leads each group
+  // (members of a group share the refined point, so the lowest sample leads)
+  const lower = (a: { energy: number; vertex: number }, b: { energy: number; vertex: number }) => a.energy - b.energy || a.vertex - b.vertex;
+  for (let k = 0; k < nm; k++) if (lower(minRaw[k], minRaw[leader[minGroup[k]]]) < 0) leader[minGroup[k]] = k;
+  const headOf = (k: number) => leader[minGroup[k]];
+  const failedInto = new Int32Array(nm).fill(-1);
+  if (threshold > Number.MIN_VALUE && minRaw.some((m) => m.basis === 'sampled' && !m.onEdge)) {
+    const leaders: number[] = [];
+    for (let j = 0; j < nm; j++) if (minRaw[j].basis === 'refined' && headOf(j) === j) leaders.push(j);
+    leaders.sort((a, b) => minRaw[a].bestX - minRaw[b].bestX);
+    const leadX = Float64Array.from(leaders, (j) => minRaw[j].bestX);
+    const leadTolMax = leaders.reduce((t, j) => Math.max(t, mergeTol(minRaw[j].vertex)), 0);
+    for (let k = 0; k < nm; k++) {
+      const f = minRaw[k];
+      if (f.basis === 'refined' || f.onEdge) continue;
+      const d = descendOnFit(field, f.location.x, f.location.y, FAILED_DESCENT_SPACINGS);
+      if (d === null) continue;
+      // the refined minimum the descent reached (leaders sorted by x; look within the largest
+      // tolerance, and across the seam when x wraps)
+      search: for (const shift of periodX === null ? [0] : [0, periodX, -periodX]) {
+        const cx = d.x + shift;
+        for (let q = lowerBound(leadX, cx - leadTolMax); q < leaders.length && leadX[q] <= cx + leadTolMax; q++) {
+          const j = leaders[q], m = minRaw[j];
+          if (Math.hypot(...field.delta(d.x, d.y, m.bestX, m.bestY)) > mergeTol(m.vertex)) continue;
+          if (f.energy - m.bestEnergy <= threshold) failedInto[k] = j;
+          break search;
+        }
+      }
+    }
+  }
+  // label of every sampled pit → the state that represents it
+  const stateOfPit = new Int32Array(nm);
+  for (let k = 0; k < nm; k++) stateOfPit[k] = failedInto[k] >= 0 ? failedInto[k] : headOf(k);
+  for (let k = 0; k < nm; k++) {
+    const s = stateOfPit[k];
+    if (s === k) continue;
+    minMerged[s].push(mergedPoint(minRaw[k], failedInto[k] >= 0 ? 'failed-minimum-in-basin' : 'same-minimum'));
+    mergedAway.minima++;
+  }
+  // compact labels 0..R−1 over the states, deepest first later
+  const stateIds: number[] = [];
+  const compact = new Int32Array(nm).fill(-1);
+  for (let k = 0; k < nm; k++) if (stateOfPit[k] === k) { compact[k] = stateIds.length; stateIds.push(k); }
+  const labelOf = new Int32Array(nm);
+  for (let k = 0; k < nm; k++) labelOf[k] = compact[stateOfPit[k]];
+  // a state's persistence: the largest of its sampled pits' (a pit that never dies makes it null)
+  const statePers = new Float64Array(nm).fill(-Infinity);
+  for (let j = 0; j < nm; j++) statePers[stateOfPit[j]] = Math.max(statePers[stateOfPit[j]], persOf.get(minimaVerts[j]) ?? Infinity);
+  const minPersOf = (k: number): number | null => (Number.isFinite(statePers[k]) ? statePers[k] : null);
+  const minTmp = stateIds.map((k) => ({ k: compact[k], rec: minRaw[k], merged: minMerged[k], persistence: minPersOf(k) }));
+  minTmp.sort((a, b) => better(a.rec, b.rec));
+  const minId = new Array<string>(stateIds.length);
   minTmp.forEach((m, r) => { minId[m.k] = `M${r + 1}`; });
   const labelName = (label: number): string => (label === OUTSIDE ? 'outside' : minId[label]);
-  const energyOfLabel = new Float64Array(minimaVerts.length);
+  const energyOfLabel = new Float64Array(stateIds.length);
   for (const m of minTmp) energyOfLabel[m.k] = m.rec.bestEnergy;
   const minEnergyOfLabel = (label: number): number => (label === OUTSIDE ? -Infinity : energyOfLabel[label]);
-  const labelOfVertex = new Map<number, number>();
-  minimaVerts.forEach((v, k) => labelOfVertex.set(v, k));
 
-  // transition states
+  // transition states: the basins each pass joins (after the merges of minima)
   const treeVerts = new Set<number>();
   for (let k = 0; k < tree.vertex.length; k++) if (tree.childCount[k] > 0 && tree.vertex[k] >= 0) treeVerts.add(tree.vertex[k]);
-  const tsTmp = passVerts.map((v, k) => {
-    const comps = lowerLinkComponents(cx, v).map((u) => (u === GHOST ? OUTSIDE : basinOf[u]));
+  const pairsOf = (comps: number[]): [number, number][] => {
     comps.sort((a, b) => minEnergyOfLabel(a) - minEnergyOfLabel(b) || a - b);
     const pairs: [number, number][] = [];
     for (let i = 0; i < comps.length; i++) {
@@ -289,16 +416,78 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
       }
     }
     if (pairs.length === 0) pairs.push([comps[0] ?? OUTSIDE, comps[0] ?? OUTSIDE]);
-    return { k, mult: passMult[k], pairs, rec: base(v, 'transition-state') };
+    return pairs;
+  };
+  const tsRaw = passVerts.map((v, k) => {
+    const raw = lowerLinkComponents(cx, v).map((u) => (u === GHOST ? OUTSIDE : basinOf[u]));
+    // whether it joined distinct basins before the minima were merged
+    const distinct = new Set(raw).size > 1;
+    const comps = raw.map((b) => (b >= 0 ? labelOf[b] : b));
+    return { k, mult: passMult[k], comps, distinct, inTree: treeVerts.has(v), rec: base(v, 'transition-state') };
   });
-  tsTmp.sort((a, b) => a.rec.bestEnergy - b.rec.bestEnergy || a.rec.vertex - b.rec.vertex);
+  // every sample's basin label in terms of the states
+  if (mergedAway.minima > 0) for (let i = 0; i < basinOf.length; i++) if (basinOf[i] >= 0) basinOf[i] = labelOf[basinOf[i]];
+  const nt = tsRaw.length;
+  const tsGroup = groupByPoint(
+    tsRaw.map((t) => t.rec.bestX), tsRaw.map((t) => t.rec.bestY), tsRaw.map((t) => mergeTol(t.rec.vertex)),
+    tsRaw.map((t) => t.rec.basis === 'refined'), field.delta.bind(field), periodX,
+  );
+  const tsLead = new Int32Array(nt);
+  for (let k = 0; k < nt; k++) tsLead[k] = tsGroup[k];
+  for (let k = 0; k < nt; k++) if (lower(tsRaw[k].rec, tsRaw[tsLead[tsGroup[k]]].rec) < 0) tsLead[tsGroup[k]] = k;
+  const minOfLabel = (label: number) => stateIds[label];
+  const edgeRemoved: number[] = [];
+  const tsKeep: { lead: number; members: number[] }[] = [];
+  const groupMembers = new Map<number, number[]>();
+  for (let k = 0; k < nt; k++) {
+    const g = tsLead[tsGroup[k]];
+    const list = groupMembers.get(g);
+    if (list) list.push(k); else groupMembers.set(g, [k]);
+  }
+  for (const [lead, members] of groupMembers) {
+    const t = tsRaw[lead];
+    const comps = new Set(members.flatMap((k) => tsRaw[k].comps));
+    const inTree = members.some((k) => tsRaw[k].inTree);
+    // a join of two sampled pits that are one minimum: it joins that minimum to itself, so it is part of it
+    if (mergedAway.minima > 0 && inTree && comps.size === 1 && members.some((k) => tsRaw[k].distinct)) {
+      const label = [...comps][0];
+      if (label >= 0) {
+        for (const k of members) minMerged[minOfLabel(label)].push(mergedPoint(tsRaw[k].rec, 'saddle-inside-minimum'));
+        mergedAway.transitionStates += members.length;
+        continue;
+      }
+    }
+    // scattered samples: an unrefined saddle on the hull (or next to it) where the surface climbs out
+    // of the window by more than the threshold within one spacing is an artefact of where the hull was sampled
+    if (surface.kind === 'mesh' && hull !== null && !inTree && threshold > Number.MIN_VALUE && t.rec.basis === 'sampled' && members.length === 1 && outwardRise(surface, hull, t.rec.vertex, field, localSpacing(surface, t.rec.vertex, field.spacing)) > threshold) {
+      edgeRemoved.push(lead);
+      continue;
+    }
+    tsKeep.push({ lead, members });
+  }
+  mergedAway.edge = edgeRemoved.length;
+  const tsTmp = tsKeep.map(({ lead, members }) => {
+    const t = tsRaw[lead];
+    const comps = [...new Set(members.flatMap((k) => tsRaw[k].comps))];
+    const merged = members.filter((k) => k !== lead).map((k) => mergedPoint(tsRaw[k].rec, 'same-saddle'));
+    mergedAway.transitionStates += merged.length;
+    let pers = -Infinity;
+    for (const k of members) pers = Math.max(pers, persOf.get(tsRaw[k].rec.vertex) ?? Infinity);
+    return {
+      k: t.k, mult: Math.max(...members.map((k) => tsRaw[k].mult)), pairs: pairsOf(comps), rec: t.rec, merged,
+      inTree: members.some((k) => tsRaw[k].inTree), persistence: Number.isFinite(pers) ? pers : null,
+    };
+  });
+  tsTmp.sort((a, b) => better(a.rec, b.rec));
 
-  const minima: MinimumRecord[] = minTmp.map((m) => ({ id: minId[m.k], ...m.rec, basin: { samples: 0, area: 0, freeEnergy: null, population: null } }));
+  const minima: MinimumRecord[] = minTmp.map((m) => ({
+    id: minId[m.k], ...m.rec, merged: m.merged, persistence: m.persistence, basin: { samples: 0, area: 0, freeEnergy: null, population: null },
+  }));
   const transitionStates: TransitionStateRecord[] = tsTmp.map((t, r) => {
     const pairs = t.pairs.map(([a, b]) => [labelName(a), labelName(b)] as [string, string]);
     return {
-      id: `T${r + 1}`, ...t.rec, multiplicity: t.mult, connects: pairs[0], connectsPairs: pairs,
-      inTree: treeVerts.has(t.rec.vertex), path: null, pathNote: null,
+      id: `T${r + 1}`, ...t.rec, merged: t.merged, persistence: t.persistence, multiplicity: t.mult, connects: pairs[0], connectsPairs: pairs,
+      inTree: t.inTree, path: null, pathNote: null,
     };
   });
   const minById = new Map(minima.map((m) => [m.id, m]));
@@ -319,26 +508,34 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
     }
   }
 
-  // hierarchy (simplified join tree) and minimax barriers
-  const hierarchy: HierarchyNode[] = [];
-  for (let k = 0; k < tree.vertex.length; k++) {
-    const v = tree.vertex[k];
-    let kind: HierarchyNode['kind'], ref: string | null = null, energy: number | null = null;
-    if (v < 0) kind = 'outside';
-    else if (tree.childCount[k] === 0) {
-      kind = 'minimum';
-      ref = minId[labelOfVertex.get(v)!];
-      energy = minById.get(ref)!.bestEnergy;
-    } else {
-      kind = 'transition-state';
-      const t = tsByVertex.get(v);
-      if (!t) throw new Error(`internal: merge at vertex ${v} is not a transition state`);
-      ref = t.id;
-      energy = t.bestEnergy;
+  // hierarchy: the simplified join tree, or, when minima were merged, the same tree rebuilt over the
+  // states (transition states in order of their sampled energy join the components of their basins)
+  let hierarchy: HierarchyNode[];
+  if (mergedAway.minima === 0 && mergedAway.transitionStates === 0) {
+    hierarchy = [];
+    const labelOfVertex = new Map<number, number>();
+    minimaVerts.forEach((v, k) => labelOfVertex.set(v, k));
+    for (let k = 0; k < tree.vertex.length; k++) {
+      const v = tree.vertex[k];
+      let kind: HierarchyNode['kind'], ref: string | null = null, energy: number | null = null;
+      if (v < 0) kind = 'outside';
+      else if (tree.childCount[k] === 0) {
+        kind = 'minimum';
+        ref = minId[labelOfVertex.get(v)!];
+        energy = minById.get(ref)!.bestEnergy;
+      } else {
+        kind = 'transition-state';
+        const t = tsByVertex.get(v) ?? transitionStates.find((s) => s.merged.some((q) => q.index === v));
+        if (!t) throw new Error(`internal: merge at vertex ${v} is not a transition state`);
+        ref = t.id;
+        energy = t.bestEnergy;
+      }
+      hierarchy.push({ id: k, kind, ref, energy, parent: tree.parent[k] < 0 ? null : tree.parent[k], children: [] });
     }
-    hierarchy.push({ id: k, kind, ref, energy, parent: tree.parent[k] < 0 ? null : tree.parent[k], children: [] });
+    for (const node of hierarchy) if (node.parent !== null) hierarchy[node.parent].children.push(node.id);
+  } else {
+    hierarchy = hierarchyOverStates(minima, transitionStates);
   }
-  for (const node of hierarchy) if (node.parent !== null) hierarchy[node.parent].children.push(node.id);
 
   let minimax: MinimaxRow[] | null = null;
   if (minima.length <= MINIMAX_LIMIT) minimax = minimaxBarriers(hierarchy, minima);
@@ -411,8 +608,73 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
   return {
     surface, survey: res, field, connectivity: cx.connectivity, boundary, units, temperature: T, kT,
     minPersistence: { value: minP, source: minPSource },
+    noiseFloor: { ...floor, used: floorUsed },
+    removed: {
+      belowThreshold: {
+        minima: removed.minima, transitionStates: removed.transitionStates, threshold: minP,
+        rule: floorUsed ? 'persistence below the noise floor' : minPSource === 'given' ? 'persistence below --min-persistence' : 'persistence below 1 kT',
+      },
+      edge: { transitionStates: mergedAway.edge, rule: 'saddle on the hull of the samples where the surface rises out of the window by more than the threshold within one sample spacing' },
+      merged: { minima: mergedAway.minima, transitionStates: mergedAway.transitionStates, rule: `refined to the same point (within ${MERGE_TOLERANCE} local sample spacing), a failed minimum inside a minimum's basin within the threshold, or a saddle between two such points` },
+    },
     minima, transitionStates, barriers: barrierRows, minimax, hierarchy, basinOf, period: prep.period, notes,
   };
+}
+
+/**
+ * The basin hierarchy over merged states: transition states in order of their sampled energy (the
+ * order of the join tree) join the components of the basins they connect; each join is a node
+ * (children before parents), and `inTree` is set on the transition states that join something.
+ */
+function hierarchyOverStates(minima: MinimumRecord[], transitionStates: TransitionStateRecord[]): HierarchyNode[] {
+  const nodes: HierarchyNode[] = [];
+  const nodeOf = new Map<string, number>();
+  for (const m of minima) {
+    nodeOf.set(m.id, nodes.length);
+    nodes.push({ id: nodes.length, kind: 'minimum', ref: m.id, energy: m.bestEnergy, parent: null, children: [] });
+  }
+  const parent = new Map<string, string>();
+  const find = (a: string): string => { let r = a; while (parent.has(r)) r = parent.get(r)!; return r; };
+  const top = new Map<string, number>(nodeOf);
+  const ensure = (id: string) => {
+    if (id === 'outside' && !top.has('outside')) {
+      top.set('outside', nodes.length);
+      nodes.push({ id: nodes.length, kind: 'outside', ref: null, energy: null, parent: null, children: [] });
+    }
+  };
+  const order = transitionStates.slice().sort((a, b) => a.energy - b.energy || a.vertex - b.vertex);
+  for (const t of order) {
+    let node = -1;
+    for (const [a, b] of t.connectsPairs) {
+      ensure(a); ensure(b);
+      const ra = find(a), rb = find(b);
+      if (ra === rb) continue;
+      if (node < 0) {
+        node = nodes.length;
+        nodes.push({ id: node, kind: 'transition-state', ref: t.id, energy: t.bestEnergy, parent: null, children: [] });
+      }
+      for (const r of [ra, rb]) {
+        const child = top.get(r)!;
+        if (child === node) continue;
+        nodes[child].parent = node;
+        nodes[node].children.push(child);
+      }
+      parent.set(ra, rb);
+      top.set(rb, node);
+    }
+    t.inTree = node >= 0;
+  }
+  return nodes;
+}
+
+/** First index of a sorted array whose value is at least v. */
+function lowerBound(a: Float64Array, v: number): number {
+  let lo = 0, hi = a.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >> 1;
+    if (a[mid] < v) lo = mid + 1; else hi = mid;
+  }
+  return lo;
 }
 
 function fmt(x: number): string {

@@ -8,7 +8,8 @@
  *    f₋₁ = 3f₀ − 3f₁ + f₂; on a periodic axis the stencil wraps. A stencil touching nodata has no fit.
  *  - MeshField: moving least squares over scattered samples — at each point, a weighted polynomial
  *    fit (quadratic or cubic) to the samples within a fixed radius, with Wendland's C² weight
- *    (1 − r)⁴(4r + 1); value and derivatives are those of the local polynomial at the point.
+ *    (1 − r)⁴(4r + 1); value and derivatives are those of the local polynomial at the point. Where
+ *    the samples within the radius are too few or degenerate, the radius is widened ×1.5, then ×2.
  *    Defined inside the convex hull only.
  *
  * All derivatives are with respect to the map coordinates x, y.
@@ -220,6 +221,9 @@ export interface MeshFieldOptions {
   neighbours?: number;
 }
 
+/** Radius factors the scattered-sample fit tries in turn where samples are sparse. */
+const WIDENINGS = [1, 1.5, 2];
+
 export class MeshField implements Field {
   readonly kind = 'mls' as const;
   readonly spacing: number;
@@ -247,7 +251,8 @@ export class MeshField implements Field {
     this.mesh = mesh;
     this.degree = opts.degree ?? 3;
     this.terms = this.degree === 3 ? 10 : 6;
-    this.minCount = Math.ceil(this.terms * 1.5);
+    // more samples than unknowns, with a margin; the solver refuses a degenerate set anyway
+    this.minCount = this.terms + 2;
     const n = mesh.size;
     // hull polygon and its area
     const H = mesh.hull.length;
@@ -337,13 +342,21 @@ export class MeshField implements Field {
 
   evaluate(x: number, y: number, out: FieldSample): boolean {
     if (!this.inside(x, y)) return false;
-    const m = this.mesh, R = this.radius, T = this.terms;
+    // where the samples are sparse, the fit widens its radius (×1.5, then ×2) before giving up
+    for (const widen of WIDENINGS) if (this.fitAt(x, y, this.radius * widen, out)) return true;
+    return false;
+  }
+
+  /** The local polynomial fit at (x, y) over the samples within radius R; false with too few samples or a singular system. */
+  private fitAt(x: number, y: number, R: number, out: FieldSample): boolean {
+    const m = this.mesh, T = this.terms;
     const A = this.A, rhs = this.rhs, phi = this.phi;
     A.fill(0); rhs.fill(0);
-    const bxc = Math.floor((x - this.bx0) / R), byc = Math.floor((y - this.by0) / R);
+    const reach = Math.ceil(R / this.radius);
+    const bxc = Math.floor((x - this.bx0) / this.radius), byc = Math.floor((y - this.by0) / this.radius);
     let count = 0;
-    for (let by = Math.max(0, byc - 1); by <= Math.min(this.nby - 1, byc + 1); by++) {
-      for (let bx = Math.max(0, bxc - 1); bx <= Math.min(this.nbx - 1, bxc + 1); bx++) {
+    for (let by = Math.max(0, byc - reach); by <= Math.min(this.nby - 1, byc + reach); by++) {
+      for (let bx = Math.max(0, bxc - reach); bx <= Math.min(this.nbx - 1, bxc + reach); bx++) {
         const b = by * this.nbx + bx;
         for (let k = this.bucketStart[b]; k < this.bucketStart[b + 1]; k++) {
           const i = this.bucketItems[k];

@@ -63,6 +63,9 @@ export interface RefineOptions {
   maxIterations?: number;
 }
 
+/** Halvings of a step that lands where the fit is undefined, before the refinement gives up. */
+const MAX_HALVINGS = 4;
+
 /** Refine the stationary point of `kind` near (x0, y0) on the field. */
 export function refineStationary(field: Field, x0: number, y0: number, kind: RefineKind, opts: RefineOptions = {}): Refined {
   const h = field.spacing;
@@ -104,8 +107,12 @@ export function refineStationary(field: Field, x0: number, y0: number, kind: Ref
     if (Math.hypot(...field.delta(x0, y0, x, y)) > maxShift) {
       return fail('left-neighbourhood', `Newton's iteration moved more than ${opts.maxShift ?? 3} sample spacings from the sampled point without converging; the grid location is kept`, it + 1);
     }
-    if (!field.evaluate(x, y, s)) {
-      return fail('outside-fit', 'the iteration reached unsampled cells or the edge of the samples', it + 1);
+    // where the fit has a gap (too few samples around a point of scattered samples), shorter steps first
+    let halvings = 0;
+    while (!field.evaluate(x, y, s)) {
+      if (halvings++ === MAX_HALVINGS) return fail('outside-fit', 'the iteration reached unsampled cells or the edge of the samples', it + 1);
+      dx /= 2; dy /= 2; len /= 2;
+      x -= dx; y -= dy;
     }
     if (len < 1e-10 * h) { converged = true; it++; break; }
   }
@@ -132,4 +139,32 @@ export function refineStationary(field: Field, x0: number, y0: number, kind: Ref
 
 function fmtEig(v: [number, number]): string {
   return v.map((x) => Number(x.toPrecision(4))).join(', ');
+}
+
+/**
+ * Steepest descent on the fit from (x0, y0): steps along −∇f of at most half a sample spacing, each
+ * halved until the energy drops; stops when a step shorter than 10⁻⁶ spacing no longer lowers it or
+ * after `maxTravel` spacings. Returns where it stopped, or null when the fit is undefined at the start.
+ */
+export function descendOnFit(field: Field, x0: number, y0: number, maxTravel: number): { x: number; y: number; energy: number } | null {
+  const h = field.spacing;
+  const s = newSample(), t = newSample();
+  if (!field.evaluate(x0, y0, s)) return null;
+  let x = x0, y = y0, travelled = 0;
+  let step = 0.5 * h;
+  for (let it = 0; it < 100 * maxTravel && travelled < maxTravel * h; it++) {
+    const g = Math.hypot(s[1], s[2]);
+    if (!(g > 0)) break;
+    let moved = false;
+    for (let a = Math.min(step * 2, 0.5 * h); a >= 1e-6 * h; a /= 2) {
+      const nx = x - (a * s[1]) / g, ny = y - (a * s[2]) / g;
+      if (field.evaluate(nx, ny, t) && t[0] < s[0]) {
+        x = nx; y = ny; s.set(t); travelled += a; step = a; moved = true;
+        break;
+      }
+    }
+    if (!moved) break;
+  }
+  const [wx, wy] = field.wrap(x, y);
+  return { x: wx, y: wy, energy: s[0] };
 }

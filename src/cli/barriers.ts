@@ -3,7 +3,8 @@ import type { Command } from 'commander';
 import { barriersReport, pathRows, type BarriersReport } from '../report/barriers.js';
 import type { BarriersResult } from '../chem/barriers.js';
 import { parseEnergyUnit, checkTemperature, ENERGY_UNITS, type EnergyUnit } from '../chem/units.js';
-import { MAX_IMAGES, MAX_PATHS, IMAGES_WHY, PATHS_WHY } from '../chem/barriers.js';
+import { MAX_IMAGES, MAX_PATHS, IMAGES_WHY, PATHS_WHY, MERGE_TOLERANCE } from '../chem/barriers.js';
+import { NOISE_FACTOR } from '../chem/noise.js';
 import { disconnectivitySvg } from '../render/disconnectivity.js';
 import { landscapeSvg } from '../render/landscape.js';
 import { withFileSink, writeJson, writeCsvRecords, TextSink } from '../io/stream.js';
@@ -41,7 +42,7 @@ export function registerBarriers(program: Command): void {
   const mp = cmd.options.find((o) => o.long === '--min-persistence');
   if (mp) {
     mp.description = 'merge basins whose barrier is below V (input energy unit)';
-    mp.defaultValueDescription = '1 kT at --temperature when --units is given, else 0';
+    mp.defaultValueDescription = '1 kT at --temperature when --units is given, else the noise floor of the samples; 0 keeps everything';
   }
   cmd
     .option('--units <unit>', `energy unit of the input: ${ENERGY_UNITS.join(', ')}`, 'none')
@@ -140,6 +141,7 @@ export async function writeBarriersFiles(out: OutputFolder, result: BarriersResu
       ['hessian_xx', (r) => r.hessian?.[0][0]], ['hessian_xy', (r) => r.hessian?.[0][1]], ['hessian_yy', (r) => r.hessian?.[1][1]],
       ['eigenvalue_1', (r) => r.hessianEigenvalues?.[0]], ['eigenvalue_2', (r) => r.hessianEigenvalues?.[1]],
       ['refinement', (r) => r.refinement.status],
+      ['persistence', (r) => r.persistence], ['merged_points', (r) => r.merged.length],
     ];
     csv('minima.csv', report.minima, [
       ...stationaryCols<BarriersReport['minima'][number]>(),
@@ -179,6 +181,23 @@ export async function writeBarriersFiles(out: OutputFolder, result: BarriersResu
   }
 }
 
+/** One line: how many features were removed or merged, and by which rule; null when none were. */
+export function removedLine(r: BarriersReport, u: string): string | null {
+  const rm = r.removed;
+  const n = (k: number, one: string, many: string) => `${k} ${k === 1 ? one : many}`;
+  const both = (a: number, b: number) => [a ? n(a, 'minimum', 'minima') : '', b ? n(b, 'transition state', 'transition states') : ''].filter(Boolean).join(' and ');
+  const parts: string[] = [];
+  const below = both(rm.belowThreshold.minima, rm.belowThreshold.transitionStates);
+  if (below) {
+    const what = r.noiseFloor.used ? 'the noise floor' : r.minPersistence.source === 'given' ? '--min-persistence' : '1 kT';
+    parts.push(`${below} with persistence below ${what} ${fmt(rm.belowThreshold.threshold, 4)}${u}`);
+  }
+  if (rm.edge.transitionStates) parts.push(`${n(rm.edge.transitionStates, 'transition state', 'transition states')} on the hull of the samples where the surface rises out of the window (more than the threshold within one spacing)`);
+  const merged = both(rm.merged.minima, rm.merged.transitionStates);
+  if (merged) parts.push(`${merged} merged into another state (same refined point within ${MERGE_TOLERANCE} local spacing, a failed minimum inside its basin, or the saddle between two such pits; listed as \`merged\` in report.json)`);
+  return parts.length ? parts.join('; ') : null;
+}
+
 export function barriersSummary(r: BarriersReport, outDir?: string): string {
   const s = r.surface;
   const u = r.units.output === 'none' ? '' : ` ${r.units.output}`;
@@ -187,7 +206,12 @@ export function barriersSummary(r: BarriersReport, outDir?: string): string {
     ? `surface   ${s.width} × ${s.height} grid, ${s.validCells} valid cells`
     : `surface   ${s.points} scattered samples (Delaunay triangulation)`);
   lines.push(`complex   connectivity ${r.connectivity ?? 'triangulation'}, boundary ${r.boundary}; Euler ${r.euler.holds ? 'holds' : 'FAILS'} (χ = ${r.euler.characteristic})`);
-  lines.push(`energies  in${u || ' input units'}${r.units.kT !== null ? `, T = ${r.units.temperature} K, kT = ${fmt(r.units.kT, 4)}${u}` : ''}; ${r.minPersistence.source.startsWith('default') ? 'default ' : ''}min persistence ${fmt(r.minPersistence.value, 4)}${u}`);
+  const threshold = r.noiseFloor.used
+    ? `min persistence ${fmt(r.minPersistence.value, 4)}${u}: the noise floor of the samples (${r.surface.kind === 'grid' ? (r.noiseFloor.scale === null ? 'grid values not quantised' : 'the value quantum') : `${fmt(r.noiseFloor.scale, 3)}${u} robust spread of the plane-fit residuals × ${NOISE_FACTOR}`})`
+    : `${r.minPersistence.source.startsWith('default') ? 'default ' : ''}min persistence ${fmt(r.minPersistence.value, 4)}${u}`;
+  lines.push(`energies  in${u || ' input units'}${r.units.kT !== null ? `, T = ${r.units.temperature} K, kT = ${fmt(r.units.kT, 4)}${u}` : ''}; ${threshold}`);
+  const why = removedLine(r, u);
+  if (why) lines.push(`removed   ${why}`);
   const edgeMin = r.counts.onEdge.minima, edgeTs = r.counts.onEdge.transitionStates;
   lines.push(`found     ${r.counts.minima} minima${edgeMin ? ` (${edgeMin} on the edge of the samples)` : ''}, ${r.counts.transitionStates} transition states${edgeTs ? ` (${edgeTs} on the edge)` : ''}`);
   const e = (x: number | null | undefined) => fmt(x ?? null, 5);

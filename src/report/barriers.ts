@@ -36,6 +36,10 @@ export interface StationaryEntry {
   hessianEigenvalues: [number, number] | null;
   hessianEigenvectors: [[number, number], [number, number]] | null;
   refinement: { status: string; message: string | null; iterations: number; shift: number; at: PointXYE | null };
+  /** Persistence of the feature on the samples (output unit); null when it never dies. */
+  persistence: number | null;
+  /** Sampled critical points folded into this state, each with the rule that merged it. */
+  merged: { index: number; x: number; y: number; energy: number; refinement: string; rule: string }[];
 }
 
 export interface MinimumEntry extends StationaryEntry {
@@ -88,6 +92,10 @@ export interface BarriersReport {
   periodic: { x: number | null; y: number | null };
   units: { input: EnergyUnit; output: EnergyUnit; temperature: number; kT: number | null; constants: string; factor: number };
   minPersistence: { value: number; source: string };
+  /** The noise floor estimated from the samples (output unit) and whether it set minPersistence. */
+  noiseFloor: { value: number; used: boolean; estimator: string; scale: number | null; samples: number };
+  /** Features left out or merged, by rule (counts; merged points are listed on their states). */
+  removed: BarriersResult['removed'];
   fit: { kind: 'bicubic' | 'mls'; description: string; spacing: number };
   counts: { minima: number; transitionStates: number; onEdge: { minima: number; transitionStates: number }; barriers: number };
   minima: MinimumEntry[];
@@ -143,6 +151,8 @@ export function reportFromResult(r: BarriersResult, to: EnergyUnit | undefined, 
         status: rf.status, message: rf.message, iterations: rf.iterations, shift: rf.shift,
         at: rf.status === 'converged' || !Number.isFinite(rf.energy) ? null : { x: rf.x, y: rf.y, energy: E(rf.energy) },
       },
+      persistence: s.persistence === null ? null : E(s.persistence),
+      merged: s.merged.map((q) => ({ ...q, energy: E(q.energy) })),
     };
   };
   const Fmin = r.minima.reduce((a, m) => Math.min(a, m.basin.freeEnergy ?? Infinity), Infinity);
@@ -181,6 +191,14 @@ export function reportFromResult(r: BarriersResult, to: EnergyUnit | undefined, 
     periodic: { x: r.period[0], y: r.period[1] },
     units: { input: r.units, output: out, temperature: r.temperature, kT: kTout, constants: CODATA_EDITION, factor: f },
     minPersistence: { value: E(r.minPersistence.value), source: r.minPersistence.source },
+    noiseFloor: {
+      value: E(r.noiseFloor.value), used: r.noiseFloor.used, estimator: r.noiseFloor.estimator,
+      scale: r.noiseFloor.scale === null ? null : E(r.noiseFloor.scale), samples: r.noiseFloor.samples,
+    },
+    removed: {
+      ...r.removed,
+      belowThreshold: { ...r.removed.belowThreshold, threshold: E(r.removed.belowThreshold.threshold) },
+    },
     fit: { kind: r.field.kind, description: FIT_DESCRIPTION[r.field.kind], spacing: r.field.spacing },
     counts: {
       minima: minima.length,

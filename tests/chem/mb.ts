@@ -1,6 +1,7 @@
 /**
  * The Müller–Brown potential (Müller & Brown, Theor. Chim. Acta 53, 75 (1979)) from its published
- * parameters, and samplings of it for the tests: a regular grid and scattered points.
+ * parameters, and samplings of it for the tests: a regular grid and scattered points; the
+ * Wolfe–Quapp surface and the SciPy references of both.
  */
 import { readFileSync } from 'node:fs';
 import { Grid } from '../../src/surface/grid.js';
@@ -47,6 +48,11 @@ export function mbGrid(h = 0.01, win = { x: [-1.5, 1.2], y: [-0.5, 2.0] }): Grid
 
 /** Deterministic uniform scattered samples (mulberry32) over the window. */
 export function mbScattered(n = 5000, seed = 1979, win = { x: [-1.5, 1.2], y: [-0.5, 2.0] }): Mesh {
+  return scatteredSamples(muellerBrown, n, seed, win);
+}
+
+/** f at n deterministic uniform random points (mulberry32, seeded) over the window. */
+export function scatteredSamples(f: (x: number, y: number) => number, n: number, seed: number, win: { x: number[]; y: number[] }): Mesh {
   let s = seed >>> 0;
   const rand = () => {
     s = (s + 0x6d2b79f5) >>> 0;
@@ -59,7 +65,19 @@ export function mbScattered(n = 5000, seed = 1979, win = { x: [-1.5, 1.2], y: [-
   for (let i = 0; i < n; i++) {
     x[i] = win.x[0] + (win.x[1] - win.x[0]) * rand();
     y[i] = win.y[0] + (win.y[1] - win.y[0]) * rand();
-    v[i] = muellerBrown(x[i], y[i]);
+    v[i] = f(x[i], y[i]);
   }
   return new Mesh(x, y, v);
+}
+
+/** The Wolfe–Quapp surface W = x⁴ + y⁴ − 2x² − 4y² + xy + 0.3x + 0.1y. */
+export function wolfeQuapp(x: number, y: number): number {
+  return x ** 4 + y ** 4 - 2 * x * x - 4 * y * y + x * y + 0.3 * x + 0.1 * y;
+}
+
+export const WQ_WINDOW = { x: [-2, 2], y: [-2, 2] };
+
+/** SciPy's stationary points of the Wolfe–Quapp surface (tests/reference/wolfe_quapp.py → fixtures/chem/wolfe-quapp.json). */
+export function wqReference(): MbReference {
+  return JSON.parse(readFileSync(new URL('../../fixtures/chem/wolfe-quapp.json', import.meta.url), 'utf8'));
 }

@@ -152,6 +152,35 @@ describe('sill barriers (command line)', () => {
     expect(rep.transitionStates.filter((t: { onEdge: boolean }) => !t.onEdge)).toHaveLength(2);
   });
 
+  it('scattered samples with no options: the noise floor of the samples, printed and in the report, and one line saying what it removed', () => {
+    const r = sill(['barriers', join(dir, 'mb-scattered.txt')]);
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/min persistence [\d.]+: the noise floor of the samples \([\d.]+ robust spread of the plane-fit residuals × 5\)/);
+    expect(r.stdout).toMatch(/^removed {3}\d+ minima and \d+ transition states with persistence below the noise floor [\d.]+/m);
+    const j = sill(['barriers', join(dir, 'mb-scattered.txt'), '--json']);
+    const rep = JSON.parse(j.stdout);
+    expect(rep.noiseFloor).toMatchObject({ used: true, samples: expect.any(Number) });
+    expect(rep.noiseFloor.value).toBeGreaterThan(0);
+    expect(rep.minPersistence.value).toBe(rep.noiseFloor.value);
+    expect(rep.minPersistence.source).toMatch(/noise floor/);
+    expect(rep.removed.belowThreshold.minima).toBeGreaterThan(0);
+    // Source: SciPy's Müller–Brown stationary points (fixtures/chem/mueller-brown.json): 3 minima, 2 saddles, each once
+    expect(rep.minima).toHaveLength(3);
+    expect(rep.transitionStates).toHaveLength(2);
+    for (const s of [...rep.minima, ...rep.transitionStates]) {
+      expect(s.refinement.status).toBe('converged');
+      expect(Array.isArray(s.merged)).toBe(true);
+      expect(s.persistence === null || s.persistence >= rep.noiseFloor.value).toBe(true);
+    }
+    // --min-persistence 0 keeps everything, and says so
+    const z = sill(['barriers', join(dir, 'mb-scattered.txt'), '--json', '--min-persistence', '0']);
+    const all = JSON.parse(z.stdout);
+    expect(all.noiseFloor.used).toBe(false);
+    expect(all.minPersistence).toMatchObject({ value: 0, source: 'given' });
+    expect(all.removed.belowThreshold).toMatchObject({ minima: 0, transitionStates: 0 });
+    expect(all.minima.length).toBeGreaterThan(3);
+  });
+
   it('sill demo runs barriers on the invented periodic scan', () => {
     const out = join(dir, 'demo');
     const r = sill(['demo', '-o', out, '--quiet']);
