@@ -1,4 +1,5 @@
 /** What `sill ponds` and `sill runoff` share on the command line: option checks, streamed output files, the summary's common lines. */
+import { relative, resolve } from 'node:path';
 import { InputError } from '../errors.js';
 import type { Grid } from '../surface/grid.js';
 import type { Connectivity } from '../surface/complex.js';
@@ -130,9 +131,24 @@ export function summaryHead(r: SummaryHead): string[] {
 }
 
 /** The summary's last lines: the caution, the outlines left out, the files written. */
+/** The written files for the summary: names in DIR, and a folder of per-tile files as `folder/ (n files)`. */
+function fileList(outDir: string, files: string[]): string {
+  const root = resolve(outDir);
+  const names: string[] = [];
+  const folders = new Map<string, number>();
+  for (const f of files) {
+    const rel = relative(root, resolve(f)).split(/[\\/]/);
+    if (rel.length > 1 && !rel[0].startsWith('..')) {
+      if (!folders.has(rel[0])) names.push(`${rel[0]}/`);
+      folders.set(rel[0], (folders.get(rel[0]) ?? 0) + 1);
+    } else names.push(rel[rel.length - 1]);
+  }
+  return names.map((n) => (n.endsWith('/') ? `${n} (${folders.get(n.slice(0, -1))} files)` : n)).join(' ');
+}
+
 export function summaryTail(r: { caution: string; outlines?: { omitted: number; note: string } }, outDir: string | undefined, files: string[]): string[] {
   const lines = [`caution      ${r.caution}`];
   if (r.outlines && r.outlines.omitted > 0) lines.push(`outlines     ${r.outlines.note}`);
-  if (outDir) lines.push(`files        ${outDir}/ ${files.map((f) => f.split(/[\\/]/).pop()).join(' ')}`);
+  if (outDir) lines.push(`files        ${outDir}/ ${fileList(outDir, files)}`);
   return lines;
 }

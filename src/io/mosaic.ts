@@ -368,14 +368,23 @@ async function checkOverlaps(
       if (x === y || (x !== x && y !== y)) continue;
       const col = o.col0 + (k % o.width), row = o.row0 + Math.floor(k / o.width);
       const mx = transform[0] + (col + 0.5) * transform[1], my = transform[3] + (row + 0.5) * transform[5];
-      const v = (z: number) => (z === z ? String(z) : 'nodata');
-      const diff = x === x && y === y ? ` (difference ${Number((y - x).toPrecision(9))})` : '';
+      const v = (z: number) => (z !== z ? 'nodata' : va instanceof Float32Array ? float32Text(z) : String(z));
+      const diff = x === x && y === y ? ` (difference ${va instanceof Float32Array ? float32Text(Math.fround(y - x)) : String(y - x)})` : '';
       throw new InputError(
         `tiles ${a.path} and ${b.path} overlap with different values: at cell (${col}, ${row}) of the mosaic, x ${num(mx)}, y ${num(my)}, ` +
           `${a.name} has ${v(x)} and ${b.name} has ${v(y)}${diff}; shared cells must be equal — fix or drop one of the tiles`,
       );
     }
   }
+}
+
+/** A float32 value in its shortest decimal form (46.4, not 46.400001525878906). */
+function float32Text(x: number): string {
+  for (let p = 1; p < 9; p++) {
+    const t = Number(x.toPrecision(p));
+    if (Math.fround(t) === x) return String(t);
+  }
+  return String(Number(x.toPrecision(9)));
 }
 
 /** The EPSG code at the end of a WKT (its last AUTHORITY or ID), or "EPSG:n" given as such. */
