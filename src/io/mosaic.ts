@@ -341,10 +341,13 @@ function ownWindows(tiles: MosaicTile[], pairs: [number, number][]): void {
       }
     }
     for (const i of earlier[j]) {
-      if (intersect(tiles[i], own)) {
+      const o = intersect(tiles[i], own);
+      if (o) {
+        const where = `${o.width}×${o.height} cells from (${o.col0}, ${o.row0})`;
         throw new InputError(
-          `tiles ${tiles[i].path} and ${t.path} overlap in a block that is not whole edge rows or columns of ${t.path}; ` +
-            'tiles may share edge rows or columns, not arbitrary blocks — cut the tiles again (gdal_translate -srcwin)',
+          `tiles ${tiles[i].path} and ${t.path} overlap in a block (${where}) that is not whole edge rows or columns of ${t.path} covered by earlier tiles; ` +
+            'tiles may share whole edge rows or columns (diagonal neighbours may share a corner only while a tile beside both is there) — ' +
+            'add the missing neighbour or cut the tiles again (gdal_translate -srcwin)',
         );
       }
     }

@@ -129,6 +129,67 @@ describe('openMosaic on GDAL-cut tiles', async () => {
   });
 });
 
+describe('random tilings (property)', () => {
+  /**
+   * A random grid (ties, plateaus, nodata) cut by random lines into a lattice of tiles, written as
+   * GeoTIFFs; with shared edges (every band of rows after the first reaches one row up, every band
+   * of columns one column left, as tiles that share their edge row and column do) or with gaps
+   * (tiles that abut, some left out). The mosaic must place every tile where it was cut, own each
+   * cell once, and read back the grid's cells (NaN where no tile is).
+   */
+  it('the mosaic of the tiles reads back the cut grid cell for cell', async () => {
+    let run = 0;
+    await fc.assert(fc.asyncProperty(
+      fc.integer({ min: 2, max: 24 }), fc.integer({ min: 2, max: 20 }),
+      fc.uniqueArray(fc.integer({ min: 1, max: 23 }), { maxLength: 3 }), fc.uniqueArray(fc.integer({ min: 1, max: 19 }), { maxLength: 3 }),
+      fc.boolean(), fc.array(fc.boolean(), { minLength: 16, maxLength: 16 }), fc.integer({ min: 0, max: 2 ** 31 - 1 }),
+      async (W, H, colCuts, rowCuts, shared, keep, seed) => {
+        const cols = [0, ...colCuts.filter((c) => c < W).sort((a, b) => a - b), W];
+        const rows = [0, ...rowCuts.filter((r) => r < H).sort((a, b) => a - b), H];
+        let s = seed;
+        const rnd = () => ((s = (Math.imul(s, 1103515245) + 12345) >>> 0) / 4294967296);
+        const grid = new Float32Array(W * H);
+        for (let i = 0; i < grid.length; i++) {
+          const u = rnd();
+          grid[i] = u < 0.1 ? NaN : u < 0.4 ? 7 : Math.round(rnd() * 20) / 2; // nodata, a plateau, ties
+        }
+        const folder = join(dir, `random-${run++}`);
+        mkdirSync(folder);
+        const covered = new Uint8Array(W * H);
+        let k = 0, written = 0;
+        for (let bi = 0; bi + 1 < rows.length; bi++) {
+          for (let bj = 0; bj + 1 < cols.length; bj++, k++) {
+            if (!shared && !keep[k % keep.length] && !(written === 0 && bi + 2 === rows.length && bj + 2 === cols.length)) continue;
+            const r0 = rows[bi] - (shared && bi > 0 ? 1 : 0), c0 = cols[bj] - (shared && bj > 0 ? 1 : 0);
+            const w = cols[bj + 1] - c0, h = rows[bi + 1] - r0;
+            const v = new Float32Array(w * h);
+            for (let r = 0; r < h; r++) for (let c = 0; c < w; c++) { v[r * w + c] = grid[(r0 + r) * W + c0 + c]; covered[(r0 + r) * W + c0 + c] = 1; }
+            await writeGeoTiff(join(folder, `t${bi}-${bj}.tif`), { width: w, height: h, values: v, transform: [1000 + c0 * 2, 2, 0, 5000 - r0 * 2, 0, -2], crs: null, nodata: -9999 }, { layout: 'strips' });
+            written++;
+          }
+        }
+        const m = await openMosaic([folder]);
+        checkPartition(m);
+        // the bounding box of the tiles written
+        let cMin = W, rMin = H, cMax = 0, rMax = 0;
+        for (let r = 0; r < H; r++) for (let c = 0; c < W; c++) if (covered[r * W + c]) { cMin = Math.min(cMin, c); rMin = Math.min(rMin, r); cMax = Math.max(cMax, c); rMax = Math.max(rMax, r); }
+        expect([m.width, m.height]).toEqual([cMax - cMin + 1, rMax - rMin + 1]);
+        expect(m.transform).toEqual([1000 + cMin * 2, 2, 0, 5000 - rMin * 2, 0, -2]);
+        const v = await m.readWindow({ col0: 0, row0: 0, width: m.width, height: m.height });
+        for (let r = 0; r < m.height; r++) {
+          for (let c = 0; c < m.width; c++) {
+            const i = (r + rMin) * W + c + cMin;
+            const want = covered[i] ? grid[i] : NaN;
+            const got = v[r * m.width + c];
+            if (got !== want && !(got !== got && want !== want)) return false;
+          }
+        }
+        return true;
+      },
+    ), { numRuns: 40 });
+  });
+});
+
 describe('bad mosaics: one line naming the tile(s)', () => {
   const a = TILES[0];
   it('different CRS', async () => {
@@ -181,7 +242,13 @@ describe('bad mosaics: one line naming the tile(s)', () => {
     const v = new Float32Array(100).fill(1);
     for (let r = 0; r < 3; r++) for (let c = 0; c < 3; c++) v[r * 10 + c] = g.values[(18 + r) * 25 + 22 + c];
     await writeGeoTiff(p, { width: 10, height: 10, values: v, transform: [512000 + 22 * 5, 5, 0, 5874000 - 18 * 5, 0, -5], crs: g.crs, nodata: -9999 });
-    expect(await inputError(openMosaic([a, p]))).toMatch(/overlap in a block that is not whole edge rows or columns/);
+    expect(await inputError(openMosaic([a, p]))).toMatch(/overlap in a block \(3×3 cells from \(22, 18\)\) that is not whole edge rows or columns/);
+    // diagonal neighbours sharing only their corner cell, the tiles beside both missing: no rectangular split exists
+    const q = join(dir, 'corner.tif');
+    const u = new Float32Array(16).fill(2);
+    u[0] = g.values[20 * 25 + 24];
+    await writeGeoTiff(q, { width: 4, height: 4, values: u, transform: [512000 + 24 * 5, 5, 0, 5874000 - 20 * 5, 0, -5], crs: g.crs, nodata: -9999 });
+    expect(await inputError(openMosaic([a, q]))).toMatch(/overlap in a block \(1×1 cells from \(24, 20\)\) .*diagonal neighbours may share a corner only while a tile beside both is there/);
   });
 });
 
