@@ -8,7 +8,7 @@ import type { OutputFolder } from '../io/outdir.js';
 import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, type CommonOptions } from './common.js';
 import { prepareInput, inputList, mosaicInfo, type Inputs } from './mosaic.js';
 import { checkCellBudget, featureBudget } from './budget.js';
-import { eulerFailure } from './hydro-common.js';
+import { eulerFailure, mosaicLine } from './hydro-common.js';
 import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
 import type { SurveyResult } from '../morse/survey.js';
@@ -110,6 +110,8 @@ export function surveySummary(r: SurveyReport, outDir?: string): string {
   lines.push(s.kind === 'grid'
     ? `surface   ${s.width} × ${s.height} grid, ${s.validCells} valid cells${s.crs?.name ? `, ${s.crs.name}` : ', no CRS'}`
     : `surface   ${s.points} scattered samples (Delaunay triangulation)`);
+  const m = (r as { mosaic?: { tileCount: number; kind: string } }).mosaic;
+  if (m) lines.push(`mosaic    ${mosaicLine(m)}`);
   lines.push(`complex   connectivity ${r.connectivity ?? 'triangulation'}, boundary ${r.boundary}`);
   const e = r.euler;
   lines.push(`critical  ${e.pits} pits${e.outsidePit ? ' (incl. the outside)' : ''}, ${e.passes} passes, ${e.peaks} peaks`);

@@ -211,6 +211,7 @@ describe('survey and runoff on a mosaic', () => {
     const out = join(dir, 'summary');
     const r = sill(['ponds', f('tiles.vrt'), '-o', out]);
     expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/^mosaic +5 tiles from a VRT, assembled into one grid in memory$/m);
     expect(r.stdout).toMatch(/files +.*filled\/ \(5 files\) depth\/ \(5 files\) labels\/ \(5 files\) .*filled\.vrt depth\.vrt labels\.vrt/);
   });
 });
