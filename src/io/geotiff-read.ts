@@ -16,7 +16,7 @@ import { InputError } from '../errors.js';
 import { useBoundedLzw } from './lzw.js';
 import { Grid, gridValues, type Crs, type GeoTransform, type GridValues } from '../surface/grid.js';
 import { checkGridSize, finishValues, nodataFor, openForReading, printable, readAt, transferSamples } from './common.js';
-import { blocksPerGrab, decodeShare, type BlockFailure, type BlockLayout } from './tiff-decode.js';
+import { blocksPerGrab, decodeBlockCells, decodeShare, type BlockCells, type BlockFailure, type BlockLayout } from './tiff-decode.js';
 
 export interface GeoTiffReadOptions {
   /** 1-based band number; default 1. */
@@ -711,42 +711,90 @@ async function decodeBlocks(
 }
 
 /**
- * A window of one band of a GeoTIFF — columns col0…col0+width−1, rows row0…row0+height−1 — read
- * through the `geotiff` package, which decodes only the strips or tiles the window touches (the
- * mosaic reader compares the strips where tiles overlap with it). Nodata and NaN become NaN, as in
- * readGeoTiff; a window outside the image is a programming error.
+ * A window of one band of a GeoTIFF — columns col0…col0+width−1, rows row0…row0+height−1 —
+ * decoding only the strips or tiles the window touches (the mosaic reader compares the strips where
+ * tiles overlap with it): with sill's own decoder, or for the rare layouts it leaves to the
+ * `geotiff` package, through the package. Nodata and NaN become NaN, as in readGeoTiff; a window
+ * outside the image is a programming error.
  */
-export async function readGeoTiffWindow(
-  path: string,
-  win: { col0: number; row0: number; width: number; height: number },
-  opts: GeoTiffReadOptions = {},
-): Promise<GridValues> {
+export async function readGeoTiffWindow(path: string, win: Window, opts: GeoTiffReadOptions = {}): Promise<GridValues> {
+  return (await readGeoTiffWindows(path, [win], opts))[0];
+}
+
+/** A rectangle of cells of an image. */
+export interface Window {
+  col0: number;
+  row0: number;
+  width: number;
+  height: number;
+}
+
+/** Several windows of one band, as readGeoTiffWindow reads one: the file opened once, each block decoded once. */
+export async function readGeoTiffWindows(path: string, wins: readonly Window[], opts: GeoTiffReadOptions = {}): Promise<GridValues[]> {
   const band = checkReadOptions(opts);
   const { fh, size } = await openForReading(path);
   filterDecoderWarnings();
   useBoundedLzw();
   try {
     const info = await inspect(path, fh, size, band, opts);
-    if (win.col0 < 0 || win.row0 < 0 || win.width < 1 || win.height < 1 || win.col0 + win.width > info.width || win.row0 + win.height > info.height) {
-      throw new RangeError(`window ${win.col0},${win.row0} ${win.width}×${win.height} lies outside ${path} (${info.width}×${info.height})`);
+    for (const win of wins) {
+      if (win.col0 < 0 || win.row0 < 0 || win.width < 1 || win.height < 1 || win.col0 + win.width > info.width || win.row0 + win.height > info.height) {
+        throw new RangeError(`window ${win.col0},${win.row0} ${win.width}×${win.height} lies outside ${path} (${info.width}×${info.height})`);
+      }
     }
-    const out = gridValues(win.width * win.height, info.float64);
-    let samples: ArrayLike<number>;
-    const warned: string[] = [];
-    decoderWarnings = warned;
-    const rows = `rows ${win.row0}–${win.row0 + win.height - 1}`;
-    try {
-      const r = await info.image.readRasters({ window: [win.col0, win.row0, win.col0 + win.width, win.row0 + win.height], samples: [band - 1], interleave: false });
-      samples = r[0];
-    } catch (err) {
-      throw truncated(path, `${rows} cannot be decoded (${decoderReason(err, info.comp[0])})`);
-    } finally {
-      decoderWarnings = null;
+    const predictor = Number((await tagNumbers(path, info.ifd, TAG.Predictor))?.[0] ?? 1);
+    const layout = blockLayout(info.image, band, info.compression, predictor, info.header.littleEndian, info.counts, info.perPlane);
+    const result: GridValues[] = [];
+    if (layout) {
+      // sill's own decoder, only the blocks the windows touch, each once
+      const offs = Float64Array.from(info.offsets), cnts = Float64Array.from(info.counts);
+      const blocks = new Map<number, BlockCells>();
+      for (const win of wins) {
+        const out = gridValues(win.width * win.height, info.float64);
+        const bx0 = Math.floor(win.col0 / layout.blockWidth), bx1 = Math.floor((win.col0 + win.width - 1) / layout.blockWidth);
+        const by0 = Math.floor(win.row0 / layout.blockHeight), by1 = Math.floor((win.row0 + win.height - 1) / layout.blockHeight);
+        for (let by = by0; by <= by1; by++) {
+          for (let bx = bx0; bx <= bx1; bx++) {
+            const k = by * layout.blocksAcross + bx;
+            let b = blocks.get(k);
+            if (!b) {
+              const d = decodeBlockCells(fh.fd, layout, offs, cnts, k, info.float64);
+              if (typeof d === 'string') throw truncated(path, `${info.what} ${layout.firstBlock + k + 1} of ${info.expected} cannot be decoded (${d})`);
+              blocks.set(k, (b = d));
+            }
+            const r0 = Math.max(win.row0, b.row0), r1 = Math.min(win.row0 + win.height, b.row0 + b.rows);
+            const c0 = Math.max(win.col0, b.col0), c1 = Math.min(win.col0 + win.width, b.col0 + b.cols);
+            for (let r = r0; r < r1; r++) {
+              const from = (r - b.row0) * b.cols + (c0 - b.col0);
+              out.set(b.values.subarray(from, from + (c1 - c0)), (r - win.row0) * win.width + (c0 - win.col0));
+            }
+          }
+        }
+        finishValues(out, info.match, info.kind.integer, win.width, path);
+        result.push(out);
+      }
+      return result;
     }
-    if (warned.length > 0) throw truncated(path, `${rows} cannot be decoded (the ${info.comp[0]} decoder: ${warned[0].trim()})`);
-    if (samples.length !== out.length) throw truncated(path, `${rows} decode to ${samples.length} values instead of ${out.length}`);
-    transferSamples(samples, samples.length, out, 0, win.width, info.match, info.kind.integer, path);
-    return out;
+    for (const win of wins) {
+      const out = gridValues(win.width * win.height, info.float64);
+      let samples: ArrayLike<number>;
+      const warned: string[] = [];
+      decoderWarnings = warned;
+      const rows = `rows ${win.row0}–${win.row0 + win.height - 1}`;
+      try {
+        const r = await info.image.readRasters({ window: [win.col0, win.row0, win.col0 + win.width, win.row0 + win.height], samples: [band - 1], interleave: false });
+        samples = r[0];
+      } catch (err) {
+        throw truncated(path, `${rows} cannot be decoded (${decoderReason(err, info.comp[0])})`);
+      } finally {
+        decoderWarnings = null;
+      }
+      if (warned.length > 0) throw truncated(path, `${rows} cannot be decoded (the ${info.comp[0]} decoder: ${warned[0].trim()})`);
+      if (samples.length !== out.length) throw truncated(path, `${rows} decode to ${samples.length} values instead of ${out.length}`);
+      transferSamples(samples, samples.length, out, 0, win.width, info.match, info.kind.integer, path);
+      result.push(out);
+    }
+    return result;
   } finally {
     await fh.close().catch(() => undefined);
   }

@@ -11,7 +11,7 @@ import { InputError } from '../errors.js';
 import { gridValues, MAX_CELLS, type Crs, type GeoTransform, type GridValues } from '../surface/grid.js';
 import type { CellWindow, Mosaic, MosaicTile } from '../tiles/mosaic.js';
 import { fsReason, printable } from './common.js';
-import { readGeoTiff, readGeoTiffInfo, readGeoTiffWindow, type GeoTiffInfo } from './geotiff-read.js';
+import { readGeoTiff, readGeoTiffInfo, readGeoTiffWindows, type GeoTiffInfo } from './geotiff-read.js';
 import { parseXml, type XmlElement } from './xml.js';
 
 export interface MosaicOptions {
@@ -354,31 +354,56 @@ function ownWindows(tiles: MosaicTile[], pairs: [number, number][]): void {
   }
 }
 
-/** The overlapping strips hold equal values (NaN equal to NaN), else one line naming both tiles and the first differing cell. */
+/**
+ * The overlapping strips hold equal values (NaN equal to NaN), else one line naming both tiles and
+ * the first differing cell. Each tile is opened once, for all its overlaps (each block decoded
+ * once); a pair's strips are kept until both sides are read, then compared and dropped: memory is
+ * the strips plus the decoded blocks of one tile. The first differing pair in canonical order is
+ * named.
+ */
 async function checkOverlaps(
   tiles: MosaicTile[],
   pairs: [number, number][],
   transform: GeoTransform,
   readOpts: (t: MosaicTile) => { band: number; nodata?: number; threads?: number },
 ): Promise<void> {
-  for (const [i, j] of pairs) {
-    const a = tiles[i], b = tiles[j];
-    const o = intersect(a, b)!;
-    const va = await readGeoTiffWindow(a.path, { col0: o.col0 - a.col0, row0: o.row0 - a.row0, width: o.width, height: o.height }, readOpts(a));
-    const vb = await readGeoTiffWindow(b.path, { col0: o.col0 - b.col0, row0: o.row0 - b.row0, width: o.width, height: o.height }, readOpts(b));
-    for (let k = 0; k < va.length; k++) {
-      const x = va[k], y = vb[k];
-      if (x === y || (x !== x && y !== y)) continue;
-      const col = o.col0 + (k % o.width), row = o.row0 + Math.floor(k / o.width);
-      const mx = transform[0] + (col + 0.5) * transform[1], my = transform[3] + (row + 0.5) * transform[5];
-      const v = (z: number) => (z !== z ? 'nodata' : va instanceof Float32Array ? float32Text(z) : String(z));
-      const diff = x === x && y === y ? ` (difference ${va instanceof Float32Array ? float32Text(Math.fround(y - x)) : String(y - x)})` : '';
-      throw new InputError(
-        `tiles ${a.path} and ${b.path} overlap with different values: at cell (${col}, ${row}) of the mosaic, x ${num(mx)}, y ${num(my)}, ` +
-          `${a.name} has ${v(x)} and ${b.name} has ${v(y)}${diff}; shared cells must be equal — fix or drop one of the tiles`,
-      );
-    }
+  const byTile: number[][] = tiles.map(() => []);
+  pairs.forEach(([i, j], p) => { byTile[i].push(p); byTile[j].push(p); });
+  const first: (GridValues | null)[] = pairs.map(() => null);
+  let failure: { pair: number; message: string } | null = null;
+  for (let t = 0; t < tiles.length; t++) {
+    const mine = byTile[t].filter((p) => failure === null || p < failure.pair);
+    if (mine.length === 0) continue;
+    const T = tiles[t];
+    const wins = mine.map((p) => {
+      const o = intersect(tiles[pairs[p][0]], tiles[pairs[p][1]])!;
+      return { col0: o.col0 - T.col0, row0: o.row0 - T.row0, width: o.width, height: o.height };
+    });
+    const strips = await readGeoTiffWindows(T.path, wins, readOpts(T));
+    mine.forEach((p, k) => {
+      if (pairs[p][0] === t) { first[p] = strips[k]; return; }
+      const message = compareStrips(tiles[pairs[p][0]], T, first[p]!, strips[k], transform);
+      first[p] = null;
+      if (message !== null && (failure === null || p < failure.pair)) failure = { pair: p, message };
+    });
   }
+  if (failure !== null) throw new InputError((failure as { message: string }).message);
+}
+
+/** The line for the first cell where the strips of tiles a (earlier) and b differ, or null when they are equal. */
+function compareStrips(a: MosaicTile, b: MosaicTile, va: GridValues, vb: GridValues, transform: GeoTransform): string | null {
+  const o = intersect(a, b)!;
+  for (let k = 0; k < va.length; k++) {
+    const x = va[k], y = vb[k];
+    if (x === y || (x !== x && y !== y)) continue;
+    const col = o.col0 + (k % o.width), row = o.row0 + Math.floor(k / o.width);
+    const mx = transform[0] + (col + 0.5) * transform[1], my = transform[3] + (row + 0.5) * transform[5];
+    const v = (z: number) => (z !== z ? 'nodata' : va instanceof Float32Array ? float32Text(z) : String(z));
+    const diff = x === x && y === y ? ` (difference ${va instanceof Float32Array ? float32Text(Math.fround(y - x)) : String(y - x)})` : '';
+    return `tiles ${a.path} and ${b.path} overlap with different values: at cell (${col}, ${row}) of the mosaic, x ${num(mx)}, y ${num(my)}, ` +
+      `${a.name} has ${v(x)} and ${b.name} has ${v(y)}${diff}; shared cells must be equal — fix or drop one of the tiles`;
+  }
+  return null;
 }
 
 /** A float32 value in its shortest decimal form (46.4, not 46.400001525878906). */

@@ -129,6 +129,38 @@ describe('openMosaic on GDAL-cut tiles', async () => {
   });
 });
 
+describe('windowed reads (the overlap check reads only the blocks it needs)', () => {
+  it('every window of every readable GeoTIFF fixture equals the same part of the whole band (whose values GDAL checks in geotiff-read.test.ts)', async () => {
+    const { readdirSync } = await import('node:fs');
+    const { readGeoTiffWindows } = await import('../../src/io/geotiff-read.js');
+    const IO = fileURLToPath(new URL('../../fixtures/io/', import.meta.url));
+    const names = [...readdirSync(IO).filter((n) => n.endsWith('.tif')).map((n) => join(IO, n)),
+      ...readdirSync(join(IO, 'blocks')).filter((n) => n.endsWith('.tif')).map((n) => join(IO, 'blocks', n))];
+    let checked = 0;
+    for (const p of names) {
+      let whole;
+      try { whole = await readGeoTiff(p, { threads: 1 }); } catch { continue; } // the fixtures sill refuses
+      const W = whole.width, H = whole.height;
+      const wins = fc.sample(fc.record({ c: fc.nat(W - 1), r: fc.nat(H - 1), w: fc.integer({ min: 1, max: W }), h: fc.integer({ min: 1, max: H }) }), { numRuns: 6, seed: 7 })
+        .map(({ c, r, w, h }) => ({ col0: c, row0: r, width: Math.min(w, W - c), height: Math.min(h, H - r) }));
+      wins.push({ col0: W - 1, row0: 0, width: 1, height: H }, { col0: 0, row0: H - 1, width: W, height: 1 }); // an edge column and row
+      const got = await readGeoTiffWindows(p, wins);
+      wins.forEach((win, k) => {
+        let bad = 0;
+        for (let r = 0; r < win.height; r++) {
+          for (let c = 0; c < win.width; c++) {
+            const a = got[k][r * win.width + c], b = whole.values[(win.row0 + r) * W + win.col0 + c];
+            if (a !== b && !(a !== a && b !== b)) bad++;
+          }
+        }
+        expect(bad, `${p} window ${JSON.stringify(win)}`).toBe(0);
+      });
+      checked++;
+    }
+    expect(checked).toBeGreaterThan(40);
+  });
+});
+
 describe('random tilings (property)', () => {
   /**
    * A random grid (ties, plateaus, nodata) cut by random lines into a lattice of tiles, written as
