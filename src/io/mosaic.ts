@@ -163,7 +163,13 @@ export async function openMosaic(inputs: readonly string[], opts: MosaicOptions 
       for (const t of tiles) {
         const o = intersect(t.own, w);
         if (!o) continue;
-        // the whole tile, then its part: memory is one tile at a time
+        if (2 * o.width * o.height < t.width * t.height) {
+          // a small part (a neighbour's edge rows): only the blocks that hold it
+          const [part] = await readGeoTiffWindows(t.path, [{ col0: o.col0 - t.col0, row0: o.row0 - t.row0, width: o.width, height: o.height }], readOpts(t));
+          for (let r = 0; r < o.height; r++) out.set(part.subarray(r * o.width, (r + 1) * o.width), (o.row0 + r - w.row0) * w.width + (o.col0 - w.col0));
+          continue;
+        }
+        // most of the tile: the whole tile (the parallel decoder), then its part; memory is one tile at a time
         const g = await readGeoTiff(t.path, readOpts(t));
         if (g.width !== t.width || g.height !== t.height) {
           throw new InputError(`${t.path} is now ${g.width}×${g.height} cells but was ${t.width}×${t.height} when the mosaic was opened; do not change tiles during a run`);
