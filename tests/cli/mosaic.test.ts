@@ -112,26 +112,25 @@ describe('ponds on a mosaic equals ponds on the single grid GDAL assembled', () 
       expect(r.code, r.stderr).toBe(0);
       expect(r.stderr).toBe('');
       expect(listFiles(out)).toEqual([
-        '.sill-manifest.json', 'depressions.csv', 'depressions.geojson',
-        ...TILES.map((t) => `depth/${t}.tif`), 'depth.vrt', ...TILES.map((t) => `filled/${t}.tif`), 'filled.vrt',
-        ...TILES.map((t) => `labels/${t}.tif`), 'labels.vrt', 'report.json',
+        '.sill-manifest.json', 'depressions.csv', 'depressions.geojson', 'spill-paths.geojson', 'report.json',
+        ...['filled', 'depth', 'labels', 'catchments'].flatMap((p) => [...TILES.map((t) => `${p}/${t}.tif`), `${p}.vrt`]),
       ].sort());
       expect(reportOf(out)).toEqual(reportOf(single));
       expect(readFileSync(join(out, 'depressions.csv'), 'utf8')).toBe(readFileSync(join(single, 'depressions.csv'), 'utf8'));
-      expect(readFileSync(join(out, 'depressions.geojson'), 'utf8')).toBe(readFileSync(join(single, 'depressions.geojson'), 'utf8'));
+      for (const file of ['depressions.geojson', 'spill-paths.geojson']) expect(readFileSync(join(out, file), 'utf8'), file).toBe(readFileSync(join(single, file), 'utf8'));
       const rep = JSON.parse(readFileSync(join(out, 'report.json'), 'utf8'));
       expect(rep.mosaic.tileCount).toBe(5);
       expect(rep.mosaic.tiles.map((t: { name: string; width: number; height: number }) => [t.name, t.width, t.height]))
         .toEqual([['a', 25, 21], ['b', 24, 21], ['c', 20, 20], ['d', 28, 10], ['e', 20, 10]]);
-      for (const name of ['filled', 'depth', 'labels']) await checkTiles(out, single, name);
+      for (const name of ['filled', 'depth', 'labels', 'catchments']) await checkTiles(out, single, name);
     });
   }
 
-  it.skipIf(!hasGdal)(`GDAL reads filled.vrt, depth.vrt and labels.vrt back: size, transform, CRS, nodata, type and values of the single-grid run${skipNote('gdal')}`, () => {
+  it.skipIf(!hasGdal)(`GDAL reads filled.vrt, depth.vrt, labels.vrt and catchments.vrt back: size, transform, CRS, nodata, type and values of the single-grid run${skipNote('gdal')}`, () => {
     const out = join(dir, 'ponds-gdal');
     expect(sill(['ponds', f('tiles.vrt'), '-o', out, '--quiet']).code).toBe(0);
     // Source: GDAL's VRT driver (python3-gdal)
-    gdalCompare(out, single, ['filled', 'depth', 'labels']);
+    gdalCompare(out, single, ['filled', 'depth', 'labels', 'catchments']);
   });
 
   it('filled DEM equals scikit-image reconstruction by erosion of the mosaic read through GDAL (committed reference)', async () => {
@@ -212,7 +211,7 @@ describe('survey and runoff on a mosaic', () => {
     const r = sill(['ponds', f('tiles.vrt'), '-o', out]);
     expect(r.code).toBe(0);
     expect(r.stdout).toMatch(/^mosaic +5 tiles from a VRT, assembled into one grid in memory$/m);
-    expect(r.stdout).toMatch(/files +.*filled\/ \(5 files\) depth\/ \(5 files\) labels\/ \(5 files\) .*filled\.vrt depth\.vrt labels\.vrt/);
+    expect(r.stdout).toMatch(/files +.*catchments\/ \(5 files\) filled\/ \(5 files\) depth\/ \(5 files\) labels\/ \(5 files\) .*catchments\.vrt filled\.vrt depth\.vrt labels\.vrt/);
   });
 });
 
