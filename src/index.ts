@@ -9,6 +9,11 @@ export { Grid, type GridInit, type GridValues, type GeoTransform, type Crs } fro
 export { Mesh } from './surface/mesh.js';
 export type { Connectivity, Boundary } from './surface/complex.js';
 
+// mosaics: a GDAL VRT, a folder of GeoTIFF tiles or several GeoTIFF paths as one surface (docs/tiles.md)
+export { openMosaic, isMosaicInput, type OpenedMosaic, type MosaicOptions, type MosaicKind } from './io/mosaic.js';
+export type { Mosaic, MosaicTile, CellWindow } from './tiles/mosaic.js';
+export { vrtText, type VrtLayer, type VrtSource } from './io/vrt-write.js';
+
 // the analyses: analysis(surface, options) → { report, result }
 export {
   survey, ponds, runoff, barriers,

@@ -68,14 +68,17 @@ export function machineBytes(): number {
   return Number.isFinite(asked) && asked > 0 ? asked : totalmem();
 }
 
-/** Before the work: refuse when the cells alone need more than the machine has. */
-export function checkCellBudget(command: BudgetCommand, cells: number, source: string): void {
+/**
+ * Before the work: refuse when the cells alone need more than the machine has. `how` replaces the
+ * advice at the end of the line (a mosaic says that it is assembled in memory).
+ */
+export function checkCellBudget(command: BudgetCommand, cells: number, source: string, how?: string): void {
   const need = BASE_BYTES + cells * BYTES_PER_CELL[command];
   const have = machineBytes();
   if (need > have) {
     throw new InputError(
       `${source}: ${command} on ${count(cells)} cells needs about ${gib(need)} of memory (${BYTES_PER_CELL[command]} bytes a cell) ` +
-        `but this machine has ${gib(have)}; cut the ${command === 'barriers' || command === 'survey' ? 'surface' : 'DEM'} into tiles or resample it to a coarser cell size`,
+        `but this machine has ${gib(have)}; ${how ?? `cut the ${command === 'barriers' || command === 'survey' ? 'surface' : 'DEM'} into tiles or resample it to a coarser cell size`}`,
     );
   }
 }

@@ -1,4 +1,5 @@
 /** What `sill ponds` and `sill runoff` share on the command line: option checks, streamed output files, the summary's common lines. */
+import { relative, resolve } from 'node:path';
 import { InputError } from '../errors.js';
 import type { Grid } from '../surface/grid.js';
 import type { Connectivity } from '../surface/complex.js';
@@ -111,10 +112,18 @@ interface SummaryHead {
 }
 
 /** The summary's first lines: the surface, the outlets, the Euler check. */
+/** A mosaic in the summary: its tiles, how it was given, and that it was assembled. */
+export function mosaicLine(m: { tileCount: number; kind: string }): string {
+  const given = m.kind === 'vrt' ? 'a VRT' : m.kind === 'folder' ? 'a folder' : 'GeoTIFF paths';
+  return `${m.tileCount} tile${m.tileCount === 1 ? '' : 's'} from ${given}, assembled into one grid in memory`;
+}
+
 export function summaryHead(r: SummaryHead): string[] {
   const s = r.surface;
   const lines: string[] = [];
   lines.push(`surface      ${s.width} × ${s.height} grid, ${s.validCells} valid cells${s.crs?.name ? `, ${s.crs.name}` : ', no CRS'}`);
+  const m = (r as { mosaic?: { tileCount: number; kind: string } }).mosaic;
+  if (m) lines.push(`mosaic       ${mosaicLine(m)}`);
   lines.push(`outlets      grid edge${r.nodataAs === 'outlet' ? ' and nodata cells' : ' (nodata cells are walls)'}; connectivity ${r.connectivity}`);
   if (r.euler) {
     const e = r.euler;
@@ -123,10 +132,25 @@ export function summaryHead(r: SummaryHead): string[] {
   return lines;
 }
 
+/** The written files for the summary: names in DIR, and a folder of per-tile files as `folder/ (n files)`. */
+function fileList(outDir: string, files: string[]): string {
+  const root = resolve(outDir);
+  const names: string[] = [];
+  const folders = new Map<string, number>();
+  for (const f of files) {
+    const rel = relative(root, resolve(f)).split(/[\\/]/);
+    if (rel.length > 1 && !rel[0].startsWith('..')) {
+      if (!folders.has(rel[0])) names.push(`${rel[0]}/`);
+      folders.set(rel[0], (folders.get(rel[0]) ?? 0) + 1);
+    } else names.push(rel[rel.length - 1]);
+  }
+  return names.map((n) => (n.endsWith('/') ? `${n} (${folders.get(n.slice(0, -1))} files)` : n)).join(' ');
+}
+
 /** The summary's last lines: the caution, which outlines were written, the files written. */
 export function summaryTail(r: { caution: string; outlines?: { note: string } }, outDir: string | undefined, files: string[]): string[] {
   const lines = [`caution      ${r.caution}`];
   if (r.outlines) lines.push(`outlines     ${r.outlines.note}`);
-  if (outDir) lines.push(`files        ${outDir}/ ${files.map((f) => f.split(/[\\/]/).pop()).join(' ')}`);
+  if (outDir) lines.push(`files        ${outDir}/ ${fileList(outDir, files)}`);
   return lines;
 }

@@ -14,14 +14,14 @@ import { topLabels } from '../hydro/rasters.js';
 import { writeSpillPathsGeojson } from '../report/spill-paths-geojson.js';
 import { toWgs84 } from '../hydro/reproject.js';
 import { stageVolume } from '../hydro/stage.js';
-import { writeGeoTiff } from '../io/index.js';
 import type { OutputFolder } from '../io/outdir.js';
 import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, AREA_THRESHOLD, type NumberLimits } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printReport, writeReportFile, writeIdCsv,
   stageCsv, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
-import { loadInput } from './load.js';
+import { prepareInput, inputList, mosaicInfo, rasterNames, rasterFiles, writeRasterProducts, type Inputs } from './mosaic.js';
+import type { OpenedMosaic } from '../io/mosaic.js';
 import { checkCellBudget, featureBudget } from './budget.js';
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, PONDS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildPondsReport as buildPondsHtml } from '../render/html/ponds.js';
@@ -43,7 +43,7 @@ export function registerPonds(program: Command): void {
   const cmd = program
     .command('ponds')
     .description('closed depressions of a DEM: spill levels, pour points, volumes and nesting; filled, depth and label rasters')
-    .argument('<input>', 'GeoTIFF, .npy or text grid (a DEM)');
+    .argument('<input...>', 'GeoTIFF, .npy or text grid (a DEM); or a mosaic: a .vrt, a folder of GeoTIFF tiles, or several GeoTIFF paths');
   addCommonOptions(cmd, { boundary: 'open' })
     .addOption(new Option('--nodata-as <mode>', 'nodata cells: outlet (water drains into them) or wall').choices(['outlet', 'wall']).default('outlet'))
     .option('--min-depth <v>', 'merge depressions shallower than V (spill − pit, vertical unit) into their parent')
@@ -59,7 +59,7 @@ export function registerPonds(program: Command): void {
     .option('--stage-volume <id>', 'write stage-volume-ID.csv: water level, wet area and volume of depression ID from its pit to its spill level')
     .option('--culverts <file>', 'lines through embankments (GeoJSON LineStrings or CSV x1,y1,x2,y2[,invert][,name]) where water passes at the invert; reports what changed')
     .option('--stage-step <dz>', 'level step of the stage-volume table (vertical unit; default: 50 steps)')
-    .action(async (input: string, opts: PondsCliOptions) => {
+    .action(async (input: string[], opts: PondsCliOptions) => {
       await runPondsCommand(input, opts);
     });
 }
@@ -68,7 +68,7 @@ function optionalNumber(name: string, s: string | undefined, limits: NumberLimit
   return s === undefined ? undefined : parseNumber(name, s, limits);
 }
 
-export async function runPondsCommand(input: string, opts: PondsCliOptions): Promise<PondsReport> {
+export async function runPondsCommand(input: Inputs, opts: PondsCliOptions): Promise<PondsReport> {
   const progress = new Progress(opts.quiet || opts.json);
   const { connectivity, boundary } = parseOpenBoundary('ponds', opts);
   const nodataAs = parseNodataAs(opts);
@@ -83,47 +83,49 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   const minVolume = optionalNumber('--min-volume', opts.minVolume, AREA_THRESHOLD);
   const fillOnlyBelow = opts.fillOnlyBelow === undefined ? undefined : parseNumber('--fill-only-below', opts.fillOnlyBelow, { ...AREA_THRESHOLD, positive: true });
   const { zFactor, stageId, stageStep } = parseZAndStage(opts);
-  const render = reportRequest('ponds', [input], { ...opts }, flagsOf({ ...opts }, PONDS_FLAGS));
+  const render = reportRequest('ponds', inputList(input), { ...opts }, flagsOf({ ...opts }, PONDS_FLAGS));
   if (opts.wgs84 && !opts.out) throw new InputError('--wgs84 writes depressions-wgs84.geojson and pour-points-wgs84.geojson: give an output folder with -o/--out');
+  const src = await prepareInput(input, opts, 'ponds');
   const out = openOutput(opts, 'ponds', [
-    ...PONDS_FILES, ...(opts.wgs84 ? PONDS_WGS84_FILES : []), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render),
-  ], opts.culverts ? [input, opts.culverts] : [input]);
+    ...pondsFiles(src.mosaic !== null), ...(opts.wgs84 ? PONDS_WGS84_FILES : []), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render),
+  ], opts.culverts ? [...src.files, opts.culverts] : src.files);
 
-  progress.stage(`reading ${input}`);
-  const surface = await loadInput(input, opts);
-  checkCellBudget('ponds', surface.size, input);
+  progress.stage(`reading ${src.mosaic ? src.mosaic.source : src.inputs[0]}`);
+  const { surface, mosaic, label } = await src.load();
+  checkCellBudget('ponds', surface.size, label);
   // --culverts: the depressions of the DEM as it is, kept for the comparison; then the analysis runs on the DEM with them
   let culv: { specs: CulvertSpec[]; before: Hierarchy; applied: Culvert[] } | null = null;
   let dem = surface;
   if (opts.culverts) {
-    if (surface.kind !== 'grid') throw new InputError(`--culverts needs a grid DEM; ${input} holds scattered samples`);
+    if (surface.kind !== 'grid') throw new InputError(`--culverts needs a grid DEM; ${label} holds scattered samples`);
     const specs = readCulverts(opts.culverts, surface);
     progress.stage('depressions without the culverts');
     const before = ponds(surface, { connectivity, nodataOutlet: nodataAs === 'outlet', minDepth, minArea, minVolume, minPersistence,
-      zUnits: opts.zUnits, zFactor, xyUnits: opts.xyUnits, source: input, threads, euler: false, catchments: 'none', shapes: false }).hierarchy;
+      zUnits: opts.zUnits, zFactor, xyUnits: opts.xyUnits, source: label, threads, euler: false, catchments: 'none', shapes: false }).hierarchy;
     const applied = applyCulverts(surface, specs);
     dem = applied.grid;
     culv = { specs, before, applied: applied.culverts };
   }
   const { result, report } = pondsReport(dem, {
-    onFeatures: featureBudget('ponds', surface.size, opts.out ? 'out' : opts.json ? 'json' : 'none', input),
+    onFeatures: featureBudget('ponds', surface.size, opts.out ? 'out' : opts.json ? 'json' : 'none', label),
     connectivity, boundary, nodataOutlet: nodataAs === 'outlet',
     minDepth, minArea, minVolume, minPersistence, fillOnlyBelow,
     zUnits: opts.zUnits, zFactor, xyUnits: opts.xyUnits,
-    labelLevel, source: input, threads,
+    labelLevel, source: label, threads,
     catchments: opts.out ? 'raster' : 'sums',
     onStage: (s) => progress.stage(s),
-  }, input);
+  }, label);
   if (culv && opts.culverts) {
     report.culverts = culvertsReport(opts.culverts, result.grid, culv.applied, culvertEffects(culv.before, result.hierarchy, result.rasters.labels));
   }
+  if (mosaic) Object.assign(report, { mosaic: mosaicInfo(mosaic) });
   checkHydroReport(report, stageId, 'depressions.csv');
   // check --wgs84 before writing anything
-  const project = opts.wgs84 ? toWgs84(result.grid.crs, input) : null;
+  const project = opts.wgs84 ? toWgs84(result.grid.crs, label) : null;
   let written: string[] = [];
   if (out) {
     progress.stage('writing files');
-    written = await writePondsFiles(out, result, report, { project, outlines, stageId, stageStep, progress, render, threads });
+    written = await writePondsFiles(out, result, report, { project, outlines, stageId, stageStep, progress, render, threads, mosaic });
   }
   progress.done();
   if (opts.json) printReport(report);
@@ -142,12 +144,22 @@ interface WriteOptions {
   render?: ReportRequest | null;
   /** Threads that compress the rasters (default: the number of cores). */
   threads?: number;
+  /** The input mosaic: the rasters are written one GeoTIFF a tile plus a VRT each. */
+  mosaic?: OpenedMosaic | null;
 }
 
 /** The files `ponds -o DIR` always writes (--wgs84, --stage-volume and --report add theirs). */
 export const PONDS_FILES = ['filled.tif', 'depth.tif', 'labels.tif', 'catchments.tif', 'depressions.geojson', 'pour-points.geojson', 'spill-paths.geojson', 'depressions.csv', 'report.json'];
 /** The files --wgs84 adds. */
 export const PONDS_WGS84_FILES = ['depressions-wgs84.geojson', 'pour-points-wgs84.geojson'];
+
+/** The raster products of ponds. */
+const PONDS_RASTERS = ['filled', 'depth', 'labels', 'catchments'];
+
+/** PONDS_FILES, or for a mosaic the same with filled/, depth/, labels/, catchments/ (a GeoTIFF a tile) and their VRTs. */
+export function pondsFiles(mosaic: boolean): string[] {
+  return mosaic ? [...rasterNames(PONDS_RASTERS, true), ...PONDS_FILES.filter((f) => !f.endsWith('.tif'))] : PONDS_FILES;
+}
 
 export async function writePondsFiles(out: OutputFolder, result: PondsResult, report: PondsReport, w: WriteOptions = { project: null }): Promise<string[]> {
   let rasters: Promise<void>[] = [];
@@ -157,17 +169,17 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     const R = result.rasters;
     const valueNodata = g.nodata !== null && Number.isFinite(g.nodata) ? g.nodata : NaN;
     // The rasters are compressed by worker threads while this thread writes the catalogues.
-    w.progress?.stage('writing filled.tif, depth.tif, labels.tif and catchments.tif');
+    w.progress?.stage(w.mosaic ? 'writing filled, depth, labels and catchments: a GeoTIFF a tile and a VRT each' : 'writing filled.tif, depth.tif, labels.tif and catchments.tif');
     const labels = report.labelLevel === 'top' ? topLabels(R.labels, result.hierarchy) : R.labels;
     const catch0 = result.catchments?.labels;
     if (!catch0) throw new Error('internal: ponds -o needs the catchment of every cell');
     const catchLabels = report.labelLevel === 'top' ? topLabels(catch0, result.hierarchy) : catch0;
-    rasters = [
-      writeGeoTiff(out.path('catchments.tif'), { ...base, values: catchLabels, nodata: -1 }, { overviews: 'nearest', threads: w.threads }),
-      writeGeoTiff(out.path('filled.tif'), { ...base, values: R.filled, nodata: valueNodata }, { overviews: 'average', threads: w.threads }),
-      writeGeoTiff(out.path('depth.tif'), { ...base, values: R.depth, nodata: -9999 }, { overviews: 'average', threads: w.threads }),
-      writeGeoTiff(out.path('labels.tif'), { ...base, values: labels, nodata: -1 }, { overviews: 'nearest', threads: w.threads }),
-    ];
+    rasters = writeRasterProducts(out, base, [
+      { name: 'catchments', values: catchLabels, nodata: -1, overviews: 'nearest' },
+      { name: 'filled', values: R.filled, nodata: valueNodata, overviews: 'average' },
+      { name: 'depth', values: R.depth, nodata: -9999, overviews: 'average' },
+      { name: 'labels', values: labels, nodata: -1, overviews: 'nearest' },
+    ], w.mosaic ?? null, w.threads);
     for (const r of rasters) r.catch(() => undefined); // awaited below
 
     await out.checkpoint();
@@ -197,7 +209,7 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     writeReportFile(out.path('report.json'), report);
     await out.checkpoint();
     w.progress?.stage('writing the report');
-    addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'pour-points.geojson', 'spill-paths.geojson', 'filled.tif', 'depth.tif', 'labels.tif', 'catchments.tif'], (ctx) => buildPondsHtml(result, report, ctx));
+    addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'pour-points.geojson', 'spill-paths.geojson', ...rasterFiles(PONDS_RASTERS, !!w.mosaic)], (ctx) => buildPondsHtml(result, report, ctx));
     await Promise.all(rasters);
     return await out.commit();
   } catch (e) {

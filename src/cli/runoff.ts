@@ -6,7 +6,7 @@ import type { RunoffResult } from '../hydro/runoff.js';
 import { runoffStageVolume } from '../hydro/runoff.js';
 import { parseDepth, depthUnit, DEPTH_UNITS } from '../hydro/runoff-input.js';
 import { traceBodyOutlines } from '../hydro/runoff-vectors.js';
-import { writeGeoTiff, loadSurface } from '../io/index.js';
+import { loadSurface } from '../io/index.js';
 import { formatNumber as jn } from '../io/stream.js';
 import { writeOutlineGeometry } from '../hydro/vectors.js';
 import type { OutputFolder } from '../io/outdir.js';
@@ -16,7 +16,8 @@ import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, checkBalance, printReport, writeReportFile, writeIdCsv, withCollection,
   stageCsv, summaryHead, summaryTail, type HydroCliOptions,
 } from './hydro-common.js';
-import { loadInput } from './load.js';
+import { prepareInput, inputList, mosaicInfo, rasterNames, rasterFiles, writeRasterProducts, type Inputs } from './mosaic.js';
+import type { OpenedMosaic } from '../io/mosaic.js';
 import { checkCellBudget, featureBudget } from './budget.js';
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, type FlagSpec, type ReportRequest } from './report-option.js';
 import { buildRunoffHtml } from '../render/html/runoff.js';
@@ -41,7 +42,7 @@ export function registerRunoff(program: Command): void {
   const cmd = program
     .command('runoff')
     .description('route a runoff depth through the depressions of a DEM (fill, spill, merge): where the water ponds, how deep, and how much leaves the map')
-    .argument('<input>', 'GeoTIFF, .npy or text grid (a DEM)');
+    .argument('<input...>', 'GeoTIFF, .npy or text grid (a DEM); or a mosaic: a .vrt, a folder of GeoTIFF tiles, or several GeoTIFF paths');
   addCommonOptions(cmd, { boundary: 'open' })
     .option('--depth <d>', 'uniform runoff depth with its unit, e.g. 25mm, 0.1m, 2in, 1ft')
     .option('--depth-raster <file>', 'runoff depth per cell (a raster; nodata = no runoff); resampled to the DEM when its grid differs')
@@ -53,7 +54,7 @@ export function registerRunoff(program: Command): void {
     .option('--xy-units <unit>', 'horizontal unit when the input has no CRS: m, ft, us-ft, km, deg')
     .option('--stage-volume <id>', 'write stage-volume-ID.csv: water level, wet area and volume of depression ID from its pit to its spill level')
     .option('--stage-step <dz>', 'level step of the stage-volume table (vertical unit; default: 50 steps)')
-    .action(async (input: string, opts: RunoffCliOptions) => {
+    .action(async (input: string[], opts: RunoffCliOptions) => {
       await runRunoffCommand(input, opts);
     });
 }
@@ -65,7 +66,7 @@ async function loadRaster(path: string, option: string): Promise<Grid> {
   return s;
 }
 
-export async function runRunoffCommand(input: string, opts: RunoffCliOptions): Promise<RunoffReport> {
+export async function runRunoffCommand(input: Inputs, opts: RunoffCliOptions): Promise<RunoffReport> {
   const progress = new Progress(opts.quiet || opts.json);
   const { connectivity, boundary } = parseOpenBoundary('runoff', opts);
   const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', THRESHOLD);
@@ -85,25 +86,27 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
     rasterUnit = u;
   }
   const { zFactor, stageId, stageStep } = parseZAndStage(opts);
-  const render = reportRequest('runoff', [input], { ...opts }, flagsOf({ ...opts }, RUNOFF_FLAGS));
-  const out = openOutput(opts, 'runoff', [...RUNOFF_FILES, ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render)],
-    [input, opts.depthRaster, opts.initialLevel]);
+  const render = reportRequest('runoff', inputList(input), { ...opts }, flagsOf({ ...opts }, RUNOFF_FLAGS));
+  const src = await prepareInput(input, opts, 'runoff');
+  const out = openOutput(opts, 'runoff', [...runoffFiles(src.mosaic !== null), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render)],
+    [...src.files, opts.depthRaster, opts.initialLevel]);
 
-  progress.stage(`reading ${input}`);
-  const surface = await loadInput(input, opts);
-  checkCellBudget('runoff', surface.size, input);
+  progress.stage(`reading ${src.mosaic ? src.mosaic.source : src.inputs[0]}`);
+  const { surface, mosaic, label } = await src.load();
+  checkCellBudget('runoff', surface.size, label);
   const depthRaster = opts.depthRaster !== undefined ? await loadRaster(opts.depthRaster, '--depth-raster') : undefined;
   const initialLevel = opts.initialLevel !== undefined ? await loadRaster(opts.initialLevel, '--initial-level') : undefined;
   const { result, report } = runoffReport(surface, {
-    onFeatures: featureBudget('runoff', surface.size, opts.out ? 'out' : opts.json ? 'json' : 'none', input),
+    onFeatures: featureBudget('runoff', surface.size, opts.out ? 'out' : opts.json ? 'json' : 'none', label),
     connectivity, boundary, nodataOutlet: nodataAs === 'outlet',
     depth: depth?.metres, depthText: opts.depth?.trim(),
     depthRaster, depthRasterFactor: DEPTH_UNITS[rasterUnit], depthRasterSource: opts.depthRaster, depthRasterUnit: rasterUnit,
     initialLevel, initialLevelSource: opts.initialLevel,
     zUnits: opts.zUnits, zFactor, xyUnits: opts.xyUnits,
-    source: input, threads,
+    source: label, threads,
     onStage: (s) => progress.stage(s),
-  }, input);
+  }, label);
+  if (mosaic) Object.assign(report, { mosaic: mosaicInfo(mosaic) });
   checkHydroReport(report, stageId, 'runoff.csv');
   checkBalance(report.water);
   progress.done();
@@ -111,7 +114,7 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
   let written: string[] = [];
   if (out) {
     progress.stage('writing files');
-    written = await writeRunoffFiles(out, result, report, { stageId, stageStep, progress, render, threads });
+    written = await writeRunoffFiles(out, result, report, { stageId, stageStep, progress, render, threads, mosaic });
     progress.done();
   }
   if (opts.json) printReport(report);
@@ -127,10 +130,20 @@ interface WriteOptions {
   render?: ReportRequest | null;
   /** Threads that compress the rasters (default: the number of cores). */
   threads?: number;
+  /** The input mosaic: the rasters are written one GeoTIFF a tile plus a VRT each. */
+  mosaic?: OpenedMosaic | null;
 }
 
 /** The files `runoff -o DIR` always writes (--stage-volume and --report add theirs). */
 export const RUNOFF_FILES = ['water-level.tif', 'water-depth.tif', 'ponds.geojson', 'runoff.csv', 'report.json'];
+
+/** The raster products of runoff. */
+const RUNOFF_RASTERS = ['water-level', 'water-depth'];
+
+/** RUNOFF_FILES, or for a mosaic the same with water-level/, water-depth/ (a GeoTIFF a tile) and their VRTs. */
+export function runoffFiles(mosaic: boolean): string[] {
+  return mosaic ? [...rasterNames(RUNOFF_RASTERS, true), ...RUNOFF_FILES.filter((f) => !f.endsWith('.tif'))] : RUNOFF_FILES;
+}
 
 export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, report: RunoffReport, w: WriteOptions = {}): Promise<string[]> {
   let rasters: Promise<void>[] = [];
@@ -139,11 +152,11 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
     const R = result.rasters;
     // The rasters are compressed by worker threads while this thread writes the catalogues.
-    w.progress?.stage('writing water-level.tif and water-depth.tif');
-    rasters = [
-      writeGeoTiff(out.path('water-level.tif'), { ...base, values: R.level, nodata: -9999 }, { overviews: 'average', threads: w.threads }),
-      writeGeoTiff(out.path('water-depth.tif'), { ...base, values: R.depth, nodata: -9999 }, { overviews: 'average', threads: w.threads }),
-    ];
+    w.progress?.stage(w.mosaic ? 'writing water-level and water-depth: a GeoTIFF a tile and a VRT each' : 'writing water-level.tif and water-depth.tif');
+    rasters = writeRasterProducts(out, base, [
+      { name: 'water-level', values: R.level, nodata: -9999, overviews: 'average' },
+      { name: 'water-depth', values: R.depth, nodata: -9999, overviews: 'average' },
+    ], w.mosaic ?? null, w.threads);
     for (const r of rasters) r.catch(() => undefined); // awaited below
 
     const tokens = result.areas.units.tokens;
@@ -179,7 +192,7 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     writeReportFile(out.path('report.json'), report);
     await out.checkpoint();
     w.progress?.stage('writing the report');
-    addReport(out, w.render, ['report.json', 'runoff.csv', 'ponds.geojson', 'water-level.tif', 'water-depth.tif'], (ctx) => buildRunoffHtml(result, report, ctx));
+    addReport(out, w.render, ['report.json', 'runoff.csv', 'ponds.geojson', ...rasterFiles(RUNOFF_RASTERS, !!w.mosaic)], (ctx) => buildRunoffHtml(result, report, ctx));
     await Promise.all(rasters);
     return await out.commit();
   } catch (e) {

@@ -6,9 +6,9 @@ import { TextSink, withFileSink, writeJson, writeCsv, writePointCollection } fro
 import { KIND_NAMES } from '../morse/critical.js';
 import type { OutputFolder } from '../io/outdir.js';
 import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, type CommonOptions } from './common.js';
-import { loadInput } from './load.js';
+import { prepareInput, inputList, mosaicInfo, type Inputs } from './mosaic.js';
 import { checkCellBudget, featureBudget } from './budget.js';
-import { eulerFailure } from './hydro-common.js';
+import { eulerFailure, mosaicLine } from './hydro-common.js';
 import type { Grid } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
 import type { SurveyResult } from '../morse/survey.js';
@@ -19,27 +19,29 @@ export function registerSurvey(program: Command): void {
   const cmd = program
     .command('survey')
     .description('critical points (pits, passes, peaks), Euler check, merge trees and persistence pairs')
-    .argument('<input>', 'GeoTIFF, .npy, or text grid / scattered samples');
-  addCommonOptions(cmd, { boundary: 'open' }).action(async (input: string, opts: CommonOptions) => {
+    .argument('<input...>', 'GeoTIFF, .npy, or text grid / scattered samples; or a mosaic: a .vrt, a folder of GeoTIFF tiles, or several GeoTIFF paths');
+  addCommonOptions(cmd, { boundary: 'open' }).action(async (input: string[], opts: CommonOptions) => {
     await runSurveyCommand(input, opts);
   });
 }
 
-export async function runSurveyCommand(input: string, opts: CommonOptions): Promise<SurveyReport> {
+export async function runSurveyCommand(input: Inputs, opts: CommonOptions): Promise<SurveyReport> {
   const progress = new Progress(opts.quiet || opts.json);
   const connectivity = parseConnectivity(opts.connectivity);
   const boundary = parseBoundary(opts.boundary);
   const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', THRESHOLD);
   const threads = parseThreads(opts.threads);
-  const render = reportRequest('survey', [input], { ...opts });
-  const out = openOutput(opts, 'survey', [...SURVEY_FILES, ...reportNames(render)], [input]);
-  progress.stage(`reading ${input}`);
-  const surface = await loadInput(input, opts);
+  const render = reportRequest('survey', inputList(input), { ...opts });
+  const src = await prepareInput(input, opts, 'survey');
+  const out = openOutput(opts, 'survey', [...SURVEY_FILES, ...reportNames(render)], src.files);
+  progress.stage(`reading ${src.mosaic ? src.mosaic.source : src.inputs[0]}`);
+  const { surface, mosaic, label } = await src.load();
   const cells = surface.size;
-  checkCellBudget('survey', cells, input);
+  checkCellBudget('survey', cells, label);
   progress.stage('ordering, critical points, merge trees');
-  const onFeatures = featureBudget('survey', cells, opts.out ? 'out' : opts.json ? 'json' : 'none', input);
-  const { result, report } = surveyReport(surface, { connectivity, boundary, minPersistence, threads, onFeatures }, input);
+  const onFeatures = featureBudget('survey', cells, opts.out ? 'out' : opts.json ? 'json' : 'none', label);
+  const { result, report } = surveyReport(surface, { connectivity, boundary, minPersistence, threads, onFeatures }, label);
+  if (mosaic) Object.assign(report, { mosaic: mosaicInfo(mosaic) });
   progress.done();
   if (!report.euler.holds) throw eulerFailure(report.euler);
   if (out) await writeSurveyFiles(out, surface, result, report, render);
@@ -108,6 +110,8 @@ export function surveySummary(r: SurveyReport, outDir?: string): string {
   lines.push(s.kind === 'grid'
     ? `surface   ${s.width} × ${s.height} grid, ${s.validCells} valid cells${s.crs?.name ? `, ${s.crs.name}` : ', no CRS'}`
     : `surface   ${s.points} scattered samples (Delaunay triangulation)`);
+  const m = (r as { mosaic?: { tileCount: number; kind: string } }).mosaic;
+  if (m) lines.push(`mosaic    ${mosaicLine(m)}`);
   lines.push(`complex   connectivity ${r.connectivity ?? 'triangulation'}, boundary ${r.boundary}`);
   const e = r.euler;
   lines.push(`critical  ${e.pits} pits${e.outsidePit ? ' (incl. the outside)' : ''}, ${e.passes} passes, ${e.peaks} peaks`);

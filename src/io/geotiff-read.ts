@@ -16,7 +16,7 @@ import { InputError } from '../errors.js';
 import { useBoundedLzw } from './lzw.js';
 import { Grid, gridValues, type Crs, type GeoTransform, type GridValues } from '../surface/grid.js';
 import { checkGridSize, finishValues, nodataFor, openForReading, printable, readAt, transferSamples } from './common.js';
-import { blocksPerGrab, decodeShare, type BlockFailure, type BlockLayout } from './tiff-decode.js';
+import { blocksPerGrab, decodeBlockCells, decodeShare, type BlockCells, type BlockFailure, type BlockLayout } from './tiff-decode.js';
 
 export interface GeoTiffReadOptions {
   /** 1-based band number; default 1. */
@@ -381,11 +381,40 @@ function sampleKind(path: string, image: GeoTIFFImage, band: number): SampleKind
   }
 }
 
-/**
- * Read one band of a GeoTIFF as a Grid. Cells equal to the nodata value (the `nodata`
- * option, else the file's GDAL_NODATA tag) and NaN cells become NaN.
- */
-export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): Promise<Grid> {
+/** What a GeoTIFF's header says about one band: enough to place it in a mosaic without reading its cells. */
+export interface GeoTiffInfo {
+  width: number;
+  height: number;
+  /** GDAL-order geotransform at pixel corners. */
+  transform: GeoTransform;
+  crs: Crs | null;
+  /** The nodata value in effect (the option, else the file's GDAL_NODATA tag), or null. */
+  nodata: number | null;
+  /** The band's sample type in GDAL's words (Byte, Int16, UInt16, Int32, UInt32, Float32, Float64 …). */
+  sampleType: string;
+  /** True when the band's values need float64 (32-bit integers, 64-bit floats). */
+  float64: boolean;
+  bands: number;
+}
+
+/** The file opened and checked up to its georeferencing: everything but the cells. */
+interface Inspected extends GeoTiffInfo {
+  header: Header;
+  image: GeoTIFFImage;
+  ifd: ImageFileDirectory;
+  kind: SampleKind;
+  compression: number;
+  comp: [name: string, supported: boolean];
+  rowsPerRead: number;
+  offsets: number[];
+  counts: number[];
+  what: string;
+  perPlane: number;
+  expected: number;
+  match: number;
+}
+
+function checkReadOptions(opts: GeoTiffReadOptions): number {
   const band = opts.band ?? 1;
   if (!Number.isInteger(band) || band < 1) {
     throw new InputError(`band must be a whole number from 1 up, got ${band}`);
@@ -396,92 +425,135 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
   if (opts.nodata !== undefined && typeof opts.nodata !== 'number') {
     throw new InputError(`nodata must be a number, got ${String(opts.nodata)}`);
   }
+  return band;
+}
+
+/** GDAL's name of a TIFF sample type. */
+function sampleTypeName(format: number, bits: number): string {
+  if (format === 3) return bits === 16 ? 'Float16' : bits === 32 ? 'Float32' : 'Float64';
+  if (bits === 8) return format === 2 ? 'Int8' : 'Byte';
+  return `${format === 2 ? 'Int' : 'UInt'}${bits}`;
+}
+
+/**
+ * The header of one band of a GeoTIFF — size, georeferencing, nodata, sample type — with the
+ * same checks readGeoTiff makes before it decodes (every strip or tile lies inside the file), and
+ * no cell read.
+ */
+export async function readGeoTiffInfo(path: string, opts: GeoTiffReadOptions = {}): Promise<GeoTiffInfo> {
+  const band = checkReadOptions(opts);
+  const { fh, size } = await openForReading(path);
+  useBoundedLzw();
+  try {
+    const { width, height, transform, crs, nodata, sampleType, float64, bands } = await inspect(path, fh, size, band, opts);
+    return { width, height, transform, crs, nodata, sampleType, float64, bands };
+  } finally {
+    await fh.close().catch(() => undefined);
+  }
+}
+
+async function inspect(path: string, fh: FileHandle, size: number, band: number, opts: GeoTiffReadOptions): Promise<Inspected> {
+  const header = await readHeader(path, fh, size);
+  const bytes = new FileBytes(fh, size);
+  let image: GeoTIFFImage;
+  try {
+    const tiff = await GeoTIFF.fromSource(bytes as unknown as Parameters<typeof GeoTIFF.fromSource>[0]);
+    image = await tiff.getImage(0);
+    await resolveOffsetArrays(image.fileDirectory, bytes, header.littleEndian);
+  } catch (err) {
+    if (err instanceof InputError) throw err;
+    const why = err instanceof RangeError ? 'a tag value lies past the end of the file' : (err as Error).message;
+    throw truncated(path, `its image directory cannot be parsed (${why})`);
+  }
+  const ifd = image.fileDirectory;
+  const width = image.getWidth();
+  const height = image.getHeight();
+  if (!(width > 0 && height > 0)) throw truncated(path, `the image size is ${width}×${height}`);
+
+  const bandCount = image.getSamplesPerPixel();
+  if (!(bandCount >= 1)) throw truncated(path, `it declares ${bandCount} samples per pixel, so it holds no band`);
+  for (let s = 0; s < bandCount; s++) {
+    const bits = image.getBitsPerSample(s);
+    if (!(Number.isInteger(bits) && bits > 0)) {
+      throw truncated(path, `it declares ${bandCount} samples per pixel but gives no usable BitsPerSample for sample ${s + 1}`);
+    }
+  }
+  if (band > bandCount) {
+    throw new InputError(`${path} has ${bandCount} band${bandCount === 1 ? '' : 's'}; band ${band} does not exist — choose a band from 1 to ${bandCount}`);
+  }
+  const kind = sampleKind(path, image, band);
+  if (image.planarConfiguration === 1) {
+    for (let s = 0; s < bandCount; s++) {
+      if (image.getBitsPerSample(s) % 8 !== 0) sampleKind(path, image, s + 1); // throws for a bit-packed band
+    }
+  }
+  const compression = Number((await tagNumbers(path, ifd, TAG.Compression))?.[0] ?? 1);
+  const comp = COMPRESSIONS[compression];
+  if (!comp || !comp[1]) {
+    throw new InputError(
+      `${path} uses ${comp ? comp[0] : `compression method ${compression}`}, which sill does not decode; ` +
+        'rewrite it with DEFLATE, LZW, PackBits or no compression',
+    );
+  }
+
+  // Refuse sizes before allocating anything large.
+  const bytesPerCell = kind.float64Out ? 8 : 4;
+  const tileW = image.getTileWidth();
+  const tileH = image.getTileHeight();
+  if (!(tileW > 0 && tileH > 0)) throw truncated(path, `the ${image.isTiled ? 'tile' : 'strip'} size is ${tileW}×${tileH}`);
+  const rowsPerRead = tileH * Math.max(1, Math.floor(BAND_CELLS / (width * tileH)));
+  const workBytes = Math.min(height, rowsPerRead) * width * 8;
+  checkGridSize(path, width, height, bytesPerCell, workBytes);
+
+  // Every strip or tile must lie inside the file.
+  const offsets = await tagNumbers(path, ifd, image.isTiled ? TAG.TileOffsets : TAG.StripOffsets);
+  const counts = await tagNumbers(path, ifd, image.isTiled ? TAG.TileByteCounts : TAG.StripByteCounts);
+  const what = image.isTiled ? 'tile' : 'strip';
+  const perPlane = Math.ceil(width / tileW) * Math.ceil(height / tileH);
+  const expected = perPlane * (image.planarConfiguration === 2 ? bandCount : 1);
+  if (!offsets || !counts || offsets.length < expected || counts.length < expected) {
+    throw truncated(path, `it lists ${offsets?.length ?? 0} ${what} offsets and ${counts?.length ?? 0} byte counts where ${expected} are needed`);
+  }
+  for (let i = 0; i < expected; i++) {
+    if (counts[i] > 0 && offsets[i] + counts[i] > size) {
+      throw truncated(path, `${what} ${i + 1} of ${expected} ends at byte ${offsets[i] + counts[i]} but the file has ${size} bytes`);
+    }
+  }
+
+  // Georeferencing.
+  const keys = parseGeoKeys(await tagNumbers(path, ifd, TAG.GeoKeyDirectory), await tagString(path, ifd, TAG.GeoAsciiParams));
+  const pixelIsPoint = keys?.shorts.get(KEY.GTRasterType) === RASTER_PIXEL_IS_POINT;
+  const transform = transformFromTags(
+    await tagNumbers(path, ifd, TAG.ModelTiepoint),
+    await tagNumbers(path, ifd, TAG.ModelPixelScale),
+    await tagNumbers(path, ifd, TAG.ModelTransformation),
+    pixelIsPoint,
+  );
+  const crs = crsFromKeys(keys);
+  let fileNodata = parseNodataTag(path, await tagString(path, ifd, TAG.GdalNodata));
+  if (fileNodata !== null && kind.float32Samples) fileNodata = float32Nodata(fileNodata);
+  const nodata = opts.nodata !== undefined ? opts.nodata : fileNodata;
+  const match = nodataFor(nodata, kind.float32Samples);
+
+  const sampleType = sampleTypeName(image.getSampleFormat(band - 1), image.getBitsPerSample(band - 1));
+  return {
+    width, height, transform, crs, nodata: nodata ?? null, sampleType, float64: kind.float64Out, bands: bandCount,
+    header, image, ifd, kind, compression, comp, rowsPerRead, offsets, counts, what, perPlane, expected, match,
+  };
+}
+
+/**
+ * Read one band of a GeoTIFF as a Grid. Cells equal to the nodata value (the `nodata`
+ * option, else the file's GDAL_NODATA tag) and NaN cells become NaN.
+ */
+export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): Promise<Grid> {
+  const band = checkReadOptions(opts);
   const { fh, size } = await openForReading(path);
   filterDecoderWarnings();
   useBoundedLzw();
   try {
-    const header = await readHeader(path, fh, size);
-    const bytes = new FileBytes(fh, size);
-    let image: GeoTIFFImage;
-    try {
-      const tiff = await GeoTIFF.fromSource(bytes as unknown as Parameters<typeof GeoTIFF.fromSource>[0]);
-      image = await tiff.getImage(0);
-      await resolveOffsetArrays(image.fileDirectory, bytes, header.littleEndian);
-    } catch (err) {
-      if (err instanceof InputError) throw err;
-      const why = err instanceof RangeError ? 'a tag value lies past the end of the file' : (err as Error).message;
-      throw truncated(path, `its image directory cannot be parsed (${why})`);
-    }
-    const ifd = image.fileDirectory;
-    const width = image.getWidth();
-    const height = image.getHeight();
-    if (!(width > 0 && height > 0)) throw truncated(path, `the image size is ${width}×${height}`);
-
-    const bandCount = image.getSamplesPerPixel();
-    if (!(bandCount >= 1)) throw truncated(path, `it declares ${bandCount} samples per pixel, so it holds no band`);
-    for (let s = 0; s < bandCount; s++) {
-      const bits = image.getBitsPerSample(s);
-      if (!(Number.isInteger(bits) && bits > 0)) {
-        throw truncated(path, `it declares ${bandCount} samples per pixel but gives no usable BitsPerSample for sample ${s + 1}`);
-      }
-    }
-    if (band > bandCount) {
-      throw new InputError(`${path} has ${bandCount} band${bandCount === 1 ? '' : 's'}; band ${band} does not exist — choose a band from 1 to ${bandCount}`);
-    }
-    const kind = sampleKind(path, image, band);
-    if (image.planarConfiguration === 1) {
-      for (let s = 0; s < bandCount; s++) {
-        if (image.getBitsPerSample(s) % 8 !== 0) sampleKind(path, image, s + 1); // throws for a bit-packed band
-      }
-    }
-    const compression = Number((await tagNumbers(path, ifd, TAG.Compression))?.[0] ?? 1);
-    const comp = COMPRESSIONS[compression];
-    if (!comp || !comp[1]) {
-      throw new InputError(
-        `${path} uses ${comp ? comp[0] : `compression method ${compression}`}, which sill does not decode; ` +
-          'rewrite it with DEFLATE, LZW, PackBits or no compression',
-      );
-    }
-
-    // Refuse sizes before allocating anything large.
-    const bytesPerCell = kind.float64Out ? 8 : 4;
-    const tileW = image.getTileWidth();
-    const tileH = image.getTileHeight();
-    if (!(tileW > 0 && tileH > 0)) throw truncated(path, `the ${image.isTiled ? 'tile' : 'strip'} size is ${tileW}×${tileH}`);
-    const rowsPerRead = tileH * Math.max(1, Math.floor(BAND_CELLS / (width * tileH)));
-    const workBytes = Math.min(height, rowsPerRead) * width * 8;
-    checkGridSize(path, width, height, bytesPerCell, workBytes);
-
-    // Every strip or tile must lie inside the file.
-    const offsets = await tagNumbers(path, ifd, image.isTiled ? TAG.TileOffsets : TAG.StripOffsets);
-    const counts = await tagNumbers(path, ifd, image.isTiled ? TAG.TileByteCounts : TAG.StripByteCounts);
-    const what = image.isTiled ? 'tile' : 'strip';
-    const perPlane = Math.ceil(width / tileW) * Math.ceil(height / tileH);
-    const expected = perPlane * (image.planarConfiguration === 2 ? bandCount : 1);
-    if (!offsets || !counts || offsets.length < expected || counts.length < expected) {
-      throw truncated(path, `it lists ${offsets?.length ?? 0} ${what} offsets and ${counts?.length ?? 0} byte counts where ${expected} are needed`);
-    }
-    for (let i = 0; i < expected; i++) {
-      if (counts[i] > 0 && offsets[i] + counts[i] > size) {
-        throw truncated(path, `${what} ${i + 1} of ${expected} ends at byte ${offsets[i] + counts[i]} but the file has ${size} bytes`);
-      }
-    }
-
-    // Georeferencing.
-    const keys = parseGeoKeys(await tagNumbers(path, ifd, TAG.GeoKeyDirectory), await tagString(path, ifd, TAG.GeoAsciiParams));
-    const pixelIsPoint = keys?.shorts.get(KEY.GTRasterType) === RASTER_PIXEL_IS_POINT;
-    const transform = transformFromTags(
-      await tagNumbers(path, ifd, TAG.ModelTiepoint),
-      await tagNumbers(path, ifd, TAG.ModelPixelScale),
-      await tagNumbers(path, ifd, TAG.ModelTransformation),
-      pixelIsPoint,
-    );
-    const crs = crsFromKeys(keys);
-    let fileNodata = parseNodataTag(path, await tagString(path, ifd, TAG.GdalNodata));
-    if (fileNodata !== null && kind.float32Samples) fileNodata = float32Nodata(fileNodata);
-    const nodata = opts.nodata !== undefined ? opts.nodata : fileNodata;
-    const match = nodataFor(nodata, kind.float32Samples);
-
+    const { width, height, transform, crs, nodata, header, image, ifd, kind, compression, comp, rowsPerRead, offsets, counts, what, perPlane, expected, match } =
+      await inspect(path, fh, size, band, opts);
     const predictor = Number((await tagNumbers(path, ifd, TAG.Predictor))?.[0] ?? 1);
     const threads = opts.threads ?? availableParallelism();
     const layout = blockLayout(image, band, compression, predictor, header.littleEndian, counts, perPlane);
@@ -521,7 +593,7 @@ export async function readGeoTiff(path: string, opts: GeoTiffReadOptions = {}): 
         transferSamples(samples, samples.length, values, y0 * width, width, match, kind.integer, path);
       }
     }
-    return new Grid({ width, height, values, transform, crs, nodata: nodata ?? null });
+    return new Grid({ width, height, values, transform, crs, nodata });
   } finally {
     await fh.close().catch(() => undefined);
   }
@@ -636,4 +708,94 @@ async function decodeBlocks(
     if (f && (first === null || (f.block >= 0 && (first.block < 0 || f.block < first.block)))) first = f;
   }
   return first;
+}
+
+/**
+ * A window of one band of a GeoTIFF — columns col0…col0+width−1, rows row0…row0+height−1 —
+ * decoding only the strips or tiles the window touches (the mosaic reader compares the strips where
+ * tiles overlap with it): with sill's own decoder, or for the rare layouts it leaves to the
+ * `geotiff` package, through the package. Nodata and NaN become NaN, as in readGeoTiff; a window
+ * outside the image is a programming error.
+ */
+export async function readGeoTiffWindow(path: string, win: Window, opts: GeoTiffReadOptions = {}): Promise<GridValues> {
+  return (await readGeoTiffWindows(path, [win], opts))[0];
+}
+
+/** A rectangle of cells of an image. */
+export interface Window {
+  col0: number;
+  row0: number;
+  width: number;
+  height: number;
+}
+
+/** Several windows of one band, as readGeoTiffWindow reads one: the file opened once, each block decoded once. */
+export async function readGeoTiffWindows(path: string, wins: readonly Window[], opts: GeoTiffReadOptions = {}): Promise<GridValues[]> {
+  const band = checkReadOptions(opts);
+  const { fh, size } = await openForReading(path);
+  filterDecoderWarnings();
+  useBoundedLzw();
+  try {
+    const info = await inspect(path, fh, size, band, opts);
+    for (const win of wins) {
+      if (win.col0 < 0 || win.row0 < 0 || win.width < 1 || win.height < 1 || win.col0 + win.width > info.width || win.row0 + win.height > info.height) {
+        throw new RangeError(`window ${win.col0},${win.row0} ${win.width}×${win.height} lies outside ${path} (${info.width}×${info.height})`);
+      }
+    }
+    const predictor = Number((await tagNumbers(path, info.ifd, TAG.Predictor))?.[0] ?? 1);
+    const layout = blockLayout(info.image, band, info.compression, predictor, info.header.littleEndian, info.counts, info.perPlane);
+    const result: GridValues[] = [];
+    if (layout) {
+      // sill's own decoder, only the blocks the windows touch, each once
+      const offs = Float64Array.from(info.offsets), cnts = Float64Array.from(info.counts);
+      const blocks = new Map<number, BlockCells>();
+      for (const win of wins) {
+        const out = gridValues(win.width * win.height, info.float64);
+        const bx0 = Math.floor(win.col0 / layout.blockWidth), bx1 = Math.floor((win.col0 + win.width - 1) / layout.blockWidth);
+        const by0 = Math.floor(win.row0 / layout.blockHeight), by1 = Math.floor((win.row0 + win.height - 1) / layout.blockHeight);
+        for (let by = by0; by <= by1; by++) {
+          for (let bx = bx0; bx <= bx1; bx++) {
+            const k = by * layout.blocksAcross + bx;
+            let b = blocks.get(k);
+            if (!b) {
+              const d = decodeBlockCells(fh.fd, layout, offs, cnts, k, info.float64);
+              if (typeof d === 'string') throw truncated(path, `${info.what} ${layout.firstBlock + k + 1} of ${info.expected} cannot be decoded (${d})`);
+              blocks.set(k, (b = d));
+            }
+            const r0 = Math.max(win.row0, b.row0), r1 = Math.min(win.row0 + win.height, b.row0 + b.rows);
+            const c0 = Math.max(win.col0, b.col0), c1 = Math.min(win.col0 + win.width, b.col0 + b.cols);
+            for (let r = r0; r < r1; r++) {
+              const from = (r - b.row0) * b.cols + (c0 - b.col0);
+              out.set(b.values.subarray(from, from + (c1 - c0)), (r - win.row0) * win.width + (c0 - win.col0));
+            }
+          }
+        }
+        finishValues(out, info.match, info.kind.integer, win.width, path);
+        result.push(out);
+      }
+      return result;
+    }
+    for (const win of wins) {
+      const out = gridValues(win.width * win.height, info.float64);
+      let samples: ArrayLike<number>;
+      const warned: string[] = [];
+      decoderWarnings = warned;
+      const rows = `rows ${win.row0}–${win.row0 + win.height - 1}`;
+      try {
+        const r = await info.image.readRasters({ window: [win.col0, win.row0, win.col0 + win.width, win.row0 + win.height], samples: [band - 1], interleave: false });
+        samples = r[0];
+      } catch (err) {
+        throw truncated(path, `${rows} cannot be decoded (${decoderReason(err, info.comp[0])})`);
+      } finally {
+        decoderWarnings = null;
+      }
+      if (warned.length > 0) throw truncated(path, `${rows} cannot be decoded (the ${info.comp[0]} decoder: ${warned[0].trim()})`);
+      if (samples.length !== out.length) throw truncated(path, `${rows} decode to ${samples.length} values instead of ${out.length}`);
+      transferSamples(samples, samples.length, out, 0, win.width, info.match, info.kind.integer, path);
+      result.push(out);
+    }
+    return result;
+  } finally {
+    await fh.close().catch(() => undefined);
+  }
 }

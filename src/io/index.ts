@@ -4,3 +4,6 @@ export { parseTextSurface, readTextSurface, LATTICE_TOLERANCE, LATTICE_MAX_FILL,
 export { readNpy, type NpyReadOptions } from './npy.js';
 export { loadSurface, detectFormat, type LoadOptions, type SurfaceFormat } from './load.js';
 export { checkGridUsable } from './validate.js';
+export { readGeoTiffInfo, readGeoTiffWindow, type GeoTiffInfo } from './geotiff-read.js';
+export { openMosaic, isMosaicInput, PLACEMENT_TOLERANCE, type MosaicOptions, type OpenedMosaic, type MosaicKind } from './mosaic.js';
+export { vrtText, type VrtLayer, type VrtSource } from './vrt-write.js';

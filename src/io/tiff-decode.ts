@@ -102,6 +102,32 @@ export function decodeShare(
   }
 }
 
+/** The cells of one decoded block, clipped to the image: `rows` × `cols` values from (row0, col0). */
+export interface BlockCells {
+  values: Float32Array | Float64Array;
+  row0: number;
+  col0: number;
+  rows: number;
+  cols: number;
+}
+
+/**
+ * Decode block k of the band (0-based within the band) on its own, into an array of its cells
+ * (raw samples: nodata and infinities are the caller's, as with decodeShare). A reason string when
+ * it cannot be decoded. Windowed reads (the mosaic's overlap check) decode only the blocks they need.
+ */
+export function decodeBlockCells(fd: number, L: BlockLayout, offsets: Float64Array, counts: Float64Array, k: number, float64: boolean): BlockCells | string {
+  const bx = k % L.blocksAcross;
+  const by = (k - bx) / L.blocksAcross;
+  const row0 = by * L.blockHeight, col0 = bx * L.blockWidth;
+  const rows = Math.min(L.blockHeight, L.height - row0), cols = Math.min(L.blockWidth, L.width - col0);
+  // the block as a one-block image of its own clipped size: decodeBlock writes it at (0, 0)
+  const one: BlockLayout = { ...L, width: cols, height: rows, blocksAcross: 1, firstBlock: L.firstBlock + k, blockCount: 1 };
+  const values = float64 ? new Float64Array(rows * cols) : new Float32Array(rows * cols);
+  const failure = decodeBlock(fd, one, offsets, counts, values, 0, new Scratch());
+  return failure ?? { values, row0, col0, rows, cols };
+}
+
 /** Decode block k of the band (0-based within the band); a reason string when it cannot be decoded. */
 function decodeBlock(
   fd: number,

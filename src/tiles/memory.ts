@@ -17,7 +17,10 @@ export function gridMosaic(grid: Grid, cuts: TileCut[], source = 'grid in memory
   const tiles: MosaicTile[] = cuts.map((c, k) => {
     for (let r = c.row0; r < c.row0 + c.height; r++) covered.fill(1, r * W + c.col0, r * W + c.col0 + c.width);
     const own = c.own ?? { col0: c.col0, row0: c.row0, width: c.width, height: c.height };
-    return { name: c.name ?? `tile${k}`, path: '', col0: c.col0, row0: c.row0, width: c.width, height: c.height, own };
+    const [x0, dx, rx, y0, ry, dy] = grid.transform;
+    // the tile's own geotransform: the grid's shifted by whole cells to the tile's corner
+    const transform: MosaicTile['transform'] = [x0 + c.col0 * dx + c.row0 * rx, dx, rx, y0 + c.col0 * ry + c.row0 * dy, ry, dy];
+    return { name: c.name ?? `tile${k}`, path: '', col0: c.col0, row0: c.row0, width: c.width, height: c.height, own, transform };
   });
   const f64 = grid.values instanceof Float64Array;
   return {

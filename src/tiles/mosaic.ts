@@ -29,6 +29,12 @@ export interface MosaicTile extends CellWindow {
    * overlaps were checked equal). Owned windows never overlap and cover every tile cell once.
    */
   own: CellWindow;
+  /**
+   * The tile file's own geotransform, as its header gives it (added by the mosaic readers: per-tile
+   * outputs are written with it, so they sit exactly where the input tile sits). It equals the
+   * mosaic's shifted by (col0, row0) cells up to float rounding.
+   */
+  transform: GeoTransform;
 }
 
 export interface Mosaic {
