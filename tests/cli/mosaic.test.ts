@@ -112,12 +112,12 @@ describe('ponds on a mosaic equals ponds on the single grid GDAL assembled', () 
       expect(r.code, r.stderr).toBe(0);
       expect(r.stderr).toBe('');
       expect(listFiles(out)).toEqual([
-        '.sill-manifest.json', 'depressions.csv', 'depressions.geojson', 'spill-paths.geojson', 'report.json',
+        '.sill-manifest.json', 'depressions.csv', 'depressions.geojson', 'pour-points.geojson', 'spill-paths.geojson', 'report.json',
         ...['filled', 'depth', 'labels', 'catchments'].flatMap((p) => [...TILES.map((t) => `${p}/${t}.tif`), `${p}.vrt`]),
       ].sort());
       expect(reportOf(out)).toEqual(reportOf(single));
       expect(readFileSync(join(out, 'depressions.csv'), 'utf8')).toBe(readFileSync(join(single, 'depressions.csv'), 'utf8'));
-      for (const file of ['depressions.geojson', 'spill-paths.geojson']) expect(readFileSync(join(out, file), 'utf8'), file).toBe(readFileSync(join(single, file), 'utf8'));
+      for (const file of ['depressions.geojson', 'pour-points.geojson', 'spill-paths.geojson']) expect(readFileSync(join(out, file), 'utf8'), file).toBe(readFileSync(join(single, file), 'utf8'));
       const rep = JSON.parse(readFileSync(join(out, 'report.json'), 'utf8'));
       expect(rep.mosaic.tileCount).toBe(5);
       expect(rep.mosaic.tiles.map((t: { name: string; width: number; height: number }) => [t.name, t.width, t.height]))
