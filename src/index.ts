@@ -12,6 +12,9 @@ export type { Connectivity, Boundary } from './surface/complex.js';
 // mosaics: a GDAL VRT, a folder of GeoTIFF tiles or several GeoTIFF paths as one surface (docs/tiles.md)
 export { openMosaic, isMosaicInput, type OpenedMosaic, type MosaicOptions, type MosaicKind } from './io/mosaic.js';
 export type { Mosaic, MosaicTile, CellWindow } from './tiles/mosaic.js';
+// the tile-by-tile depression method over any Mosaic: the single-grid answer in bounded memory (docs/tiles.md, Method)
+export { pondsTiled, type TiledPondsOptions, type TiledPondsResult } from './tiles/ponds.js';
+export { gridMosaic, type TileCut } from './tiles/memory.js';
 export { vrtText, type VrtLayer, type VrtSource } from './io/vrt-write.js';
 
 // the analyses: analysis(surface, options) → { report, result }
