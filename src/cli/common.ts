@@ -48,6 +48,12 @@ export function addCommonOptions(cmd: Command, defaults: { boundary: Boundary })
     .option('--quiet', 'no progress or summary on the terminal');
 }
 
+/** The GeoPackage holding every vector output of a run as layers (left out with --no-gpkg). */
+export const GPKG_FILE = 'results.gpkg';
+
+/** --no-gpkg, for the commands with vector outputs. */
+export const NO_GPKG = ['--no-gpkg', 'do not write results.gpkg (the GeoPackage of the vector outputs)'] as const;
+
 /**
  * The output folder of a run, checked before any work (src/io/outdir.ts): `names` are the files the
  * run may write, `inputs` the files it reads (refused when a result would take their place).

@@ -15,7 +15,8 @@ import { toWgs84 } from '../hydro/reproject.js';
 import { stageVolume } from '../hydro/stage.js';
 import { writeGeoTiff } from '../io/index.js';
 import type { OutputFolder } from '../io/outdir.js';
-import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, AREA_THRESHOLD, type NumberLimits } from './common.js';
+import { GeoPackageWriter } from '../io/gpkg.js';
+import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, NO_GPKG, THRESHOLD, AREA_THRESHOLD, GPKG_FILE, type NumberLimits } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printReport, writeReportFile, writeIdCsv,
   stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
@@ -35,6 +36,8 @@ export interface PondsCliOptions extends HydroCliOptions {
   xyUnits?: string;
   wgs84?: boolean;
   culverts?: string;
+  /** false with --no-gpkg: no results.gpkg. */
+  gpkg?: boolean;
 }
 
 export function registerPonds(program: Command): void {
@@ -56,6 +59,7 @@ export function registerPonds(program: Command): void {
     .option('--stage-volume <id>', 'write stage-volume-ID.csv: water level, wet area and volume of depression ID from its pit to its spill level')
     .option('--culverts <file>', 'lines through embankments (GeoJSON LineStrings or CSV x1,y1,x2,y2[,invert][,name]) where water passes at the invert; reports what changed')
     .option('--stage-step <dz>', 'level step of the stage-volume table (vertical unit; default: 50 steps)')
+    .option(...NO_GPKG)
     .action(async (input: string, opts: PondsCliOptions) => {
       await runPondsCommand(input, opts);
     });
@@ -81,7 +85,7 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   const render = reportRequest('ponds', [input], { ...opts }, flagsOf({ ...opts }, PONDS_FLAGS));
   if (opts.wgs84 && !opts.out) throw new InputError('--wgs84 writes depressions-wgs84.geojson: give an output folder with -o/--out');
   const out = openOutput(opts, 'ponds', [
-    ...PONDS_FILES, ...(opts.wgs84 ? ['depressions-wgs84.geojson'] : []), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render),
+    ...PONDS_FILES, ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...(opts.wgs84 ? ['depressions-wgs84.geojson'] : []), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render),
   ], opts.culverts ? [input, opts.culverts] : [input]);
 
   progress.stage(`reading ${input}`);
@@ -118,7 +122,7 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   let written: string[] = [];
   if (out) {
     progress.stage('writing files');
-    written = await writePondsFiles(out, result, report, { project, stageId, stageStep, progress, render, threads });
+    written = await writePondsFiles(out, result, report, { project, stageId, stageStep, progress, render, threads, gpkg: opts.gpkg !== false });
   }
   progress.done();
   if (opts.json) printReport(report);
@@ -135,6 +139,8 @@ interface WriteOptions {
   render?: ReportRequest | null;
   /** Threads that compress the rasters (default: the number of cores). */
   threads?: number;
+  /** Write results.gpkg (default true). */
+  gpkg?: boolean;
 }
 
 /** The files `ponds -o DIR` always writes (--wgs84, --stage-volume and --report add theirs). */
@@ -142,6 +148,7 @@ export const PONDS_FILES = ['filled.tif', 'depth.tif', 'labels.tif', 'catchments
 
 export async function writePondsFiles(out: OutputFolder, result: PondsResult, report: PondsReport, w: WriteOptions = { project: null }): Promise<string[]> {
   let rasters: Promise<void>[] = [];
+  let gpkg: GeoPackageWriter | null = null;
   try {
     const g = result.grid;
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
@@ -170,8 +177,11 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
       units: report.units,
       caution: report.caution,
     };
-    w.progress?.stage('tracing outlines, writing depressions.geojson');
-    const counts = writeDepressionsGeojson(out.path('depressions.geojson'), w.project ? out.path('depressions-wgs84.geojson') : null, result, report.depressions.columns, w.project, meta);
+    w.progress?.stage(`tracing outlines, writing depressions.geojson${w.gpkg !== false ? ' and results.gpkg' : ''}`);
+    if (w.gpkg !== false) gpkg = new GeoPackageWriter(out.path(GPKG_FILE), g.crs);
+    const counts = writeDepressionsGeojson(out.path('depressions.geojson'), w.project ? out.path('depressions-wgs84.geojson') : null, result, report.depressions.columns, w.project, meta, gpkg);
+    gpkg?.finish();
+    gpkg = null;
     report.outlines = outlinesEntry(counts,
       (omitted) => `${omitted} nested merged depressions have no polygon in depressions.geojson (null geometry): tracing every level of this deep hierarchy would scan the grid too many times; the top-level and leaf depressions and the largest nested ones are traced — use --min-depth, --min-area or --min-volume to simplify the hierarchy`,
       'every depression has its polygon');
@@ -194,6 +204,7 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     await Promise.all(rasters);
     return await out.commit();
   } catch (e) {
+    gpkg?.abort();
     await Promise.allSettled(rasters); // every raster writer has finished (and removed its temporary file)
     throw out.fail(e);
   }

@@ -9,8 +9,9 @@ import { traceBodyOutlines } from '../hydro/runoff-vectors.js';
 import { writeGeoTiff, loadSurface } from '../io/index.js';
 import { writePolygons, formatNumber as jn } from '../io/stream.js';
 import type { OutputFolder } from '../io/outdir.js';
+import { GeoPackageWriter, type GpkgLayerSpec } from '../io/gpkg.js';
 import type { Grid } from '../surface/grid.js';
-import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, openOutput, THRESHOLD } from './common.js';
+import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, openOutput, NO_GPKG, THRESHOLD, GPKG_FILE } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, checkBalance, printReport, writeReportFile, writeIdCsv, withCollection,
   stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
@@ -27,6 +28,8 @@ export interface RunoffCliOptions extends HydroCliOptions {
   initialLevel?: string;
   zUnits?: string;
   xyUnits?: string;
+  /** false with --no-gpkg: no results.gpkg. */
+  gpkg?: boolean;
 }
 
 /** The options of `runoff` that shape its result, for the command line in the report header. */
@@ -52,6 +55,7 @@ export function registerRunoff(program: Command): void {
     .option('--xy-units <unit>', 'horizontal unit when the input has no CRS: m, ft, us-ft, km, deg')
     .option('--stage-volume <id>', 'write stage-volume-ID.csv: water level, wet area and volume of depression ID from its pit to its spill level')
     .option('--stage-step <dz>', 'level step of the stage-volume table (vertical unit; default: 50 steps)')
+    .option(...NO_GPKG)
     .action(async (input: string, opts: RunoffCliOptions) => {
       await runRunoffCommand(input, opts);
     });
@@ -85,7 +89,7 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
   }
   const { zFactor, stageId, stageStep } = parseZAndStage(opts);
   const render = reportRequest('runoff', [input], { ...opts }, flagsOf({ ...opts }, RUNOFF_FLAGS));
-  const out = openOutput(opts, 'runoff', [...RUNOFF_FILES, ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render)],
+  const out = openOutput(opts, 'runoff', [...RUNOFF_FILES, ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render)],
     [input, opts.depthRaster, opts.initialLevel]);
 
   progress.stage(`reading ${input}`);
@@ -110,7 +114,7 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
   let written: string[] = [];
   if (out) {
     progress.stage('writing files');
-    written = await writeRunoffFiles(out, result, report, { stageId, stageStep, progress, render, threads });
+    written = await writeRunoffFiles(out, result, report, { stageId, stageStep, progress, render, threads, gpkg: opts.gpkg !== false });
     progress.done();
   }
   if (opts.json) printReport(report);
@@ -126,13 +130,27 @@ interface WriteOptions {
   render?: ReportRequest | null;
   /** Threads that compress the rasters (default: the number of cores). */
   threads?: number;
+  /** Write results.gpkg (default true). */
+  gpkg?: boolean;
 }
 
 /** The files `runoff -o DIR` always writes (--stage-volume and --report add theirs). */
 export const RUNOFF_FILES = ['water-level.tif', 'water-depth.tif', 'ponds.geojson', 'runoff.csv', 'report.json'];
 
+/** The ponds layer of results.gpkg: the properties of ponds.geojson as typed columns. */
+export const PONDS_LAYER: GpkgLayerSpec = {
+  name: 'ponds',
+  geometry: 'MULTIPOLYGON',
+  description: 'water standing after routing the runoff: one polygon per pond (the features of ponds.geojson)',
+  columns: [
+    ['kind', 'TEXT'], ['id', 'INTEGER'], ['volume', 'REAL'], ['level', 'REAL'], ['area', 'REAL'], ['cells', 'INTEGER'],
+    ['maxDepth', 'REAL'], ['depression', 'INTEGER'], ['full', 'BOOLEAN'],
+  ],
+};
+
 export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, report: RunoffReport, w: WriteOptions = {}): Promise<string[]> {
   let rasters: Promise<void>[] = [];
+  let gpkg: GeoPackageWriter | null = null;
   try {
     const g = result.grid;
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
@@ -146,7 +164,7 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     for (const r of rasters) r.catch(() => undefined); // awaited below
 
     const tokens = result.areas.units.tokens;
-    w.progress?.stage('tracing pond outlines, writing ponds.geojson');
+    w.progress?.stage(`tracing pond outlines, writing ponds.geojson${w.gpkg !== false ? ' and results.gpkg' : ''}`);
     const meta = {
       name: 'ponds',
       description: `water standing after routing ${report.runoff.depthText ?? 'the runoff'} through the depressions: one polygon per pond (connected water under one level)`,
@@ -156,14 +174,20 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     };
     const B = result.bodies;
     let counts = { traced: 0, omitted: 0 };
+    if (w.gpkg !== false) gpkg = new GeoPackageWriter(out.path(GPKG_FILE), g.crs);
+    const layer = gpkg?.layer(PONDS_LAYER) ?? null;
     withCollection(out.path('ponds.geojson'), g.crs, meta, (fc) => {
       // one polygon per pond, written as it is traced
       counts = traceBodyOutlines(g, R.bodies, B.count, B.volume, (b, polygons) => {
         const props = `{"kind":"pond","id":${b},"volume":${jn(B.volume[b])},"level":${jn(B.level[b])},"area":${jn(B.area[b])},"cells":${jn(B.cells[b])}` +
           `,"maxDepth":${jn(B.maxDepth[b])},"depression":${B.depression[b] > 0 ? B.depression[b] : 'null'},"full":${B.full[b] === 1 ? 'true' : 'false'}}`;
-        fc.featureWith(b, (k) => { if (polygons === null || polygons.length === 0) k.write('null'); else writePolygons(k, polygons); }, props);
+        const none = polygons === null || polygons.length === 0;
+        fc.featureWith(b, (k) => { if (none) k.write('null'); else writePolygons(k, polygons); }, props);
+        layer?.polygons(b, none ? null : polygons, ['pond', b, B.volume[b], B.level[b], B.area[b], B.cells[b], B.maxDepth[b], B.depression[b] > 0 ? B.depression[b] : null, B.full[b] === 1]);
       });
     });
+    gpkg?.finish();
+    gpkg = null;
     report.outlines = outlinesEntry(counts,
       (omitted) => `${omitted} of the smallest ponds have no polygon in ponds.geojson (null geometry): their bounding boxes would take the tracing past its budget of 8 × the grid's cells; water-depth.tif has every one`,
       'every pond has its polygon');
@@ -183,6 +207,7 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     await Promise.all(rasters);
     return await out.commit();
   } catch (e) {
+    gpkg?.abort();
     await Promise.allSettled(rasters); // every raster writer has finished (and removed its temporary file)
     throw out.fail(e);
   }

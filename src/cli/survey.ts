@@ -5,7 +5,8 @@ import { collectionHead } from '../io/tables.js';
 import { TextSink, withFileSink, writeJson, writeCsv, writePointCollection } from '../io/stream.js';
 import { KIND_NAMES } from '../morse/critical.js';
 import type { OutputFolder } from '../io/outdir.js';
-import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, type CommonOptions } from './common.js';
+import { GeoPackageWriter, type GpkgLayerSpec } from '../io/gpkg.js';
+import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, GPKG_FILE, NO_GPKG, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
 import { checkCellBudget, featureBudget } from './budget.js';
 import { eulerFailure } from './hydro-common.js';
@@ -20,19 +21,24 @@ export function registerSurvey(program: Command): void {
     .command('survey')
     .description('critical points (pits, passes, peaks), Euler check, merge trees and persistence pairs')
     .argument('<input>', 'GeoTIFF, .npy, or text grid / scattered samples');
-  addCommonOptions(cmd, { boundary: 'open' }).action(async (input: string, opts: CommonOptions) => {
+  addCommonOptions(cmd, { boundary: 'open' }).option(...NO_GPKG).action(async (input: string, opts: SurveyCliOptions) => {
     await runSurveyCommand(input, opts);
   });
 }
 
-export async function runSurveyCommand(input: string, opts: CommonOptions): Promise<SurveyReport> {
+export interface SurveyCliOptions extends CommonOptions {
+  /** false with --no-gpkg: no results.gpkg. */
+  gpkg?: boolean;
+}
+
+export async function runSurveyCommand(input: string, opts: SurveyCliOptions): Promise<SurveyReport> {
   const progress = new Progress(opts.quiet || opts.json);
   const connectivity = parseConnectivity(opts.connectivity);
   const boundary = parseBoundary(opts.boundary);
   const minPersistence = parseNumber('--min-persistence', opts.minPersistence ?? '0', THRESHOLD);
   const threads = parseThreads(opts.threads);
   const render = reportRequest('survey', [input], { ...opts });
-  const out = openOutput(opts, 'survey', [...SURVEY_FILES, ...reportNames(render)], [input]);
+  const out = openOutput(opts, 'survey', [...SURVEY_FILES, ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...reportNames(render)], [input]);
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
   const cells = surface.size;
@@ -42,9 +48,9 @@ export async function runSurveyCommand(input: string, opts: CommonOptions): Prom
   const { result, report } = surveyReport(surface, { connectivity, boundary, minPersistence, threads, onFeatures }, input);
   progress.done();
   if (!report.euler.holds) throw eulerFailure(report.euler);
-  if (out) await writeSurveyFiles(out, surface, result, report, render);
+  if (out) await writeSurveyFiles(out, surface, result, report, render, opts.gpkg !== false);
   if (opts.json) writeJsonStdout(report);
-  say(opts, surveySummary(report, opts.out));
+  say(opts, surveySummary(report, opts.out, opts.gpkg !== false));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
 }
@@ -52,7 +58,16 @@ export async function runSurveyCommand(input: string, opts: CommonOptions): Prom
 /** The files `survey -o DIR` writes (besides the report's). */
 export const SURVEY_FILES = ['report.json', 'critical-points.csv', 'critical-points.geojson', 'merge-tree.json'];
 
-export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, result: SurveyResult, report: SurveyReport, render?: ReportRequest | null): Promise<string[]> {
+/** The critical-points layer of results.gpkg: the properties of critical-points.geojson as typed columns. */
+export const CRITICAL_POINTS_LAYER: GpkgLayerSpec = {
+  name: 'critical-points',
+  geometry: 'POINT',
+  description: 'pits, passes and peaks (the features of critical-points.geojson)',
+  columns: [['kind', 'TEXT'], ['value', 'REAL'], ['multiplicity', 'INTEGER'], ['col', 'INTEGER'], ['row', 'INTEGER'], ['onEdge', 'BOOLEAN']],
+};
+
+export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, result: SurveyResult, report: SurveyReport, render?: ReportRequest | null, gpkg = true): Promise<string[]> {
+  let gp: GeoPackageWriter | null = null;
   try {
     withFileSink(out.path('report.json'), (sink) => { writeJson(sink, report, 1); sink.write('\n'); });
     await out.checkpoint();
@@ -76,6 +91,18 @@ export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, 
       sink.write('\n');
     });
     await out.checkpoint();
+    if (gpkg) {
+      // the same points as critical-points.geojson, fid = its feature id + 1
+      gp = new GeoPackageWriter(out.path(GPKG_FILE), surface.crs);
+      const layer = gp.layer(CRITICAL_POINTS_LAYER);
+      for (let k = 0; k < K.vertex.length; k++) {
+        const c = at(k);
+        layer.point(k + 1, c.x, c.y, [c.kind, c.value, c.multiplicity, c.col, c.row, c.onEdge]);
+      }
+      gp.finish();
+      gp = null;
+      await out.checkpoint();
+    }
     const values = result.complex.values;
     withFileSink(out.path('merge-tree.json'), (sink) => {
       writeJson(sink, {
@@ -90,6 +117,7 @@ export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, 
     addReport(out, render, ['report.json', 'critical-points.csv', 'critical-points.geojson', 'merge-tree.json'], (ctx) => buildSurveyReport(surface, result, report, ctx));
     return await out.commit();
   } catch (e) {
+    gp?.abort();
     throw out.fail(e);
   }
 }
@@ -102,7 +130,7 @@ function writeJsonStdout(report: SurveyReport): void {
   sink.close();
 }
 
-export function surveySummary(r: SurveyReport, outDir?: string): string {
+export function surveySummary(r: SurveyReport, outDir?: string, gpkg = true): string {
   const s = r.surface;
   const lines: string[] = [];
   lines.push(s.kind === 'grid'
@@ -127,6 +155,6 @@ export function surveySummary(r: SurveyReport, outDir?: string): string {
       lines.push(`  ${p.dim === 0 ? 'pit ' : 'peak'} ${fmt(p.dim === 0 ? p.birth : p.death)} at ${where}, x ${fmtCoord(a.x, geo)}, y ${fmtCoord(a.y, geo)}: persistence ${fmt(p.persistence)}`);
     }
   }
-  if (outDir) lines.push(`files     ${outDir}/ report.json critical-points.csv critical-points.geojson merge-tree.json`);
+  if (outDir) lines.push(`files     ${outDir}/ report.json critical-points.csv critical-points.geojson merge-tree.json${gpkg ? ' results.gpkg' : ''}`);
   return lines.join('\n');
 }

@@ -1,14 +1,48 @@
 /**
  * depressions.geojson from a `ponds` result: a polygon per depression, traced from the label
  * raster and written as it is traced, then a point per pour point — streamed from the columns.
- * The command line and the library (src/api/write.ts) write it with the same function.
+ * The command line and the library (src/api/write.ts) write it with the same function; the
+ * command line also writes the same features, in the same pass, as the layers `depressions` and
+ * `pour-points` of results.gpkg.
  */
 import type { PondsResult } from '../hydro/ponds.js';
 import { traceDepressionOutlines, type FlatPolygon } from '../hydro/vectors.js';
 import { collectionHead } from '../io/tables.js';
 import { TextSink, FeatureCollectionWriter, featureJson, pointJson, writePolygons, formatNumber as jn } from '../io/stream.js';
+import type { GeoPackageWriter, GpkgLayer, GpkgLayerSpec } from '../io/gpkg.js';
 import { childrenText, type DepressionColumns } from './hydro-common.js';
 import { pondsExtrasJson } from './ponds.js';
+
+/** The depressions layer of results.gpkg: the properties of depressions.geojson's polygons as typed columns (`into`: NULL for the outside). */
+export const DEPRESSIONS_LAYER: GpkgLayerSpec = {
+  name: 'depressions',
+  geometry: 'MULTIPOLYGON',
+  description: 'closed depressions at their spill levels (the polygons of depressions.geojson)',
+  columns: [
+    ['kind', 'TEXT'], ['id', 'INTEGER'], ['parent', 'INTEGER'], ['level', 'INTEGER'], ['type', 'TEXT'], ['children', 'TEXT'],
+    ['pitValue', 'REAL'], ['spillValue', 'REAL'], ['into', 'INTEGER'], ['cells', 'INTEGER'], ['area', 'REAL'], ['volume', 'REAL'],
+    ['maxDepth', 'REAL'], ['meanDepth', 'REAL'], ['pourCol', 'INTEGER'], ['pourRow', 'INTEGER'],
+  ],
+};
+
+/** The pour-points layer of results.gpkg: the pour points of depressions.geojson as typed columns (`into`: NULL for the outside). */
+export const POUR_POINTS_LAYER: GpkgLayerSpec = {
+  name: 'pour-points',
+  geometry: 'POINT',
+  description: 'the pour point of each depression: the pass its water spills over at the spill level',
+  columns: [
+    ['kind', 'TEXT'], ['id', 'INTEGER'], ['spillValue', 'REAL'], ['into', 'INTEGER'], ['pourCol', 'INTEGER'], ['pourRow', 'INTEGER'],
+    ['toCol', 'INTEGER'], ['toRow', 'INTEGER'], ['toOutside', 'BOOLEAN'],
+  ],
+};
+
+/** depressionPropsJson's values in DEPRESSIONS_LAYER's column order. */
+export function depressionValues(result: PondsResult, cols: DepressionColumns, d: number): (number | string | null)[] {
+  const H = result.hierarchy, W = result.grid.width;
+  const p = H.parent[d], into = H.into[d], pass = H.spillCell[d], row = Math.floor(pass / W);
+  return ['depression', d, p === 0 ? null : p, H.level[d], H.childStart[d + 1] === H.childStart[d] ? 'leaf' : 'merged', childrenText(H, d, ' '),
+    cols.pitValue[d], cols.spillValue[d], into === 0 ? null : into, H.wetCells[d], H.area[d], H.volume[d], cols.maxDepth[d], H.meanDepth[d], pass - row * W, row];
+}
 
 /** The properties of depression `d`'s polygon feature as JSON text, from the columns. */
 function depressionPropsJson(result: PondsResult, cols: DepressionColumns, d: number): string {
@@ -30,21 +64,25 @@ function writeOutline(sink: TextSink, polygons: FlatPolygon[] | null, project: (
 /**
  * depressions.geojson (and, with `project`, depressions-wgs84.geojson alongside), streamed: the
  * collection's members, a polygon per depression as its outline is traced (null geometry when it
- * was left out), then a point per pour point. Returns the tracing's counts.
+ * was left out), then a point per pour point; with `gpkg`, the same features into its layers
+ * `depressions` and `pour-points`. Returns the tracing's counts.
  */
 export function writeDepressionsGeojson(path: string, wgsPath: string | null, result: PondsResult, cols: DepressionColumns,
-  project: ((x: number, y: number) => [number, number]) | null, meta: Record<string, unknown>): { traced: number; omitted: number } {
+  project: ((x: number, y: number) => [number, number]) | null, meta: Record<string, unknown>, gpkg: GeoPackageWriter | null = null): { traced: number; omitted: number } {
   const g = result.grid, H = result.hierarchy, W = g.width;
   const sink = TextSink.file(path);
   const wgs = wgsPath && project ? TextSink.file(wgsPath) : null;
   try {
     const fc = new FeatureCollectionWriter(sink, collectionHead(g.crs, meta));
     const fw = wgs ? new FeatureCollectionWriter(wgs, collectionHead(null, { ...meta, name: 'depressions-wgs84' })) : null;
+    const layer: GpkgLayer | null = gpkg ? gpkg.layer(DEPRESSIONS_LAYER) : null;
     const counts = traceDepressionOutlines(g, result.rasters.labels, H, (d, polygons) => {
       const props = depressionPropsJson(result, cols, d);
       fc.featureWith(d, (k) => writeOutline(k, polygons, null), props);
       fw?.featureWith(d, (k) => writeOutline(k, polygons, project), props);
+      layer?.polygons(d, polygons, depressionValues(result, cols, d));
     });
+    const points: GpkgLayer | null = gpkg ? gpkg.layer(POUR_POINTS_LAYER) : null;
     for (let d = 1; d <= H.count; d++) {
       const pass = H.spillCell[d], row = Math.floor(pass / W), col = pass - row * W;
       const x = g.x(col, row), y = g.y(col, row);
@@ -52,6 +90,7 @@ export function writeDepressionsGeojson(path: string, wgsPath: string | null, re
       const props = `{"kind":"pour point","id":${d},"spillValue":${jn(cols.spillValue[d])},"into":${into === 0 ? '"outside"' : into},"pourCol":${col},"pourRow":${row}` +
         `,"toCol":${cols.toCol[d]},"toRow":${cols.toRow[d]},"toOutside":${cols.toOutside[d] === 1 ? 'true' : 'false'}}`;
       fc.feature(featureJson(undefined, pointJson(x, y), props));
+      points?.point(d, x, y, ['pour point', d, cols.spillValue[d], into === 0 ? null : into, col, row, cols.toCol[d], cols.toRow[d], cols.toOutside[d] === 1]);
       if (fw && project) { const [px, py] = project(x, y); fw.feature(featureJson(undefined, pointJson(px, py), props)); }
     }
     fc.end();
