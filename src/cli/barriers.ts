@@ -12,7 +12,7 @@ import { GeoPackageWriter, type GpkgColumnType, type GpkgValue } from '../io/gpk
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, BARRIERS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildBarriersReport as buildBarriersHtml } from '../render/html/barriers.js';
 import { InputError } from '../errors.js';
-import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, openOutput, VALUE_LIMIT, VALUE_WHY, GPKG_FILE, NO_GPKG, type CommonOptions } from './common.js';
+import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, openOutput, VALUE_LIMIT, VALUE_WHY, GPKG_FILE, NO_GPKG, inputTime, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
 import { checkCellBudget } from './budget.js';
 import { eulerFailure } from './hydro-common.js';
@@ -112,7 +112,7 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
   }, input);
   progress.done();
   if (!report.euler.holds) throw eulerFailure(report.euler);
-  if (out) await writeBarriersFiles(out, result, report, render, opts.gpkg !== false);
+  if (out) await writeBarriersFiles(out, result, report, render, opts.gpkg !== false && inputTime(input));
   if (opts.json) {
     const sink = new TextSink(1);
     writeJson(sink, report);
@@ -138,7 +138,7 @@ const columnType = (name: string): GpkgColumnType => (TEXT_COLUMNS.has(name) ? '
 /** A CSV accessor's value as a GeoPackage value (undefined: NULL). */
 const gpkgValue = (v: unknown): GpkgValue => (v === undefined || v === null ? null : typeof v === 'number' || typeof v === 'string' || typeof v === 'boolean' ? v : String(v));
 
-export async function writeBarriersFiles(out: OutputFolder, result: BarriersResult, report: BarriersReport, render?: ReportRequest | null, gpkg = true): Promise<string[]> {
+export async function writeBarriersFiles(out: OutputFolder, result: BarriersResult, report: BarriersReport, render?: ReportRequest | null, gpkg: Date | false = new Date()): Promise<string[]> {
   let gp: GeoPackageWriter | null = null;
   try {
     const json = (name: string, value: unknown) => withFileSink(out.path(name), (sink) => { writeJson(sink, value, 1); sink.write('\n'); });
@@ -184,10 +184,10 @@ export async function writeBarriersFiles(out: OutputFolder, result: BarriersResu
         ['arc_length', (p) => p.s], ['x', (p) => p.x], ['y', (p) => p.y], ['energy', (p) => p.energy],
       ]);
     }
-    if (gpkg) {
+    if (gpkg !== false) {
       // minima and transition states as points (the rows of their CSV files, at the refined
       // position when there is one), the paths as lines (the x, y of paths/ID.csv)
-      gp = new GeoPackageWriter(out.path(GPKG_FILE), result.surface.crs);
+      gp = new GeoPackageWriter(out.path(GPKG_FILE), result.surface.crs, { lastChange: gpkg });
       const points = <T extends { refined: { x: number; y: number } | null; x: number; y: number }>(name: string, description: string, rows: readonly T[], cols: [string, (r: T) => unknown][]) => {
         const layer = gp!.layer({ name, geometry: 'POINT', description, columns: cols.map(([n]) => [n, columnType(n)] as const) });
         for (let i = 0; i < rows.length; i++) {

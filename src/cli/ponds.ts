@@ -16,7 +16,7 @@ import { stageVolume } from '../hydro/stage.js';
 import { writeGeoTiff } from '../io/index.js';
 import type { OutputFolder } from '../io/outdir.js';
 import { GeoPackageWriter } from '../io/gpkg.js';
-import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, NO_GPKG, THRESHOLD, AREA_THRESHOLD, GPKG_FILE, type NumberLimits } from './common.js';
+import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, NO_GPKG, inputTime, THRESHOLD, AREA_THRESHOLD, GPKG_FILE, type NumberLimits } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printReport, writeReportFile, writeIdCsv,
   stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
@@ -122,7 +122,7 @@ export async function runPondsCommand(input: string, opts: PondsCliOptions): Pro
   let written: string[] = [];
   if (out) {
     progress.stage('writing files');
-    written = await writePondsFiles(out, result, report, { project, stageId, stageStep, progress, render, threads, gpkg: opts.gpkg !== false });
+    written = await writePondsFiles(out, result, report, { project, stageId, stageStep, progress, render, threads, gpkg: opts.gpkg !== false && inputTime(input) });
   }
   progress.done();
   if (opts.json) printReport(report);
@@ -139,8 +139,8 @@ interface WriteOptions {
   render?: ReportRequest | null;
   /** Threads that compress the rasters (default: the number of cores). */
   threads?: number;
-  /** Write results.gpkg (default true). */
-  gpkg?: boolean;
+  /** results.gpkg: the time it records as its layers' last change (default now), or false for none. */
+  gpkg?: Date | false;
 }
 
 /** The files `ponds -o DIR` always writes (--wgs84, --stage-volume and --report add theirs). */
@@ -178,7 +178,7 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
       caution: report.caution,
     };
     w.progress?.stage(`tracing outlines, writing depressions.geojson${w.gpkg !== false ? ' and results.gpkg' : ''}`);
-    if (w.gpkg !== false) gpkg = new GeoPackageWriter(out.path(GPKG_FILE), g.crs);
+    if (w.gpkg !== false) gpkg = new GeoPackageWriter(out.path(GPKG_FILE), g.crs, { lastChange: w.gpkg });
     const counts = writeDepressionsGeojson(out.path('depressions.geojson'), w.project ? out.path('depressions-wgs84.geojson') : null, result, report.depressions.columns, w.project, meta, gpkg);
     gpkg?.finish();
     gpkg = null;

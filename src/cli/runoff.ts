@@ -11,7 +11,7 @@ import { writePolygons, formatNumber as jn } from '../io/stream.js';
 import type { OutputFolder } from '../io/outdir.js';
 import { GeoPackageWriter, type GpkgLayerSpec } from '../io/gpkg.js';
 import type { Grid } from '../surface/grid.js';
-import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, openOutput, NO_GPKG, THRESHOLD, GPKG_FILE } from './common.js';
+import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, openOutput, NO_GPKG, inputTime, THRESHOLD, GPKG_FILE } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, checkBalance, printReport, writeReportFile, writeIdCsv, withCollection,
   stageCsv, outlinesEntry, summaryHead, summaryTail, type HydroCliOptions,
@@ -114,7 +114,7 @@ export async function runRunoffCommand(input: string, opts: RunoffCliOptions): P
   let written: string[] = [];
   if (out) {
     progress.stage('writing files');
-    written = await writeRunoffFiles(out, result, report, { stageId, stageStep, progress, render, threads, gpkg: opts.gpkg !== false });
+    written = await writeRunoffFiles(out, result, report, { stageId, stageStep, progress, render, threads, gpkg: opts.gpkg !== false && inputTime(input) });
     progress.done();
   }
   if (opts.json) printReport(report);
@@ -130,8 +130,8 @@ interface WriteOptions {
   render?: ReportRequest | null;
   /** Threads that compress the rasters (default: the number of cores). */
   threads?: number;
-  /** Write results.gpkg (default true). */
-  gpkg?: boolean;
+  /** results.gpkg: the time it records as its layers' last change (default now), or false for none. */
+  gpkg?: Date | false;
 }
 
 /** The files `runoff -o DIR` always writes (--stage-volume and --report add theirs). */
@@ -174,7 +174,7 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     };
     const B = result.bodies;
     let counts = { traced: 0, omitted: 0 };
-    if (w.gpkg !== false) gpkg = new GeoPackageWriter(out.path(GPKG_FILE), g.crs);
+    if (w.gpkg !== false) gpkg = new GeoPackageWriter(out.path(GPKG_FILE), g.crs, { lastChange: w.gpkg });
     const layer = gpkg?.layer(PONDS_LAYER) ?? null;
     withCollection(out.path('ponds.geojson'), g.crs, meta, (fc) => {
       // one polygon per pond, written as it is traced

@@ -6,7 +6,7 @@ import { TextSink, withFileSink, writeJson, writeCsv, writePointCollection } fro
 import { KIND_NAMES } from '../morse/critical.js';
 import type { OutputFolder } from '../io/outdir.js';
 import { GeoPackageWriter, type GpkgLayerSpec } from '../io/gpkg.js';
-import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, GPKG_FILE, NO_GPKG, type CommonOptions } from './common.js';
+import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, GPKG_FILE, NO_GPKG, inputTime, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
 import { checkCellBudget, featureBudget } from './budget.js';
 import { eulerFailure } from './hydro-common.js';
@@ -48,7 +48,7 @@ export async function runSurveyCommand(input: string, opts: SurveyCliOptions): P
   const { result, report } = surveyReport(surface, { connectivity, boundary, minPersistence, threads, onFeatures }, input);
   progress.done();
   if (!report.euler.holds) throw eulerFailure(report.euler);
-  if (out) await writeSurveyFiles(out, surface, result, report, render, opts.gpkg !== false);
+  if (out) await writeSurveyFiles(out, surface, result, report, render, opts.gpkg !== false && inputTime(input));
   if (opts.json) writeJsonStdout(report);
   say(opts, surveySummary(report, opts.out, opts.gpkg !== false));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
@@ -66,7 +66,7 @@ export const CRITICAL_POINTS_LAYER: GpkgLayerSpec = {
   columns: [['kind', 'TEXT'], ['value', 'REAL'], ['multiplicity', 'INTEGER'], ['col', 'INTEGER'], ['row', 'INTEGER'], ['onEdge', 'BOOLEAN']],
 };
 
-export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, result: SurveyResult, report: SurveyReport, render?: ReportRequest | null, gpkg = true): Promise<string[]> {
+export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, result: SurveyResult, report: SurveyReport, render?: ReportRequest | null, gpkg: Date | false = new Date()): Promise<string[]> {
   let gp: GeoPackageWriter | null = null;
   try {
     withFileSink(out.path('report.json'), (sink) => { writeJson(sink, report, 1); sink.write('\n'); });
@@ -91,9 +91,9 @@ export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, 
       sink.write('\n');
     });
     await out.checkpoint();
-    if (gpkg) {
+    if (gpkg !== false) {
       // the same points as critical-points.geojson, fid = its feature id + 1
-      gp = new GeoPackageWriter(out.path(GPKG_FILE), surface.crs);
+      gp = new GeoPackageWriter(out.path(GPKG_FILE), surface.crs, { lastChange: gpkg });
       const layer = gp.layer(CRITICAL_POINTS_LAYER);
       for (let k = 0; k < K.vertex.length; k++) {
         const c = at(k);

@@ -120,6 +120,20 @@ export function srsFor(crs: Crs | null): SrsRow {
   return REQUIRED_SRS[crs?.geographic ? 2 : 1];
 }
 
+/** SQLite's result codes for file-system failures, as the errno codes the output folder reports in plain words. */
+const ERRNO: Record<string, string> = {
+  SQLITE_FULL: 'ENOSPC', SQLITE_IOERR: 'EIO', SQLITE_READONLY: 'EROFS', SQLITE_PERM: 'EPERM', SQLITE_CANTOPEN: 'EACCES', SQLITE_TOOBIG: 'EFBIG',
+};
+
+/** A SQLite error from a file-system failure as a file-system error (`code` ENOSPC, EIO …) naming the file; others unchanged. */
+function asFsError(e: unknown, path: string): unknown {
+  const code = (e as { code?: unknown })?.code;
+  if (typeof code !== 'string' || !code.startsWith('SQLITE_')) return e;
+  const errno = ERRNO[code] ?? ERRNO[code.replace(/_[A-Z]+$/, '')];
+  if (!errno) return e;
+  return Object.assign(new Error(`${path}: ${(e as Error).message}`), { code: errno });
+}
+
 /** An SQL identifier in double quotes. */
 const q = (name: string): string => `"${name.replace(/"/g, '""')}"`;
 
@@ -154,7 +168,15 @@ export class GeoPackageWriter {
   /** The srs row the layers use. */
   readonly srs: SrsRow;
 
-  constructor(readonly path: string, crs: Crs | null) {
+  /** The contents' last_change. */
+  private readonly lastChange: string;
+
+  /**
+   * `lastChange`: the time written as the layers' `last_change` (default: now). The commands pass
+   * the input's modification time, so that the same input and options give the same bytes.
+   */
+  constructor(readonly path: string, crs: Crs | null, opts: { lastChange?: Date } = {}) {
+    this.lastChange = (opts.lastChange ?? new Date()).toISOString();
     rmSync(path, { force: true });
     this.db = new Database(path);
     this.srs = srsFor(crs);
@@ -212,17 +234,25 @@ CREATE TABLE gpkg_extensions (
       db.exec('BEGIN');
     } catch (e) {
       this.abort();
-      throw e;
+      throw asFsError(e, path);
     }
   }
 
   /** Open a feature layer (its table, its geometry column, its R-tree). */
   layer(spec: GpkgLayerSpec): GpkgLayer {
+    try {
+      return this.createLayer(spec);
+    } catch (e) {
+      throw asFsError(e, this.path);
+    }
+  }
+
+  private createLayer(spec: GpkgLayerSpec): GpkgLayer {
     const db = this.db;
     const t = spec.name;
     const cols = spec.columns.map(([n, type]) => `${q(n)} ${type}`).join(', ');
     db.exec(`CREATE TABLE ${q(t)} (${q(FID)} INTEGER PRIMARY KEY AUTOINCREMENT NOT NULL, ${q(GEOM)} ${spec.geometry}${cols ? ', ' + cols : ''})`);
-    db.prepare("INSERT INTO gpkg_contents (table_name, data_type, identifier, description, srs_id) VALUES (?, 'features', ?, ?, ?)").run(t, t, spec.description ?? '', this.srs.srsId);
+    db.prepare("INSERT INTO gpkg_contents (table_name, data_type, identifier, description, last_change, srs_id) VALUES (?, 'features', ?, ?, ?, ?)").run(t, t, spec.description ?? '', this.lastChange, this.srs.srsId);
     db.prepare('INSERT INTO gpkg_geometry_columns (table_name, column_name, geometry_type_name, srs_id, z, m) VALUES (?, ?, ?, ?, 0, 0)').run(t, GEOM, spec.geometry, this.srs.srsId);
     db.prepare("INSERT INTO gpkg_extensions (table_name, column_name, extension_name, definition, scope) VALUES (?, ?, 'gpkg_rtree_index', 'http://www.geopackage.org/spec120/#extension_rtree', 'write-only')").run(t, GEOM);
     db.exec(`CREATE VIRTUAL TABLE ${q(`rtree_${t}_${GEOM}`)} USING rtree(id, minx, maxx, miny, maxy)`);
@@ -238,7 +268,11 @@ CREATE TABLE gpkg_extensions (
   /** Count one row; commit every ROWS_PER_TRANSACTION rows. */
   tick(): void {
     if (++this.pending >= ROWS_PER_TRANSACTION) {
-      this.db.exec('COMMIT; BEGIN');
+      try {
+        this.db.exec('COMMIT; BEGIN');
+      } catch (e) {
+        throw asFsError(e, this.path);
+      }
       this.pending = 0;
     }
   }
@@ -258,7 +292,7 @@ CREATE TABLE gpkg_extensions (
       this.closed = true;
     } catch (e) {
       this.abort();
-      throw e;
+      throw asFsError(e, this.path);
     }
   }
 
@@ -377,9 +411,13 @@ export class GpkgLayer {
       const v = values[k];
       a[k + 2] = typeof v === 'boolean' ? (v ? 1 : 0) : typeof v === 'number' && !Number.isFinite(v) ? null : v;
     }
-    this.insert.run(a);
+    try {
+      this.insert.run(a);
+      if (!none && !empty) this.index.run(fid, x0, x1, y0, y1);
+    } catch (e) {
+      throw asFsError(e, this.gp.path);
+    }
     if (!none && !empty) {
-      this.index.run(fid, x0, x1, y0, y1);
       const e = this.extent;
       if (x0 < e[0]) e[0] = x0;
       if (y0 < e[1]) e[1] = y0;
