@@ -10,7 +10,8 @@
  * rows are in, and the index is filled from the envelopes computed here (what the standard's
  * "load spatial index values" statement would compute).
  */
-import Database from 'better-sqlite3';
+import type Database from 'better-sqlite3';
+import { createRequire } from 'node:module';
 import { rmSync } from 'node:fs';
 import type { Crs } from '../surface/grid.js';
 
@@ -40,6 +41,22 @@ export interface SrsRow {
   organizationId: number;
   definition: string;
   description: string | null;
+}
+
+/**
+ * better-sqlite3, loaded when the first GeoPackage is written (not when sill starts), so that a
+ * machine where its native part did not build still runs every command with --no-gpkg.
+ */
+let sqlite: typeof Database | null = null;
+function openDatabase(path: string): Database.Database {
+  if (!sqlite) {
+    try {
+      sqlite = createRequire(import.meta.url)('better-sqlite3') as typeof Database;
+    } catch (e) {
+      throw new Error(`results.gpkg needs the better-sqlite3 package, which did not load (${(e as Error).message.split('\n')[0]}); reinstall sill so that it builds, or pass --no-gpkg`);
+    }
+  }
+  return new sqlite(path);
 }
 
 /** Rows written between commits. */
@@ -178,7 +195,7 @@ export class GeoPackageWriter {
   constructor(readonly path: string, crs: Crs | null, opts: { lastChange?: Date } = {}) {
     this.lastChange = (opts.lastChange ?? new Date()).toISOString();
     rmSync(path, { force: true });
-    this.db = new Database(path);
+    this.db = openDatabase(path);
     this.srs = srsFor(crs);
     try {
       const db = this.db;
