@@ -180,14 +180,14 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     w.progress?.stage(`tracing outlines, writing depressions.geojson${w.gpkg !== false ? ' and results.gpkg' : ''}`);
     if (w.gpkg !== false) gpkg = new GeoPackageWriter(out.path(GPKG_FILE), g.crs, { lastChange: w.gpkg });
     const counts = writeDepressionsGeojson(out.path('depressions.geojson'), w.project ? out.path('depressions-wgs84.geojson') : null, result, report.depressions.columns, w.project, meta, gpkg);
-    gpkg?.finish();
-    gpkg = null;
     report.outlines = outlinesEntry(counts,
       (omitted) => `${omitted} nested merged depressions have no polygon in depressions.geojson (null geometry): tracing every level of this deep hierarchy would scan the grid too many times; the top-level and leaf depressions and the largest nested ones are traced — use --min-depth, --min-area or --min-volume to simplify the hierarchy`,
       'every depression has its polygon');
     await out.checkpoint();
     w.progress?.stage('writing spill-paths.geojson');
-    writeSpillPathsGeojson(out.path('spill-paths.geojson'), result, catch0, meta);
+    writeSpillPathsGeojson(out.path('spill-paths.geojson'), result, catch0, meta, gpkg);
+    gpkg?.finish();
+    gpkg = null;
     await out.checkpoint();
     w.progress?.stage('writing depressions.csv');
     const cols = report.depressions.columns;

@@ -19,7 +19,7 @@ import type { Crs } from '../surface/grid.js';
 export type GpkgColumnType = 'INTEGER' | 'REAL' | 'TEXT' | 'BOOLEAN';
 
 /** Geometry column types sill writes (a single polygon is written as a one-part MultiPolygon). */
-export type GpkgGeometryType = 'POINT' | 'LINESTRING' | 'MULTIPOLYGON';
+export type GpkgGeometryType = 'POINT' | 'LINESTRING' | 'MULTILINESTRING' | 'MULTIPOLYGON';
 
 export interface GpkgLayerSpec {
   /** Table name (the GeoJSON file's stem, e.g. 'pour-points'). */
@@ -360,6 +360,24 @@ export class GpkgLayer {
     this.wkbHead(2, n);
     for (let k = 0; k < 2 * n; k++) this.f64(xy[k]);
     this.row(fid, values, x0, y0, x1, y1, false, n === 0);
+  }
+
+  /**
+   * A multi-line feature: the vertices of all parts flat in `xy` (x0, y0, x1, y1, …), part k from
+   * vertex `partStart[k]` to the next part's start (the last to `vertices`). No parts: an empty
+   * MultiLineString.
+   */
+  lines(fid: number, xy: ArrayLike<number>, partStart: ArrayLike<number>, parts: number, vertices: number, values: readonly GpkgValue[]): void {
+    const empty = parts === 0;
+    const [x0, y0, x1, y1] = empty ? [NaN, NaN, NaN, NaN] : bounds([Array.prototype.slice.call(xy, 0, 2 * vertices) as number[]]);
+    this.begin(9 + 9 * parts + 16 * vertices, !empty, empty);
+    this.wkbHead(5, parts);
+    for (let k = 0; k < parts; k++) {
+      const a = partStart[k], b = k + 1 < parts ? partStart[k + 1] : vertices;
+      this.wkbHead(2, b - a);
+      for (let v = 2 * a; v < 2 * b; v++) this.f64(xy[v]);
+    }
+    this.row(fid, values, x0, y0, x1, y1, false, empty);
   }
 
   /**

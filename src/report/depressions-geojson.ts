@@ -11,7 +11,7 @@ import { collectionHead } from '../io/tables.js';
 import { TextSink, FeatureCollectionWriter, featureJson, pointJson, writePolygons, formatNumber as jn } from '../io/stream.js';
 import type { GeoPackageWriter, GpkgLayer, GpkgLayerSpec } from '../io/gpkg.js';
 import { childrenText, type DepressionColumns } from './hydro-common.js';
-import { pondsExtrasJson } from './ponds.js';
+import { pondsExtras, pondsExtrasJson } from './ponds.js';
 
 /** The depressions layer of results.gpkg: the properties of depressions.geojson's polygons as typed columns (`into`: NULL for the outside). */
 export const DEPRESSIONS_LAYER: GpkgLayerSpec = {
@@ -22,6 +22,8 @@ export const DEPRESSIONS_LAYER: GpkgLayerSpec = {
     ['kind', 'TEXT'], ['id', 'INTEGER'], ['parent', 'INTEGER'], ['level', 'INTEGER'], ['type', 'TEXT'], ['children', 'TEXT'],
     ['pitValue', 'REAL'], ['spillValue', 'REAL'], ['into', 'INTEGER'], ['cells', 'INTEGER'], ['area', 'REAL'], ['volume', 'REAL'],
     ['maxDepth', 'REAL'], ['meanDepth', 'REAL'], ['pourCol', 'INTEGER'], ['pourRow', 'INTEGER'],
+    ['catchmentCells', 'INTEGER'], ['catchmentArea', 'REAL'], ['perimeter', 'REAL'], ['majorAxis', 'REAL'], ['minorAxis', 'REAL'],
+    ['orientation', 'REAL'], ['elongation', 'REAL'], ['boxRatio', 'REAL'], ['catchmentRatio', 'REAL'],
   ],
 };
 
@@ -40,8 +42,10 @@ export const POUR_POINTS_LAYER: GpkgLayerSpec = {
 export function depressionValues(result: PondsResult, cols: DepressionColumns, d: number): (number | string | null)[] {
   const H = result.hierarchy, W = result.grid.width;
   const p = H.parent[d], into = H.into[d], pass = H.spillCell[d], row = Math.floor(pass / W);
+  const e = pondsExtras(result, d);
   return ['depression', d, p === 0 ? null : p, H.level[d], H.childStart[d + 1] === H.childStart[d] ? 'leaf' : 'merged', childrenText(H, d, ' '),
-    cols.pitValue[d], cols.spillValue[d], into === 0 ? null : into, H.wetCells[d], H.area[d], H.volume[d], cols.maxDepth[d], H.meanDepth[d], pass - row * W, row];
+    cols.pitValue[d], cols.spillValue[d], into === 0 ? null : into, H.wetCells[d], H.area[d], H.volume[d], cols.maxDepth[d], H.meanDepth[d], pass - row * W, row,
+    e.catchmentCells, e.catchmentArea, e.perimeter, e.majorAxis, e.minorAxis, e.orientation, e.elongation, e.boxRatio, e.catchmentRatio];
 }
 
 /** The properties of depression `d`'s polygon feature as JSON text, from the columns. */

@@ -15,7 +15,7 @@ import { writeGeoTiff } from '../../src/io/index.js';
 import { readGeoTiff } from '../../src/io/index.js';
 import { OutputFolder } from '../../src/io/outdir.js';
 import { pondsReport } from '../../src/report/ponds.js';
-import { writePondsFiles } from '../../src/cli/ponds.js';
+import { writePondsFiles, PONDS_FILES } from '../../src/cli/ponds.js';
 import { GPKG_APPLICATION_ID, GPKG_USER_VERSION } from '../../src/io/gpkg.js';
 import { readGpkg, ogr2ogrLayer, asMultiPolygon, type GeoJsonFeature, type GpkgReading } from '../io/gpkg-gdal.js';
 
@@ -69,15 +69,18 @@ function expectValid(g: GpkgReading, names: string[]): void {
   }
 }
 
-/** GeoJSON properties as the GeoPackage holds them: `into` "outside" is NULL (the column is INTEGER), −0 is 0 (SQLite keeps no sign on a zero). */
+/**
+ * GeoJSON properties as the GeoPackage holds them: `into` and `to` "outside" are NULL (the columns
+ * are INTEGER), spill paths' `arrives` is text, −0 is 0 (SQLite keeps no sign on a zero).
+ */
 function asStored(p: Record<string, unknown>): Record<string, unknown> {
   const o: Record<string, unknown> = {};
-  for (const [k, v] of Object.entries(p)) o[k] = k === 'into' && v === 'outside' ? null : v === 0 ? 0 : v;
+  for (const [k, v] of Object.entries(p)) o[k] = (k === 'into' || k === 'to') && v === 'outside' ? null : k === 'arrives' ? String(v) : v === 0 ? 0 : v;
   return o;
 }
 
 describe('results.gpkg', () => {
-  it.skipIf(!hasGdal)(`ponds: layers depressions and pour-points equal depressions.geojson's polygons and points${note}`, () => {
+  it.skipIf(!hasGdal)(`ponds: layers depressions, pour-points and spill-paths equal depressions.geojson's polygons and points and spill-paths.geojson${note}`, () => {
     const out = join(dir, 'ponds');
     const r = sill(['ponds', dem, '-o', out]);
     expect(r.code, r.stderr).toBe(0);
@@ -88,8 +91,8 @@ describe('results.gpkg', () => {
     const points = all.filter((f) => f.properties.kind === 'pour point');
     const g = readGpkg(join(out, 'results.gpkg'));
     // Source: GDAL's OGR and the system SQLite
-    expectValid(g, ['depressions', 'pour-points']);
-    const [dl, pl] = g.layers;
+    expectValid(g, ['depressions', 'pour-points', 'spill-paths']);
+    const [dl, pl, sl] = g.layers;
     expect(dl).toMatchObject({ features: polys.length, geometryType: 'Multi Polygon', epsg: 32633 });
     expect(pl).toMatchObject({ features: points.length, geometryType: 'Point', epsg: 32633 });
     expect(polys.length).toBeGreaterThan(10);
@@ -110,6 +113,12 @@ describe('results.gpkg', () => {
     expect(op.map((f) => f.geometry)).toEqual(points.map((f) => f.geometry));
     expect(op.map((f) => f.properties)).toEqual(points.map((f) => asStored(f.properties)));
     expect(op.some((f) => f.properties.into === null) && op.some((f) => typeof f.properties.into === 'number')).toBe(true);
+    const paths = features(join(out, 'spill-paths.geojson'));
+    expect(sl).toMatchObject({ features: paths.length, geometryType: 'Multi Line String', epsg: 32633, extent: extentOf(paths) });
+    const os = ogr2ogrLayer(join(out, 'results.gpkg'), 'spill-paths');
+    expect(os.map((f) => f.id)).toEqual(paths.map((f) => f.id));
+    expect(os.map((f) => f.geometry)).toEqual(paths.map((f) => f.geometry));
+    expect(os.map((f) => f.properties)).toEqual(paths.map((f) => asStored(f.properties)));
   });
 
   it.skipIf(!hasGdal)(`runoff: layer ponds equals ponds.geojson${note}`, () => {
@@ -184,11 +193,11 @@ describe('results.gpkg', () => {
 
   it('a run that fails after writing results.gpkg leaves none behind: no new folder, no staging folder, an old result untouched', async () => {
     const g = await readGeoTiff(dem);
-    const { result, report } = pondsReport(g, { connectivity: 8, boundary: 'open', nodataOutlet: true }, dem);
+    const { result, report } = pondsReport(g, { connectivity: 8, boundary: 'open', nodataOutlet: true, catchments: 'raster' }, dem);
     // report.json cannot be written (a BigInt has no JSON form): the failure comes after results.gpkg
     (report as unknown as Record<string, unknown>).broken = 10n;
     const fresh = join(dir, 'failed-fresh');
-    const out = new OutputFolder(fresh, { command: 'ponds', version: 'test', names: ['filled.tif', 'depth.tif', 'labels.tif', 'depressions.geojson', 'depressions.csv', 'report.json', 'results.gpkg'] });
+    const out = new OutputFolder(fresh, { command: 'ponds', version: 'test', names: [...PONDS_FILES, 'results.gpkg'] });
     await expect(writePondsFiles(out, result, report, { project: null, threads: 1 })).rejects.toThrow(/BigInt/);
     expect(existsSync(fresh)).toBe(false);
     expect(readdirSync(dir).filter((n) => n.startsWith('.sill-staging-'))).toEqual([]);
@@ -196,7 +205,7 @@ describe('results.gpkg', () => {
     const old = join(dir, 'failed-old');
     expect(sill(['ponds', dem, '-o', old, '--no-gpkg', '--quiet']).code).toBe(0);
     const before = readdirSync(old).sort();
-    const out2 = new OutputFolder(old, { command: 'ponds', version: 'test', names: ['filled.tif', 'depth.tif', 'labels.tif', 'depressions.geojson', 'depressions.csv', 'report.json', 'results.gpkg'] });
+    const out2 = new OutputFolder(old, { command: 'ponds', version: 'test', names: [...PONDS_FILES, 'results.gpkg'] });
     await expect(writePondsFiles(out2, result, report, { project: null, threads: 1 })).rejects.toThrow(/BigInt/);
     expect(readdirSync(old).sort()).toEqual(before);
     expect(before).not.toContain('results.gpkg');
