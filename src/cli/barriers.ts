@@ -9,10 +9,11 @@ import { disconnectivitySvg } from '../render/disconnectivity.js';
 import { landscapeSvg } from '../render/landscape.js';
 import { withFileSink, writeJson, writeCsvRecords, TextSink } from '../io/stream.js';
 import type { OutputFolder } from '../io/outdir.js';
+import { GeoPackageWriter, type GpkgColumnType, type GpkgValue } from '../io/gpkg.js';
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, BARRIERS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildBarriersReport as buildBarriersHtml } from '../render/html/barriers.js';
 import { InputError } from '../errors.js';
-import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, openOutput, VALUE_LIMIT, VALUE_WHY, type CommonOptions } from './common.js';
+import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, openOutput, VALUE_LIMIT, VALUE_WHY, GPKG_FILE, NO_GPKG, inputTime, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
 import { checkCellBudget } from './budget.js';
 import { eulerFailure } from './hydro-common.js';
@@ -31,6 +32,8 @@ export interface BarriersCliOptions extends CommonOptions {
   minPersistenceDefault?: boolean;
   /** Set by the command: --boundary was left at its default. */
   boundaryDefault?: boolean;
+  /** false with --no-gpkg: no results.gpkg. */
+  gpkg?: boolean;
 }
 
 export function registerBarriers(program: Command): void {
@@ -53,6 +56,7 @@ export function registerBarriers(program: Command): void {
     .option('--period <p[,q]>', 'span of a periodic axis (x, or x,y); default 360 or 2π')
     .option('--images <n>', 'images on each minimum-energy path (string method; 5 to 10 000)', '81')
     .option('--max-paths <n>', 'trace paths for at most N transition states, lowest first (up to 10 000)', '200')
+    .option(...NO_GPKG)
     .action(async (input: string, opts: BarriersCliOptions, command: Command) => {
       opts.minPersistenceDefault = command.getOptionValueSource('minPersistence') === 'default';
       opts.boundaryDefault = command.getOptionValueSource('boundary') === 'default';
@@ -98,7 +102,7 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
 
   // the command line in the report names the boundary in effect and leaves out a defaulted --min-persistence
   const render = reportRequest('barriers', [input], { ...opts, boundary, periodic: undefined, minPersistence: minPersistence === undefined ? undefined : opts.minPersistence }, flagsOf({ ...opts }, BARRIERS_FLAGS));
-  const out = openOutput(opts, 'barriers', [...BARRIERS_FILES, ...reportNames(render)], [input]);
+  const out = openOutput(opts, 'barriers', [...BARRIERS_FILES, ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...reportNames(render)], [input]);
   progress.stage(`reading ${input}`);
   const surface = await loadInput(input, opts);
   checkCellBudget('barriers', surface.size, input);
@@ -109,14 +113,14 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
   }, input);
   progress.done();
   if (!report.euler.holds) throw eulerFailure(report.euler);
-  if (out) await writeBarriersFiles(out, result, report, render);
+  if (out) await writeBarriersFiles(out, result, report, render, opts.gpkg !== false && inputTime(input));
   if (opts.json) {
     const sink = new TextSink(1);
     writeJson(sink, report);
     sink.write('\n');
     sink.close();
   }
-  say(opts, barriersSummary(report, opts.out));
+  say(opts, barriersSummary(report, opts.out, opts.gpkg !== false));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
 }
@@ -127,7 +131,16 @@ export const BARRIERS_FILES = [
   'disconnectivity.json', 'disconnectivity.svg', 'landscape.svg',
 ];
 
-export async function writeBarriersFiles(out: OutputFolder, result: BarriersResult, report: BarriersReport, render?: ReportRequest | null): Promise<string[]> {
+/** Column types of the results.gpkg layers minima and transition-states (named like the CSV columns; the rest are REAL). */
+const TEXT_COLUMNS = new Set(['id', 'energy_basis', 'refinement', 'connects_1', 'connects_2', 'path_file']);
+const INTEGER_COLUMNS = new Set(['col', 'row', 'on_edge', 'basin_samples', 'multiplicity', 'in_hierarchy', 'path_agrees']);
+const columnType = (name: string): GpkgColumnType => (TEXT_COLUMNS.has(name) ? 'TEXT' : INTEGER_COLUMNS.has(name) ? 'INTEGER' : 'REAL');
+
+/** A CSV accessor's value as a GeoPackage value (undefined: NULL). */
+const gpkgValue = (v: unknown): GpkgValue => (v === undefined || v === null ? null : typeof v === 'number' || typeof v === 'string' || typeof v === 'boolean' ? v : String(v));
+
+export async function writeBarriersFiles(out: OutputFolder, result: BarriersResult, report: BarriersReport, render?: ReportRequest | null, gpkg: Date | false = new Date()): Promise<string[]> {
+  let gp: GeoPackageWriter | null = null;
   try {
     const json = (name: string, value: unknown) => withFileSink(out.path(name), (sink) => { writeJson(sink, value, 1); sink.write('\n'); });
     const csv = <T>(name: string, rows: readonly T[], columns: [string, (r: T) => unknown][]) => withFileSink(out.path(name), (sink) => writeCsvRecords(sink, rows, columns));
@@ -143,18 +156,20 @@ export async function writeBarriersFiles(out: OutputFolder, result: BarriersResu
       ['refinement', (r) => r.refinement.status],
       ['persistence', (r) => r.persistence], ['merged_points', (r) => r.merged.length],
     ];
-    csv('minima.csv', report.minima, [
+    const minimaCols: [string, (r: BarriersReport['minima'][number]) => unknown][] = [
       ...stationaryCols<BarriersReport['minima'][number]>(),
       ['basin_samples', (m) => m.basin.samples], ['basin_area', (m) => m.basin.area],
       ['free_energy', (m) => m.basin.freeEnergy], ['relative_free_energy', (m) => m.basin.relativeFreeEnergy],
       ['population', (m) => m.basin.population],
-    ]);
-    csv('transition-states.csv', report.transitionStates, [
+    ];
+    const tsCols: [string, (r: BarriersReport['transitionStates'][number]) => unknown][] = [
       ...stationaryCols<BarriersReport['transitionStates'][number]>(),
       ['connects_1', (t) => t.connects[0]], ['connects_2', (t) => t.connects[1]],
       ['multiplicity', (t) => t.multiplicity], ['in_hierarchy', (t) => (t.inTree ? 1 : 0)],
       ['path_file', (t) => t.path?.file], ['path_maximum', (t) => t.path?.maximum.energy], ['path_agrees', (t) => (t.path ? (t.path.agrees ? 1 : 0) : null)],
-    ]);
+    ];
+    csv('minima.csv', report.minima, minimaCols);
+    csv('transition-states.csv', report.transitionStates, tsCols);
     csv('barriers.csv', report.barriers, [
       ['from', (b) => b.from], ['to', (b) => b.to], ['via', (b) => b.via],
       ['forward', (b) => b.forward], ['backward', (b) => b.backward], ['energy_basis', (b) => b.energyBasis],
@@ -171,12 +186,42 @@ export async function writeBarriersFiles(out: OutputFolder, result: BarriersResu
         ['arc_length', (p) => p.s], ['x', (p) => p.x], ['y', (p) => p.y], ['energy', (p) => p.energy],
       ]);
     }
+    if (gpkg !== false) {
+      // minima and transition states as points (the rows of their CSV files, at the refined
+      // position when there is one), the paths as lines (the x, y of paths/ID.csv)
+      gp = new GeoPackageWriter(out.path(GPKG_FILE), result.surface.crs, { lastChange: gpkg });
+      const points = <T extends { refined: { x: number; y: number } | null; x: number; y: number }>(name: string, description: string, rows: readonly T[], cols: [string, (r: T) => unknown][]) => {
+        const layer = gp!.layer({ name, geometry: 'POINT', description, columns: cols.map(([n]) => [n, columnType(n)] as const) });
+        for (let i = 0; i < rows.length; i++) {
+          const r = rows[i];
+          layer.point(i + 1, r.refined?.x ?? r.x, r.refined?.y ?? r.y, cols.map(([, f]) => gpkgValue(f(r))));
+        }
+      };
+      points('minima', 'local minima of the energy (the rows of minima.csv)', report.minima, minimaCols);
+      points('transition-states', 'transition states: first-order saddles between basins (the rows of transition-states.csv)', report.transitionStates, tsCols);
+      const paths = gp.layer({
+        name: 'paths', geometry: 'LINESTRING', description: 'minimum-energy paths through the transition states (the x, y columns of paths/ID.csv)',
+        columns: [['id', 'TEXT'], ['images', 'INTEGER'], ['maximum', 'REAL'], ['file', 'TEXT']],
+      });
+      let fid = 0;
+      for (let i = 0; i < result.transitionStates.length; i++) {
+        const t = result.transitionStates[i], rec = report.transitionStates[i];
+        if (!t.path || t.path.images.length === 0) continue;
+        const rows = pathRows(result, t.path, report.units.factor);
+        const xy = new Float64Array(2 * rows.length);
+        for (let k = 0; k < rows.length; k++) { xy[2 * k] = rows[k].x; xy[2 * k + 1] = rows[k].y; }
+        paths.line(++fid, xy, [t.id, rows.length, rec.path?.maximum.energy ?? null, `paths/${t.id}.csv`]);
+      }
+      gp.finish();
+      gp = null;
+    }
     json('disconnectivity.json', { schema: 'sill/disconnectivity@1', unit: report.units.output, ...report.disconnectivity });
     out.write('disconnectivity.svg', disconnectivitySvg(report));
     out.write('landscape.svg', landscapeSvg(result, report));
     addReport(out, render, ['report.json', 'minima.csv', 'transition-states.csv', 'barriers.csv', 'disconnectivity.svg', 'landscape.svg'], (ctx) => buildBarriersHtml(result, report, ctx));
     return await out.commit();
   } catch (e) {
+    gp?.abort();
     throw out.fail(e);
   }
 }
@@ -198,7 +243,7 @@ export function removedLine(r: BarriersReport, u: string): string | null {
   return parts.length ? parts.join('; ') : null;
 }
 
-export function barriersSummary(r: BarriersReport, outDir?: string): string {
+export function barriersSummary(r: BarriersReport, outDir?: string, gpkg = true): string {
   const s = r.surface;
   const u = r.units.output === 'none' ? '' : ` ${r.units.output}`;
   const lines: string[] = [];
@@ -238,6 +283,6 @@ export function barriersSummary(r: BarriersReport, outDir?: string): string {
     if (r.barriers.length > 30) lines.push(`  … ${r.barriers.length - 30} more in barriers.csv`);
   }
   for (const n of r.notes) lines.push(`note      ${n}`);
-  if (outDir) lines.push(`files     ${outDir}/ report.json minima.csv transition-states.csv barriers.csv paths/ disconnectivity.svg landscape.svg`);
+  if (outDir) lines.push(`files     ${outDir}/ report.json minima.csv transition-states.csv barriers.csv paths/ disconnectivity.svg landscape.svg${gpkg ? ' results.gpkg' : ''}`);
   return lines.join('\n');
 }

@@ -1,4 +1,5 @@
 /** Option parsing and output plumbing shared by every command. */
+import { statSync } from 'node:fs';
 import { Command, Option } from 'commander';
 import { InputError } from '../errors.js';
 import { BOUNDARIES, type Boundary, type Connectivity } from '../surface/complex.js';
@@ -47,6 +48,24 @@ export function addCommonOptions(cmd: Command, defaults: { boundary: Boundary })
     .option('--threads <n>', 'threads to use (default: the number of cores; 1 keeps all work on one thread, with identical results)')
     .option('--quiet', 'no progress or summary on the terminal');
 }
+
+/** The GeoPackage holding every vector output of a run as layers (left out with --no-gpkg). */
+export const GPKG_FILE = 'results.gpkg';
+
+/**
+ * The time results.gpkg records as its layers' last change: the input's modification time, so
+ * that a run repeated on the same input writes the same bytes (now, if the input cannot be read).
+ */
+export function inputTime(input: string): Date {
+  try {
+    return statSync(input).mtime;
+  } catch {
+    return new Date();
+  }
+}
+
+/** --no-gpkg, for the commands with vector outputs. */
+export const NO_GPKG = ['--no-gpkg', 'do not write results.gpkg (the GeoPackage of the vector outputs)'] as const;
 
 /**
  * The output folder of a run, checked before any work (src/io/outdir.ts): `names` are the files the

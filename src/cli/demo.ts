@@ -9,7 +9,7 @@ import { runSurveyCommand } from './survey.js';
 import { runPondsCommand } from './ponds.js';
 import { runRunoffCommand } from './runoff.js';
 import { runBarriersCommand, BARRIERS_FILES } from './barriers.js';
-import { openOutput } from './common.js';
+import { openOutput, GPKG_FILE } from './common.js';
 import { SURVEY_FILES } from './survey.js';
 import { PONDS_FILES } from './ponds.js';
 import { RUNOFF_FILES } from './runoff.js';
@@ -42,7 +42,7 @@ export async function runDemo(dir: string, quiet: boolean, force = false): Promi
   for (const [sub, command, names] of [
     ['larkmoor-survey', 'survey', SURVEY_FILES], ['larkmoor-ponds', 'ponds', PONDS_FILES], ['larkmoor-ponds-culvert', 'ponds', PONDS_FILES], ['larkmoor-runoff', 'runoff', RUNOFF_FILES],
     ['dihedral-survey', 'survey', SURVEY_FILES], ['dihedral-barriers', 'barriers', BARRIERS_FILES],
-  ] as const) openOutput({ out: join(dir, sub), force }, command, [...names, ...REPORT], []);
+  ] as const) openOutput({ out: join(dir, sub), force }, command, [...names, GPKG_FILE, ...REPORT], []);
   const log = (s: string) => { if (!quiet) process.stdout.write(s + '\n'); };
 
   const dem = larkmoorDem();

@@ -15,7 +15,8 @@ import { writeSpillPathsGeojson } from '../report/spill-paths-geojson.js';
 import { toWgs84 } from '../hydro/reproject.js';
 import { stageVolume } from '../hydro/stage.js';
 import type { OutputFolder } from '../io/outdir.js';
-import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, AREA_THRESHOLD, type NumberLimits } from './common.js';
+import { GeoPackageWriter } from '../io/gpkg.js';
+import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, NO_GPKG, inputTime, GPKG_FILE, THRESHOLD, AREA_THRESHOLD, type NumberLimits } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printReport, writeReportFile, writeIdCsv,
   stageCsv, summaryHead, summaryTail, type HydroCliOptions,
@@ -37,6 +38,8 @@ export interface PondsCliOptions extends HydroCliOptions {
   xyUnits?: string;
   wgs84?: boolean;
   culverts?: string;
+  /** false with --no-gpkg: no results.gpkg. */
+  gpkg?: boolean;
 }
 
 export function registerPonds(program: Command): void {
@@ -59,6 +62,7 @@ export function registerPonds(program: Command): void {
     .option('--stage-volume <id>', 'write stage-volume-ID.csv: water level, wet area and volume of depression ID from its pit to its spill level')
     .option('--culverts <file>', 'lines through embankments (GeoJSON LineStrings or CSV x1,y1,x2,y2[,invert][,name]) where water passes at the invert; reports what changed')
     .option('--stage-step <dz>', 'level step of the stage-volume table (vertical unit; default: 50 steps)')
+    .option(...NO_GPKG)
     .action(async (input: string[], opts: PondsCliOptions) => {
       await runPondsCommand(input, opts);
     });
@@ -87,7 +91,7 @@ export async function runPondsCommand(input: Inputs, opts: PondsCliOptions): Pro
   if (opts.wgs84 && !opts.out) throw new InputError('--wgs84 writes depressions-wgs84.geojson and pour-points-wgs84.geojson: give an output folder with -o/--out');
   const src = await prepareInput(input, opts, 'ponds');
   const out = openOutput(opts, 'ponds', [
-    ...pondsFiles(src.mosaic !== null), ...(opts.wgs84 ? PONDS_WGS84_FILES : []), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render),
+    ...pondsFiles(src.mosaic !== null), ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...(opts.wgs84 ? PONDS_WGS84_FILES : []), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render),
   ], opts.culverts ? [...src.files, opts.culverts] : src.files);
 
   progress.stage(`reading ${src.mosaic ? src.mosaic.source : src.inputs[0]}`);
@@ -125,7 +129,7 @@ export async function runPondsCommand(input: Inputs, opts: PondsCliOptions): Pro
   let written: string[] = [];
   if (out) {
     progress.stage('writing files');
-    written = await writePondsFiles(out, result, report, { project, outlines, stageId, stageStep, progress, render, threads, mosaic });
+    written = await writePondsFiles(out, result, report, { project, outlines, stageId, stageStep, progress, render, threads, mosaic, gpkg: opts.gpkg !== false && inputTime(src.files[0]) });
   }
   progress.done();
   if (opts.json) printReport(report);
@@ -146,6 +150,8 @@ interface WriteOptions {
   threads?: number;
   /** The input mosaic: the rasters are written one GeoTIFF a tile plus a VRT each. */
   mosaic?: OpenedMosaic | null;
+  /** results.gpkg: the time it records as its layers' last change (default now), or false for none. */
+  gpkg?: Date | false;
 }
 
 /** The files `ponds -o DIR` always writes (--wgs84, --stage-volume and --report add theirs). */
@@ -163,6 +169,7 @@ export function pondsFiles(mosaic: boolean): string[] {
 
 export async function writePondsFiles(out: OutputFolder, result: PondsResult, report: PondsReport, w: WriteOptions = { project: null }): Promise<string[]> {
   let rasters: Promise<void>[] = [];
+  let gpkg: GeoPackageWriter | null = null;
   try {
     const g = result.grid;
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
@@ -187,16 +194,19 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     const tokens = result.areas.units.tokens;
     const levels = w.outlines ?? 'top';
     const meta = { name: 'depressions', description: depressionsDescription(levels), units: report.units, caution: report.caution };
-    w.progress?.stage('tracing outlines, writing depressions.geojson');
-    const features = writeDepressionsGeojson(out.path('depressions.geojson'), w.project ? out.path('depressions-wgs84.geojson') : null, result, report.depressions.columns, levels, w.project, meta);
+    w.progress?.stage(`tracing outlines, writing depressions.geojson${w.gpkg !== false ? ' and results.gpkg' : ''}`);
+    if (w.gpkg !== false) gpkg = new GeoPackageWriter(out.path(GPKG_FILE), g.crs, { lastChange: w.gpkg });
+    const features = writeDepressionsGeojson(out.path('depressions.geojson'), w.project ? out.path('depressions-wgs84.geojson') : null, result, report.depressions.columns, levels, w.project, meta, gpkg);
     report.outlines = { levels, features, depressions: report.depressions.length, note: outlinesNote(levels, features, report.depressions.length) };
     await out.checkpoint();
     w.progress?.stage('writing pour-points.geojson');
     writePourPointsGeojson(out.path('pour-points.geojson'), w.project ? out.path('pour-points-wgs84.geojson') : null, result, report.depressions.columns, w.project,
-      { name: 'pour-points', description: POUR_POINTS_DESCRIPTION, units: report.units, caution: report.caution });
+      { name: 'pour-points', description: POUR_POINTS_DESCRIPTION, units: report.units, caution: report.caution }, gpkg);
     await out.checkpoint();
     w.progress?.stage('writing spill-paths.geojson');
-    writeSpillPathsGeojson(out.path('spill-paths.geojson'), result, catch0, meta);
+    writeSpillPathsGeojson(out.path('spill-paths.geojson'), result, catch0, meta, gpkg);
+    gpkg?.finish();
+    gpkg = null;
     await out.checkpoint();
     w.progress?.stage('writing depressions.csv');
     const cols = report.depressions.columns;
@@ -214,6 +224,7 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     return await out.commit();
   } catch (e) {
     await Promise.allSettled(rasters); // every raster writer has finished (and removed its temporary file)
+    gpkg?.abort();
     throw out.fail(e);
   }
 }

@@ -8,10 +8,11 @@ import { parseDepth, depthUnit, DEPTH_UNITS } from '../hydro/runoff-input.js';
 import { traceBodyOutlines } from '../hydro/runoff-vectors.js';
 import { loadSurface } from '../io/index.js';
 import { formatNumber as jn } from '../io/stream.js';
-import { writeOutlineGeometry } from '../hydro/vectors.js';
+import { writeOutlineGeometry, outlineRings } from '../hydro/vectors.js';
 import type { OutputFolder } from '../io/outdir.js';
+import { GeoPackageWriter, type GpkgLayerSpec } from '../io/gpkg.js';
 import type { Grid } from '../surface/grid.js';
-import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, openOutput, THRESHOLD } from './common.js';
+import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, openOutput, NO_GPKG, inputTime, THRESHOLD, GPKG_FILE } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, checkBalance, printReport, writeReportFile, writeIdCsv, withCollection,
   stageCsv, summaryHead, summaryTail, type HydroCliOptions,
@@ -29,6 +30,8 @@ export interface RunoffCliOptions extends HydroCliOptions {
   initialLevel?: string;
   zUnits?: string;
   xyUnits?: string;
+  /** false with --no-gpkg: no results.gpkg. */
+  gpkg?: boolean;
 }
 
 /** The options of `runoff` that shape its result, for the command line in the report header. */
@@ -54,6 +57,7 @@ export function registerRunoff(program: Command): void {
     .option('--xy-units <unit>', 'horizontal unit when the input has no CRS: m, ft, us-ft, km, deg')
     .option('--stage-volume <id>', 'write stage-volume-ID.csv: water level, wet area and volume of depression ID from its pit to its spill level')
     .option('--stage-step <dz>', 'level step of the stage-volume table (vertical unit; default: 50 steps)')
+    .option(...NO_GPKG)
     .action(async (input: string[], opts: RunoffCliOptions) => {
       await runRunoffCommand(input, opts);
     });
@@ -88,7 +92,7 @@ export async function runRunoffCommand(input: Inputs, opts: RunoffCliOptions): P
   const { zFactor, stageId, stageStep } = parseZAndStage(opts);
   const render = reportRequest('runoff', inputList(input), { ...opts }, flagsOf({ ...opts }, RUNOFF_FLAGS));
   const src = await prepareInput(input, opts, 'runoff');
-  const out = openOutput(opts, 'runoff', [...runoffFiles(src.mosaic !== null), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render)],
+  const out = openOutput(opts, 'runoff', [...runoffFiles(src.mosaic !== null), ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render)],
     [...src.files, opts.depthRaster, opts.initialLevel]);
 
   progress.stage(`reading ${src.mosaic ? src.mosaic.source : src.inputs[0]}`);
@@ -114,7 +118,7 @@ export async function runRunoffCommand(input: Inputs, opts: RunoffCliOptions): P
   let written: string[] = [];
   if (out) {
     progress.stage('writing files');
-    written = await writeRunoffFiles(out, result, report, { stageId, stageStep, progress, render, threads, mosaic });
+    written = await writeRunoffFiles(out, result, report, { stageId, stageStep, progress, render, threads, mosaic, gpkg: opts.gpkg !== false && inputTime(src.files[0]) });
     progress.done();
   }
   if (opts.json) printReport(report);
@@ -132,6 +136,8 @@ interface WriteOptions {
   threads?: number;
   /** The input mosaic: the rasters are written one GeoTIFF a tile plus a VRT each. */
   mosaic?: OpenedMosaic | null;
+  /** results.gpkg: the time it records as its layers' last change (default now), or false for none. */
+  gpkg?: Date | false;
 }
 
 /** The files `runoff -o DIR` always writes (--stage-volume and --report add theirs). */
@@ -145,8 +151,20 @@ export function runoffFiles(mosaic: boolean): string[] {
   return mosaic ? [...rasterNames(RUNOFF_RASTERS, true), ...RUNOFF_FILES.filter((f) => !f.endsWith('.tif'))] : RUNOFF_FILES;
 }
 
+/** The ponds layer of results.gpkg: the properties of ponds.geojson as typed columns. */
+export const PONDS_LAYER: GpkgLayerSpec = {
+  name: 'ponds',
+  geometry: 'MULTIPOLYGON',
+  description: 'water standing after routing the runoff: one polygon per pond (the features of ponds.geojson)',
+  columns: [
+    ['kind', 'TEXT'], ['id', 'INTEGER'], ['volume', 'REAL'], ['level', 'REAL'], ['area', 'REAL'], ['cells', 'INTEGER'],
+    ['maxDepth', 'REAL'], ['depression', 'INTEGER'], ['full', 'BOOLEAN'],
+  ],
+};
+
 export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, report: RunoffReport, w: WriteOptions = {}): Promise<string[]> {
   let rasters: Promise<void>[] = [];
+  let gpkg: GeoPackageWriter | null = null;
   try {
     const g = result.grid;
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
@@ -160,7 +178,7 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     for (const r of rasters) r.catch(() => undefined); // awaited below
 
     const tokens = result.areas.units.tokens;
-    w.progress?.stage('tracing pond outlines, writing ponds.geojson');
+    w.progress?.stage(`tracing pond outlines, writing ponds.geojson${w.gpkg !== false ? ' and results.gpkg' : ''}`);
     const meta = {
       name: 'ponds',
       description: `water standing after routing ${report.runoff.depthText ?? 'the runoff'} through the depressions: one polygon per pond (connected water under one level)`,
@@ -170,14 +188,19 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     };
     const B = result.bodies;
     let features = 0;
+    if (w.gpkg !== false) gpkg = new GeoPackageWriter(out.path(GPKG_FILE), g.crs, { lastChange: w.gpkg });
+    const layer = gpkg?.layer(PONDS_LAYER) ?? null;
     withCollection(out.path('ponds.geojson'), g.crs, meta, (fc) => {
       // one polygon per pond, written as it is traced
       features = traceBodyOutlines(g, R.bodies, B.count, (b, o) => {
         const props = `{"kind":"pond","id":${b},"volume":${jn(B.volume[b])},"level":${jn(B.level[b])},"area":${jn(B.area[b])},"cells":${jn(B.cells[b])}` +
           `,"maxDepth":${jn(B.maxDepth[b])},"depression":${B.depression[b] > 0 ? B.depression[b] : 'null'},"full":${B.full[b] === 1 ? 'true' : 'false'}}`;
         fc.featureWith(b, (k) => writeOutlineGeometry(k, o, g.transform), props);
+        layer?.polygons(b, outlineRings(o, g.transform), ['pond', b, B.volume[b], B.level[b], B.area[b], B.cells[b], B.maxDepth[b], B.depression[b] > 0 ? B.depression[b] : null, B.full[b] === 1]);
       });
     });
+    gpkg?.finish();
+    gpkg = null;
     if (features !== B.count) throw new Error(`${features} pond outlines traced for ${B.count} ponds (internal error)`);
     report.outlines = { features, note: `ponds.geojson outlines all ${features} ponds` };
     await out.checkpoint();
@@ -196,6 +219,7 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     await Promise.all(rasters);
     return await out.commit();
   } catch (e) {
+    gpkg?.abort();
     await Promise.allSettled(rasters); // every raster writer has finished (and removed its temporary file)
     throw out.fail(e);
   }

@@ -5,7 +5,8 @@ import { collectionHead } from '../io/tables.js';
 import { TextSink, withFileSink, writeJson, writeCsv, writePointCollection } from '../io/stream.js';
 import { KIND_NAMES } from '../morse/critical.js';
 import type { OutputFolder } from '../io/outdir.js';
-import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, type CommonOptions } from './common.js';
+import { GeoPackageWriter, type GpkgLayerSpec } from '../io/gpkg.js';
+import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, GPKG_FILE, NO_GPKG, inputTime, type CommonOptions } from './common.js';
 import { prepareInput, inputList, mosaicInfo, type Inputs } from './mosaic.js';
 import { checkCellBudget, featureBudget } from './budget.js';
 import { eulerFailure, mosaicLine } from './hydro-common.js';
@@ -20,12 +21,17 @@ export function registerSurvey(program: Command): void {
     .command('survey')
     .description('critical points (pits, passes, peaks), Euler check, merge trees and persistence pairs')
     .argument('<input...>', 'GeoTIFF, .npy, or text grid / scattered samples; or a mosaic: a .vrt, a folder of GeoTIFF tiles, or several GeoTIFF paths');
-  addCommonOptions(cmd, { boundary: 'open' }).action(async (input: string[], opts: CommonOptions) => {
+  addCommonOptions(cmd, { boundary: 'open' }).option(...NO_GPKG).action(async (input: string[], opts: SurveyCliOptions) => {
     await runSurveyCommand(input, opts);
   });
 }
 
-export async function runSurveyCommand(input: Inputs, opts: CommonOptions): Promise<SurveyReport> {
+export interface SurveyCliOptions extends CommonOptions {
+  /** false with --no-gpkg: no results.gpkg. */
+  gpkg?: boolean;
+}
+
+export async function runSurveyCommand(input: Inputs, opts: SurveyCliOptions): Promise<SurveyReport> {
   const progress = new Progress(opts.quiet || opts.json);
   const connectivity = parseConnectivity(opts.connectivity);
   const boundary = parseBoundary(opts.boundary);
@@ -33,7 +39,7 @@ export async function runSurveyCommand(input: Inputs, opts: CommonOptions): Prom
   const threads = parseThreads(opts.threads);
   const render = reportRequest('survey', inputList(input), { ...opts });
   const src = await prepareInput(input, opts, 'survey');
-  const out = openOutput(opts, 'survey', [...SURVEY_FILES, ...reportNames(render)], src.files);
+  const out = openOutput(opts, 'survey', [...SURVEY_FILES, ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...reportNames(render)], src.files);
   progress.stage(`reading ${src.mosaic ? src.mosaic.source : src.inputs[0]}`);
   const { surface, mosaic, label } = await src.load();
   const cells = surface.size;
@@ -44,9 +50,9 @@ export async function runSurveyCommand(input: Inputs, opts: CommonOptions): Prom
   if (mosaic) Object.assign(report, { mosaic: mosaicInfo(mosaic) });
   progress.done();
   if (!report.euler.holds) throw eulerFailure(report.euler);
-  if (out) await writeSurveyFiles(out, surface, result, report, render);
+  if (out) await writeSurveyFiles(out, surface, result, report, render, opts.gpkg !== false && inputTime(src.files[0]));
   if (opts.json) writeJsonStdout(report);
-  say(opts, surveySummary(report, opts.out));
+  say(opts, surveySummary(report, opts.out, opts.gpkg !== false));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
   return report;
 }
@@ -54,7 +60,16 @@ export async function runSurveyCommand(input: Inputs, opts: CommonOptions): Prom
 /** The files `survey -o DIR` writes (besides the report's). */
 export const SURVEY_FILES = ['report.json', 'critical-points.csv', 'critical-points.geojson', 'merge-tree.json'];
 
-export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, result: SurveyResult, report: SurveyReport, render?: ReportRequest | null): Promise<string[]> {
+/** The critical-points layer of results.gpkg: the properties of critical-points.geojson as typed columns. */
+export const CRITICAL_POINTS_LAYER: GpkgLayerSpec = {
+  name: 'critical-points',
+  geometry: 'POINT',
+  description: 'pits, passes and peaks (the features of critical-points.geojson)',
+  columns: [['kind', 'TEXT'], ['value', 'REAL'], ['multiplicity', 'INTEGER'], ['col', 'INTEGER'], ['row', 'INTEGER'], ['onEdge', 'BOOLEAN']],
+};
+
+export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, result: SurveyResult, report: SurveyReport, render?: ReportRequest | null, gpkg: Date | false = new Date()): Promise<string[]> {
+  let gp: GeoPackageWriter | null = null;
   try {
     withFileSink(out.path('report.json'), (sink) => { writeJson(sink, report, 1); sink.write('\n'); });
     await out.checkpoint();
@@ -78,6 +93,18 @@ export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, 
       sink.write('\n');
     });
     await out.checkpoint();
+    if (gpkg !== false) {
+      // the same points as critical-points.geojson, fid = its feature id + 1
+      gp = new GeoPackageWriter(out.path(GPKG_FILE), surface.crs, { lastChange: gpkg });
+      const layer = gp.layer(CRITICAL_POINTS_LAYER);
+      for (let k = 0; k < K.vertex.length; k++) {
+        const c = at(k);
+        layer.point(k + 1, c.x, c.y, [c.kind, c.value, c.multiplicity, c.col, c.row, c.onEdge]);
+      }
+      gp.finish();
+      gp = null;
+      await out.checkpoint();
+    }
     const values = result.complex.values;
     withFileSink(out.path('merge-tree.json'), (sink) => {
       writeJson(sink, {
@@ -92,6 +119,7 @@ export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, 
     addReport(out, render, ['report.json', 'critical-points.csv', 'critical-points.geojson', 'merge-tree.json'], (ctx) => buildSurveyReport(surface, result, report, ctx));
     return await out.commit();
   } catch (e) {
+    gp?.abort();
     throw out.fail(e);
   }
 }
@@ -104,7 +132,7 @@ function writeJsonStdout(report: SurveyReport): void {
   sink.close();
 }
 
-export function surveySummary(r: SurveyReport, outDir?: string): string {
+export function surveySummary(r: SurveyReport, outDir?: string, gpkg = true): string {
   const s = r.surface;
   const lines: string[] = [];
   lines.push(s.kind === 'grid'
@@ -131,6 +159,6 @@ export function surveySummary(r: SurveyReport, outDir?: string): string {
       lines.push(`  ${p.dim === 0 ? 'pit ' : 'peak'} ${fmt(p.dim === 0 ? p.birth : p.death)} at ${where}, x ${fmtCoord(a.x, geo)}, y ${fmtCoord(a.y, geo)}: persistence ${fmt(p.persistence)}`);
     }
   }
-  if (outDir) lines.push(`files     ${outDir}/ report.json critical-points.csv critical-points.geojson merge-tree.json`);
+  if (outDir) lines.push(`files     ${outDir}/ report.json critical-points.csv critical-points.geojson merge-tree.json${gpkg ? ' results.gpkg' : ''}`);
   return lines.join('\n');
 }

@@ -94,7 +94,7 @@ describe('sill barriers (command line)', () => {
     expect(r.stdout).toBe('');
     expect(readdirSync(out).sort()).toEqual([
       '.sill-manifest.json', 'barriers.csv', 'disconnectivity.json', 'disconnectivity.svg', 'landscape.svg', 'lowest-barriers.csv',
-      'minima.csv', 'paths', 'report.json', 'transition-states.csv',
+      'minima.csv', 'paths', 'report.json', 'results.gpkg', 'transition-states.csv',
     ]);
     expect(readdirSync(join(out, 'paths')).sort()).toEqual(['T1.csv', 'T2.csv']);
     const path = readFileSync(join(out, 'paths', 'T1.csv'), 'utf8').trim().split('\n');

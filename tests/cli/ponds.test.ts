@@ -70,7 +70,7 @@ describe('sill ponds (command line)', () => {
     const r = sill(['ponds', dem, '-o', out, '--quiet']);
     expect(r.code).toBe(0);
     expect(r.stdout).toBe('');
-    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'catchments.tif', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'pour-points.geojson', 'report.json', 'spill-paths.geojson']);
+    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'catchments.tif', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'pour-points.geojson', 'report.json', 'results.gpkg', 'spill-paths.geojson']);
     const rep = JSON.parse(readFileSync(join(out, 'report.json'), 'utf8'));
     const csv = readFileSync(join(out, 'depressions.csv'), 'utf8').trim().split('\n');
     expect(csv[0]).toMatch(/^id,parent,/);
@@ -289,7 +289,7 @@ print(int((ref[valid] != f[valid]).sum()))
     expect(rep.removed.filtered).toBeGreaterThan(0);
     for (const d of rep.depressions) { expect(d.maxDepth).toBeGreaterThanOrEqual(0.05); expect(d.area).toBeGreaterThanOrEqual(100); }
     expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'catchments.tif', 'depressions-wgs84.geojson', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif',
-      'pour-points-wgs84.geojson', 'pour-points.geojson', 'report.json', 'spill-paths.geojson', 'stage-volume-1.csv']);
+      'pour-points-wgs84.geojson', 'pour-points.geojson', 'report.json', 'results.gpkg', 'spill-paths.geojson', 'stage-volume-1.csv']);
     const labels = await readGeoTiff(join(out, 'labels.tif'));
     const ids = new Set<number>();
     for (const v of labels.values) if (v > 0) ids.add(v);

@@ -80,7 +80,7 @@ describe('sill runoff (command line)', () => {
     const r = sill(['runoff', dem, '--depth', '40mm', '-o', out, '--quiet']);
     expect(r.code).toBe(0);
     expect(r.stdout).toBe('');
-    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'ponds.geojson', 'report.json', 'runoff.csv', 'water-depth.tif', 'water-level.tif']);
+    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'ponds.geojson', 'report.json', 'results.gpkg', 'runoff.csv', 'water-depth.tif', 'water-level.tif']);
     const rep = JSON.parse(readFileSync(join(out, 'report.json'), 'utf8'));
     balanced(rep);
     const z = await readGeoTiff(dem), lv = await readGeoTiff(join(out, 'water-level.tif')), dp = await readGeoTiff(join(out, 'water-depth.tif'));
@@ -218,7 +218,7 @@ print(json.dumps(out))
     const out = join(dir, 'out-report');
     const r = sill(['runoff', dem, '--depth', '40mm', '-o', out, '--report', '--quiet']);
     expect(r.code).toBe(0);
-    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'map.svg', 'ponds.geojson', 'report.html', 'report.json', 'runoff.csv', 'tree.svg', 'water-depth.tif', 'water-level.tif']);
+    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'map.svg', 'ponds.geojson', 'report.html', 'report.json', 'results.gpkg', 'runoff.csv', 'tree.svg', 'water-depth.tif', 'water-level.tif']);
     const html = readFileSync(join(out, 'report.html'), 'utf8');
     expect(html).toMatch(/Screening information/);
     expect(html).toContain('sill runoff');

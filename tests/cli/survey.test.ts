@@ -67,7 +67,7 @@ describe('sill survey (command line)', () => {
     const r = sill(['survey', join(dir, 'bowl.txt'), '-o', out, '--quiet']);
     expect(r.code).toBe(0);
     expect(r.stdout).toBe('');
-    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'critical-points.csv', 'critical-points.geojson', 'merge-tree.json', 'report.json']);
+    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'critical-points.csv', 'critical-points.geojson', 'merge-tree.json', 'report.json', 'results.gpkg']);
     const gj = JSON.parse(readFileSync(join(out, 'critical-points.geojson'), 'utf8'));
     expect(gj.type).toBe('FeatureCollection');
     const pit = gj.features.find((f: { properties: { kind: string } }) => f.properties.kind === 'pit');

@@ -83,7 +83,7 @@ describe('sill survey --report / --png (command line)', () => {
     const out = join(dir, 'r1');
     const r = sill(['survey', join(dir, 'bowl.txt'), '-o', out, '--report']);
     expect(r.code).toBe(0);
-    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'critical-points.csv', 'critical-points.geojson', 'map.svg', 'merge-tree.json', 'persistence.svg', 'report.html', 'report.json', 'tree.svg']);
+    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'critical-points.csv', 'critical-points.geojson', 'map.svg', 'merge-tree.json', 'persistence.svg', 'report.html', 'report.json', 'results.gpkg', 'tree.svg']);
     expect(r.stdout).toContain(join(out, 'report.html'));
     const html = readFileSync(join(out, 'report.html'), 'utf8');
     // open boundary reads as terrain: the screening caution is in the page
