@@ -86,9 +86,11 @@ describe('results.gpkg', () => {
     expect(r.code, r.stderr).toBe(0);
     expect(r.stdout).toMatch(/results\.gpkg/);
     expect(readdirSync(out)).toContain('results.gpkg');
-    const all = features(join(out, 'depressions.geojson'));
-    const polys = all.filter((f) => f.properties.kind === 'depression');
-    const points = all.filter((f) => f.properties.kind === 'pour point');
+    // one geometry type a file: the polygons (the default --outlines level) and the pour points apart
+    const polys = features(join(out, 'depressions.geojson'));
+    const points = features(join(out, 'pour-points.geojson'));
+    expect(polys.every((f) => f.properties.kind === 'depression')).toBe(true);
+    expect(points.every((f) => f.properties.kind === 'pour point')).toBe(true);
     const g = readGpkg(join(out, 'results.gpkg'));
     // Source: GDAL's OGR and the system SQLite
     expectValid(g, ['depressions', 'pour-points', 'spill-paths']);
