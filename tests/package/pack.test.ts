@@ -53,7 +53,7 @@ beforeAll(() => {
   writeFileSync(join(app, 'package-lock.json'), JSON.stringify({ name: 'app', lockfileVersion: 3, requires: true, packages }));
   // the cache first; the npm registry only for what the cache lacks (a dependency with a native part,
   // if one is ever added, builds here too — hence the long timeout)
-  npm(['ci', '--prefer-offline', '--no-audit', '--no-fund'], app);
+  npm(['ci', '--prefer-offline', '--no-audit', '--no-fund', '--omit=optional'], app);
 }, 300_000);
 
 afterAll(() => {
