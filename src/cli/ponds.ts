@@ -12,6 +12,7 @@ import { OUTLINE_LEVELS, type OutlineLevels } from '../hydro/vectors.js';
 import type { PondsResult } from '../hydro/ponds.js';
 import { topLabels } from '../hydro/rasters.js';
 import { writeSpillPathsGeojson } from '../report/spill-paths-geojson.js';
+import { writeCatchmentsGeojson } from '../report/catchments-geojson.js';
 import { toWgs84 } from '../hydro/reproject.js';
 import { stageVolume } from '../hydro/stage.js';
 import type { OutputFolder } from '../io/outdir.js';
@@ -155,7 +156,7 @@ interface WriteOptions {
 }
 
 /** The files `ponds -o DIR` always writes (--wgs84, --stage-volume and --report add theirs). */
-export const PONDS_FILES = ['filled.tif', 'depth.tif', 'labels.tif', 'catchments.tif', 'depressions.geojson', 'pour-points.geojson', 'spill-paths.geojson', 'depressions.csv', 'report.json'];
+export const PONDS_FILES = ['filled.tif', 'depth.tif', 'labels.tif', 'catchments.tif', 'depressions.geojson', 'pour-points.geojson', 'spill-paths.geojson', 'catchments.geojson', 'depressions.csv', 'report.json'];
 /** The files --wgs84 adds. */
 export const PONDS_WGS84_FILES = ['depressions-wgs84.geojson', 'pour-points-wgs84.geojson'];
 
@@ -205,6 +206,9 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     await out.checkpoint();
     w.progress?.stage('writing spill-paths.geojson');
     writeSpillPathsGeojson(out.path('spill-paths.geojson'), result, catch0, meta, gpkg);
+    await out.checkpoint();
+    w.progress?.stage('tracing catchments, writing catchments.geojson');
+    writeCatchmentsGeojson(out.path('catchments.geojson'), result, catch0, levels, meta, gpkg);
     gpkg?.finish();
     gpkg = null;
     await out.checkpoint();
@@ -219,7 +223,7 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     writeReportFile(out.path('report.json'), report);
     await out.checkpoint();
     w.progress?.stage('writing the report');
-    addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'pour-points.geojson', 'spill-paths.geojson', ...rasterFiles(PONDS_RASTERS, !!w.mosaic)], (ctx) => buildPondsHtml(result, report, ctx));
+    addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'pour-points.geojson', 'spill-paths.geojson', 'catchments.geojson', ...rasterFiles(PONDS_RASTERS, !!w.mosaic)], (ctx) => buildPondsHtml(result, report, ctx));
     await Promise.all(rasters);
     return await out.commit();
   } catch (e) {

@@ -93,7 +93,7 @@ describe('results.gpkg', () => {
     expect(points.every((f) => f.properties.kind === 'pour point')).toBe(true);
     const g = readGpkg(join(out, 'results.gpkg'));
     // Source: GDAL's OGR and the system SQLite
-    expectValid(g, ['depressions', 'pour-points', 'spill-paths']);
+    expectValid(g, ['depressions', 'pour-points', 'spill-paths', 'catchments']);
     const [dl, pl, sl] = g.layers;
     expect(dl).toMatchObject({ features: polys.length, geometryType: 'Multi Polygon', epsg: 32633 });
     expect(pl).toMatchObject({ features: points.length, geometryType: 'Point', epsg: 32633 });

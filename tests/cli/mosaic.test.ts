@@ -112,7 +112,7 @@ describe('ponds on a mosaic equals ponds on the single grid GDAL assembled', () 
       expect(r.code, r.stderr).toBe(0);
       expect(r.stderr).toBe('');
       expect(listFiles(out)).toEqual([
-        '.sill-manifest.json', 'depressions.csv', 'depressions.geojson', 'pour-points.geojson', 'spill-paths.geojson', 'report.json', 'results.gpkg',
+        '.sill-manifest.json', 'depressions.csv', 'depressions.geojson', 'pour-points.geojson', 'spill-paths.geojson', 'catchments.geojson', 'report.json', 'results.gpkg',
         ...['filled', 'depth', 'labels', 'catchments'].flatMap((p) => [...TILES.map((t) => `${p}/${t}.tif`), `${p}.vrt`]),
       ].sort());
       expect(reportOf(out)).toEqual(reportOf(single));

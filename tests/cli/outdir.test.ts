@@ -71,7 +71,7 @@ describe('output folders (-o DIR) as transactions', () => {
     expect(m.run).not.toBe(first.run);
     expect(Number.isNaN(Date.parse(m.time))).toBe(false);
     const names = m.files.map((f) => f.name);
-    expect([...names].sort()).toEqual(['catchments.tif', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'pour-points.geojson', 'report.json', 'results.gpkg', 'spill-paths.geojson']);
+    expect([...names].sort()).toEqual(['catchments.geojson', 'catchments.tif', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'pour-points.geojson', 'report.json', 'results.gpkg', 'spill-paths.geojson']);
     for (const f of m.files) expect(statSync(join(out, f.name)).size).toBe(f.size);
     // exactly the new run's files, the manifest, and what sill did not write
     expect(listFiles(out)).toEqual([MANIFEST, ...names, 'mine/photo.txt', 'notes.txt'].sort());

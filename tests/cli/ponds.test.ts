@@ -70,7 +70,7 @@ describe('sill ponds (command line)', () => {
     const r = sill(['ponds', dem, '-o', out, '--quiet']);
     expect(r.code).toBe(0);
     expect(r.stdout).toBe('');
-    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'catchments.tif', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'pour-points.geojson', 'report.json', 'results.gpkg', 'spill-paths.geojson']);
+    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'catchments.geojson', 'catchments.tif', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif', 'pour-points.geojson', 'report.json', 'results.gpkg', 'spill-paths.geojson']);
     const rep = JSON.parse(readFileSync(join(out, 'report.json'), 'utf8'));
     const csv = readFileSync(join(out, 'depressions.csv'), 'utf8').trim().split('\n');
     expect(csv[0]).toMatch(/^id,parent,/);
@@ -136,6 +136,9 @@ s = sds.GetLayer(0)
 out['paths'] = {'n': s.GetFeatureCount(), 'types': sorted({ogr.GeometryTypeToName(f.GetGeometryRef().GetGeometryType()) for f in s}), 'epsg': int(s.GetSpatialRef().GetAuthorityCode(None))}
 s.ResetReading()
 out['paths']['lengths'] = {str(f.GetField('from')): f.GetGeometryRef().Length() for f in s}
+cds = ogr.Open(sys.argv[1] + '/catchments.geojson')  # keep the data source alive while its layer is read
+cl = cds.GetLayer(0)
+out['catchments'] = {str(f.GetField('id')): [f.GetGeometryRef().GetArea(), bool(f.GetGeometryRef().IsValid())] for f in cl}
 pds = ogr.Open(sys.argv[1] + '/pour-points.geojson')  # kept: a layer dies with its data source
 p = pds.GetLayer(0)
 out['points'] = {'features': p.GetFeatureCount(), 'type': ogr.GeometryTypeToName(p.GetGeomType())}
@@ -177,6 +180,15 @@ print(json.dumps(out))
     }
     expect(g.catchCells['0']).toBe(rep.totals.offMap.cells);
     expect(rep.totals.catchments.cells + rep.totals.offMap.cells + rep.totals.walledIn.cells).toBe(320 * 240 - 4);
+    // catchments.geojson (the default --outlines level, top): GEOS finds each polygon valid, and OGR's area
+    // of each equals the reported catchmentArea (cell edges: exact up to rounding)
+    const tops = rep.depressions.filter((d: { parent: number | null }) => d.parent === null);
+    expect(Object.keys(g.catchments)).toHaveLength(tops.length);
+    for (const d of tops) {
+      const [area, valid] = g.catchments[String(d.id)];
+      expect(valid).toBe(true);
+      expect(Math.abs(area - d.catchmentArea)).toBeLessThanOrEqual(1e-9 * d.catchmentArea);
+    }
     // spill-paths.geojson: one MultiLineString per depression; OGR's length of each equals the reported one
     expect(g.paths.n).toBe(rep.depressions.length);
     expect(g.paths.types).toEqual(['Multi Line String']);
@@ -288,7 +300,7 @@ print(int((ref[valid] != f[valid]).sum()))
     expect(rep.filters).toMatchObject({ minDepth: 0.05, minArea: 100, fillOnlyBelow: 5000 });
     expect(rep.removed.filtered).toBeGreaterThan(0);
     for (const d of rep.depressions) { expect(d.maxDepth).toBeGreaterThanOrEqual(0.05); expect(d.area).toBeGreaterThanOrEqual(100); }
-    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'catchments.tif', 'depressions-wgs84.geojson', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif',
+    expect(readdirSync(out).sort()).toEqual(['.sill-manifest.json', 'catchments.geojson', 'catchments.tif', 'depressions-wgs84.geojson', 'depressions.csv', 'depressions.geojson', 'depth.tif', 'filled.tif', 'labels.tif',
       'pour-points-wgs84.geojson', 'pour-points.geojson', 'report.json', 'results.gpkg', 'spill-paths.geojson', 'stage-volume-1.csv']);
     const labels = await readGeoTiff(join(out, 'labels.tif'));
     const ids = new Set<number>();
