@@ -138,7 +138,7 @@ s.ResetReading()
 out['paths']['lengths'] = {str(f.GetField('from')): f.GetGeometryRef().Length() for f in s}
 cds = ogr.Open(sys.argv[1] + '/catchments.geojson')  # keep the data source alive while its layer is read
 cl = cds.GetLayer(0)
-out['catchments'] = {str(f.GetField('id')): [f.GetGeometryRef().GetArea(), bool(f.GetGeometryRef().IsValid())] for f in cl}
+out['catchPolys'] = {str(f.GetField('id')): [f.GetGeometryRef().GetArea(), bool(f.GetGeometryRef().IsValid())] for f in cl}
 pds = ogr.Open(sys.argv[1] + '/pour-points.geojson')  # kept: a layer dies with its data source
 p = pds.GetLayer(0)
 out['points'] = {'features': p.GetFeatureCount(), 'type': ogr.GeometryTypeToName(p.GetGeomType())}
@@ -182,10 +182,10 @@ print(json.dumps(out))
     expect(rep.totals.catchments.cells + rep.totals.offMap.cells + rep.totals.walledIn.cells).toBe(320 * 240 - 4);
     // catchments.geojson (the default --outlines level, top): GEOS finds each polygon valid, and OGR's area
     // of each equals the reported catchmentArea (cell edges: exact up to rounding)
-    const tops = rep.depressions.filter((d: { parent: number | null }) => d.parent === null);
-    expect(Object.keys(g.catchments)).toHaveLength(tops.length);
-    for (const d of tops) {
-      const [area, valid] = g.catchments[String(d.id)];
+    const topDeps = rep.depressions.filter((d: { parent: number | null }) => d.parent === null);
+    expect(Object.keys(g.catchPolys)).toHaveLength(topDeps.length);
+    for (const d of topDeps) {
+      const [area, valid] = g.catchPolys[String(d.id)];
       expect(valid).toBe(true);
       expect(Math.abs(area - d.catchmentArea)).toBeLessThanOrEqual(1e-9 * d.catchmentArea);
     }

@@ -7,6 +7,7 @@ import type { PondsResult } from '../../hydro/ponds.js';
 import type { PondsReport } from '../../report/ponds.js';
 import type { DepressionOutline } from '../../hydro/vectors.js';
 import { labelBoxes } from '../../hydro/vectors.js';
+import { SpillPaths } from '../../hydro/spill-paths.js';
 import { mapSvg, type MapMarker, type MapShape } from '../figures/map.js';
 import { traceRegion, RegionScratch } from '../figures/outline.js';
 import { treeSvg, type TreeNodeIn } from '../figures/tree.js';
@@ -119,6 +120,25 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
     markers.push({ key: dkey(d.id), kind: 'pour', u: d.pour.col + 0.5, v: d.pour.row + 0.5, angle: pourAngle(d), title: `depression #${d.id}: pours at ${fz(d.spillValue)} ${zu} into ${d.into === 'outside' ? 'the outside' : `#${d.into}`}` });
   }
   const shownDeps = Math.min(deps.length, Math.floor(PONDS_LIMITS.markers / 2));
+  // spill paths of the depressions marked: where each one's overflow runs when it is full (docs/ponds.md)
+  const paths: MapShape[] = [];
+  const catchLabels = result.catchments?.labels;
+  if (catchLabels) {
+    const maker = new SpillPaths(g, result.complex, H, catchLabels, result.options.connectivity, result.options.nodataOutlet, !result.areas.uniform, result.catchments?.resume ?? null);
+    for (const d of byVolume.slice(0, shownDeps)) {
+      const p = maker.path(d.id);
+      let data = '';
+      for (let part = 0; part < p.parts; part++) {
+        const end = part + 1 < p.parts ? p.partStart[part + 1] : p.vertices;
+        for (let v = p.partStart[part]; v < end; v++) {
+          const [u, w] = mapToPlot(g.transform, p.xy[2 * v], p.xy[2 * v + 1]);
+          data += `${v === p.partStart[part] ? 'M' : 'L'}${n(u, 2)} ${n(w, 2)}`;
+        }
+      }
+      const to = p.arrives.kind === 'depression' ? `depression #${p.arrives.id}` : p.arrives.kind === 'outside' ? 'the map edge' : 'a pit of no reported depression';
+      if (data) paths.push({ key: dkey(d.id), d: data, title: `spill path of #${d.id}: ${fmtNum(p.length, 4)} ${xyUnit} down to ${to}, dropping ${fz(p.drop)} ${zu}` });
+    }
+  }
 
   const tips: ReportDoc['tips'] = {};
   for (const d of byVolume.slice(0, PONDS_LIMITS.tableRows)) {
@@ -142,12 +162,13 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
   const map = mapSvg({
     id: 'map', title: `Depressions of ${report.input ?? 'the DEM'}`,
     desc: `${g.width} by ${g.height} DEM in grey with hillshade; water depth at the spill levels in colour; ${shapes.length} depression outlines; `
-      + `pits of the innermost depressions (downward triangles) and ${shownDeps} pour points (arrows pointing where the water spills).`,
+      + `pits of the innermost depressions (downward triangles) and ${shownDeps} pour points (arrows pointing where the water spills)`
+      + `${paths.length ? `, with the spill path of each (white lines: where its overflow runs when it is full)` : ''}.`,
     frame: sd.frame,
     layers: [layer.layer, { id: 'depth', label: 'water depth', href: depthPng, visible: true }],
-    contours, contourUnit: zu, outlines: shapes, markers,
+    contours, contourUnit: zu, outlines: shapes, paths, markers,
     kinds: [{ kind: 'pit', count: markers.filter((m) => m.kind === 'pit').length }, { kind: 'pour', count: shownDeps }],
-    lineKeys: [{ label: 'depression outline', kind: 'outline' }],
+    lineKeys: [{ label: 'depression outline', kind: 'outline' }, ...(paths.length ? [{ label: 'spill path', kind: 'path' as const }] : [])],
     ramps: [layer.legend, { label: `water depth [${zu}]`, ramp: depthRamp, lo: 0, hi: dTop }],
     notes: mapNotes, axes: axesLabels(sd),
   });
