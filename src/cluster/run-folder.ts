@@ -16,10 +16,11 @@
  *
  * The folder must be on a file system every node sees when a cluster runs it.
  */
-import { mkdirSync, readFileSync, readdirSync, renameSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdirSync, readdirSync, renameSync, rmSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { hostname } from 'node:os';
 import { randomBytes } from 'node:crypto';
+import { readJson as readJsonFile } from '../io/outdir.js';
 
 export interface TaskSpec {
   /** What the task is, for messages and the catalogue (e.g. the input path). */
@@ -76,17 +77,11 @@ export function writeWhole(path: string, text: string): void {
 }
 
 function readJson<T>(path: string): T | null {
-  let text: string;
   try {
-    text = readFileSync(path, 'utf8');
+    return readJsonFile<T>(path);
   } catch (e) {
-    if ((e as NodeJS.ErrnoException).code === 'ENOENT') return null;
+    if (e instanceof SyntaxError) return null; // cut short (a kill while it was written without the rename, by an older writer): as if absent
     throw e;
-  }
-  try {
-    return JSON.parse(text) as T;
-  } catch {
-    return null; // cut short (a kill while it was written without the rename, by an older writer): as if absent
   }
 }
 

@@ -224,7 +224,8 @@ function writeWhole(path: string, text: string, tmpDir: string, at?: string): vo
   renameSync(tmp, path);
 }
 
-function readJson<T>(path: string): T | null {
+/** A JSON file's value, or null when there is no such file. */
+export function readJson<T>(path: string): T | null {
   let text: string;
   try {
     text = readFileSync(path, 'utf8');
