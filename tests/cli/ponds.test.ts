@@ -381,6 +381,23 @@ print(int((ref[valid] != f[valid]).sum()))
     expect(s.stdout).toMatch(/culverts +1 line from .*culverts\.csv, \d+ cells lowered to their inverts; against the DEM without them: \d+ depressions vanished/);
   });
 
+  it('--report draws the spill path of each marked depression on the map, keyed to its depression, as spill-paths.geojson has it', () => {
+    const out = join(dir, 'with-report');
+    const r = sill(['ponds', dem, '--min-depth', '0.05', '-o', out, '--report', '--quiet']);
+    expect(r.code, r.stderr).toBe(0);
+    const svg = readFileSync(join(out, 'map.svg'), 'utf8');
+    const drawn = [...svg.matchAll(/<g class="pth" data-k="d(\d+)"><title>spill path of #(\d+): ([\d.]+) m down to ([^,<]+)/g)];
+    expect(drawn.length).toBeGreaterThan(5);
+    const sp = JSON.parse(readFileSync(join(out, 'spill-paths.geojson'), 'utf8'));
+    const byId = new Map(sp.features.map((f: { properties: { from: number } }) => [f.properties.from, f.properties]));
+    for (const [, key, id, len, to] of drawn) {
+      expect(key).toBe(id); // a click on the line selects its depression
+      const p = byId.get(Number(id)) as { length: number; arrives: number | string };
+      expect(Math.abs(Number(len) - p.length)).toBeLessThanOrEqual(0.01 * p.length + 0.01);
+      expect(to).toBe(p.arrives === 'outside' ? 'the map edge' : typeof p.arrives === 'number' ? `depression #${p.arrives}` : 'a pit of no reported depression');
+    }
+  });
+
   describe('bad input: exit 2, one line on stderr, nothing written', () => {
     const cases: [string, () => string[], RegExp][] = [
       ['missing file', () => ['ponds', join(dir, 'nope.tif')], /cannot read/],
