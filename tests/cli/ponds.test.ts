@@ -381,11 +381,13 @@ print(int((ref[valid] != f[valid]).sum()))
     expect(s.stdout).toMatch(/culverts +1 line from .*culverts\.csv, \d+ cells lowered to their inverts; against the DEM without them: \d+ depressions vanished/);
   });
 
-  it('--report draws the spill path of each marked depression on the map, keyed to its depression, as spill-paths.geojson has it', () => {
+  it('--report draws the spill path of each marked depression on the map, keyed to its depression, as spill-paths.geojson has it, over the catchments', () => {
     const out = join(dir, 'with-report');
     const r = sill(['ponds', dem, '--min-depth', '0.05', '-o', out, '--report', '--quiet']);
     expect(r.code, r.stderr).toBe(0);
     const svg = readFileSync(join(out, 'map.svg'), 'utf8');
+    // and the top-level catchments as a layer of the map
+    expect(svg).toMatch(/data-layer="catchments"/);
     const drawn = [...svg.matchAll(/<g class="pth" data-k="d(\d+)"><title>spill path of #(\d+): ([\d.]+) m down to ([^,<]+)/g)];
     expect(drawn.length).toBeGreaterThan(5);
     const sp = JSON.parse(readFileSync(join(out, 'spill-paths.geojson'), 'utf8'));

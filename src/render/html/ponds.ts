@@ -8,6 +8,8 @@ import type { PondsReport } from '../../report/ponds.js';
 import type { DepressionOutline } from '../../hydro/vectors.js';
 import { labelBoxes } from '../../hydro/vectors.js';
 import { SpillPaths } from '../../hydro/spill-paths.js';
+import { topLabels } from '../../hydro/rasters.js';
+import { encodePng, pngDataUri } from '../figures/png.js';
 import { mapSvg, type MapMarker, type MapShape } from '../figures/map.js';
 import { traceRegion, RegionScratch } from '../figures/outline.js';
 import { treeSvg, type TreeNodeIn } from '../figures/tree.js';
@@ -91,6 +93,29 @@ export function displayOutlines(result: PondsResult, report: PondsReport, displa
   return shapes.sort((a, b) => H.level[Number(a.key.slice(1))] - H.level[Number(b.key.slice(1))]);
 }
 
+/** Eight tints for the catchments (hue steps of 45° at equal lightness: neighbours tell apart, none dominates). */
+const CATCH_TINTS: [number, number, number][] = Array.from({ length: 8 }, (_, k) => {
+  const h = (k * 135) % 360; // 0, 135, 270, 45, … : consecutive ids far apart in hue
+  const c = (a: number) => Math.round(255 * (0.62 + 0.2 * Math.cos(((h - a) * Math.PI) / 180)));
+  return [c(0), c(120), c(240)];
+});
+
+/** RGBA display pixels of the top-level catchments (block-centre samples at display resolution). */
+export function catchmentOverlay(top: Int32Array, width: number, height: number, f: number, dw: number, dh: number): string {
+  const ids = f === 1 ? top : blockCentreSample(top, width, height, f);
+  const px = new Uint8Array(dw * dh * 4);
+  for (let y = 0; y < dh; y++) {
+    for (let x = 0; x < dw; x++) {
+      const i = y * dw + x, id = ids[i];
+      if (id <= 0) continue;
+      const edge = (x > 0 && ids[i - 1] !== id) || (x + 1 < dw && ids[i + 1] !== id) || (y > 0 && ids[i - dw] !== id) || (y + 1 < dh && ids[i + dw] !== id);
+      const t = CATCH_TINTS[id % 8];
+      px[4 * i] = t[0]; px[4 * i + 1] = t[1]; px[4 * i + 2] = t[2]; px[4 * i + 3] = edge ? 170 : 70;
+    }
+  }
+  return pngDataUri(encodePng(px, dw, dh, 4));
+}
+
 export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: ReportContext): BuiltReport {
   const g = result.grid;
   const u = report.units;
@@ -155,7 +180,10 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
     ];
   }
 
+  // the top-level catchments as a tint under the water (each in one of eight hues, its boundary darker; none where the water leaves the map)
+  const catchPng = catchLabels ? catchmentOverlay(topLabels(catchLabels, H), g.width, g.height, f, sd.frame.dw, sd.frame.dh) : null;
   const mapNotes = [...displayNotes(sd, g, contours, zu), ...layer.notes,
+    ...(catchPng ? ['catchments: a tint per top-level depression (hues repeat), boundaries darker; untinted land drains off the map'] : []),
     `water depth: each display cell's mean depth with every depression filled to its spill level (deepest ${fz(dmax)} ${zu})`];
   if (shownDeps < deps.length || shapes.length < deps.length) mapNotes.push(`${shownDeps} largest of ${deps.length} depressions marked, ${shapes.length} outlined`);
   mapNotes.push(`outlines traced at display resolution${f > 1 ? ` (blocks of ${f} × ${f} cells)` : ''}; depressions.geojson has them cell by cell (the levels of --outlines: top-level ones by default)`);
@@ -165,7 +193,7 @@ export function buildPondsReport(result: PondsResult, report: PondsReport, ctx: 
       + `pits of the innermost depressions (downward triangles) and ${shownDeps} pour points (arrows pointing where the water spills)`
       + `${paths.length ? `, with the spill path of each (white lines: where its overflow runs when it is full)` : ''}.`,
     frame: sd.frame,
-    layers: [layer.layer, { id: 'depth', label: 'water depth', href: depthPng, visible: true }],
+    layers: [layer.layer, ...(catchPng ? [{ id: 'catchments', label: 'catchments', href: catchPng, visible: true }] : []), { id: 'depth', label: 'water depth', href: depthPng, visible: true }],
     contours, contourUnit: zu, outlines: shapes, paths, markers,
     kinds: [{ kind: 'pit', count: markers.filter((m) => m.kind === 'pit').length }, { kind: 'pour', count: shownDeps }],
     lineKeys: [{ label: 'depression outline', kind: 'outline' }, ...(paths.length ? [{ label: 'spill path', kind: 'path' as const }] : [])],
