@@ -94,3 +94,25 @@ describe('the perimeter on two threads', () => {
     expect(Array.from(two.perimeter).every((v, i) => Object.is(v, one.perimeter[i]))).toBe(true);
   });
 });
+
+describe('shape attributes on a geographic grid', () => {
+  it('in metres: the same crater laid out in degrees near 46° N gives the axes and perimeter in metres', () => {
+    // metres per degree on WGS84 at 46° N (from the ellipsoid's radii of curvature: common geodesy formulas)
+    const a0 = 6378137, f0 = 1 / 298.257223563, e2 = f0 * (2 - f0), phi = (46 * Math.PI) / 180;
+    const w0 = Math.sqrt(1 - e2 * Math.sin(phi) ** 2);
+    const mx = ((a0 / w0) * Math.cos(phi) * Math.PI) / 180, my = ((a0 * (1 - e2)) / w0 ** 3 * Math.PI) / 180;
+    const step = 1; // metres
+    const m = crater(step, 40, 20, 1, 0);
+    // the same cells, with a geotransform in degrees: 1 m east–west and north–south at 46° N
+    const w = m.width, h = m.height;
+    const g = new Grid({ width: w, height: h, values: m.values, transform: [10, step / mx, 0, 46 + (h / 2) * (step / my), 0, -step / my], crs: { epsg: 4326, geographic: true, linearUnit: 'degree' } });
+    const res = ponds(g, { connectivity: 8, euler: false });
+    expect(res.hierarchy.count).toBe(1);
+    const s = res.shapes!, hh = res.hierarchy.spillValue[1];
+    const A = 40 * Math.sqrt(hh), B = 20 * Math.sqrt(hh);
+    // within a few parts in a thousand: the crater spans about 100 m of latitude, where the scale changes by 2e-5
+    expect(Math.abs(s.majorAxis[1] - 2 * A) / (2 * A)).toBeLessThan(0.01);
+    expect(Math.abs(s.minorAxis[1] - 2 * B) / (2 * B)).toBeLessThan(0.01);
+    expect(Math.abs(s.perimeter[1] - ramanujan(A, B)) / ramanujan(A, B)).toBeLessThan(0.003);
+  });
+});

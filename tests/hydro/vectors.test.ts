@@ -271,6 +271,24 @@ describe('outlines on a geographic grid (GeographicLib)', () => {
   });
 });
 
+describe('catchment outlines on a geographic grid (GeographicLib)', () => {
+  it('the polygon area of each catchment (every level) in longitude/latitude equals its catchmentArea to 1e-9', () => {
+    const t: GeoTransform = [10, 1 / 1200, 0, 46, 0, -1 / 1200];
+    const base = cornerGrid(11, 22, 16, t);
+    const g = new Grid({ width: 22, height: 16, values: base.values, transform: t, crs: { epsg: 4326, geographic: true, linearUnit: 'degree' } });
+    const { result } = pondsReport(g, { euler: false, catchments: 'raster' });
+    const C = result.catchments!;
+    const outlines = depressionOutlines(g, C.labels!, result.hierarchy, 'all');
+    expect(outlines.length).toBeGreaterThan(3);
+    for (const o of outlines) {
+      let a = 0;
+      for (const p of o.polygons) for (const ring of p) a += geodesicRingArea(ring);
+      // Source: GeographicLib's polygon area on WGS84 (counter-clockwise positive)
+      expect(Math.abs(a - C.area[o.id]) / C.area[o.id]).toBeLessThan(1e-9);
+    }
+  });
+});
+
 describe.skipIf(!hasGdal)('GEOS accepts every outline (GDAL/OGR, live)', () => {
   it('valid Simple Features, OGR area = reported area to 1e-9, ogr2ogr converts to GeoPackage without a warning', () => {
     const dir = tempDir('sill-outlines-');
