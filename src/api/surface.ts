@@ -7,7 +7,7 @@
 import { InputError } from '../errors.js';
 import { Grid, gridValues, type Crs, type GeoTransform } from '../surface/grid.js';
 import type { Mesh } from '../surface/mesh.js';
-import { loadSurface } from '../io/load.js';
+import { loadSurface, type LoadOptions } from '../io/load.js';
 import { checkGridSize, finishValues, nodataFor } from '../io/common.js';
 import { checkGridUsable } from '../io/validate.js';
 import { checkTransformRange, checkValueRange } from '../io/range.js';
@@ -23,22 +23,8 @@ export function surfaceName(surface: Surface): string | null {
   return names.get(surface) ?? null;
 }
 
-export interface ReadSurfaceOptions {
-  /** GeoTIFF: the 1-based band to read. Default 1. */
-  band?: number;
-  /** Values equal to this are nodata (overrides a GeoTIFF's own nodata tag). Default: the file's own nodata, if any. */
-  nodata?: number;
-  /** GeoTIFF: threads that decode a large compressed file, this one included. Default: the number of cores (same values whatever the number). */
-  threads?: number;
-  /** Matrix text and .npy: map coordinates [x, y] of the centre of the first value. Default [0, 0]. */
-  origin?: [number, number];
-  /** Matrix text and .npy: step [dx, dy] along a row and from one row to the next. Default [1, 1]. */
-  spacing?: [number, number];
-  /** Column text: 1-based column numbers of x, y and value. Default [1, 2, 3]. */
-  columns?: [number, number, number];
-  /** Text: read the lines as a `matrix` of values or as x y value `columns`. Default: decided from the file (an ambiguous file is refused with a hint). */
-  layout?: 'matrix' | 'columns';
-}
+/** The options of `readSurface`: those of the loaders (src/io/load.ts), with their defaults. */
+export type ReadSurfaceOptions = LoadOptions;
 
 /**
  * Read a surface file: a GeoTIFF, a NumPy `.npy` array, or text (a matrix of values, or x y value

@@ -67,21 +67,29 @@ export interface PondsResult {
 }
 
 /** A filter threshold from the options: a number ≥ 0 (0 when not given). */
-export function checkThreshold(name: string, v: number | undefined): number {
+function checkThreshold(name: string, v: number | undefined): number {
   if (v === undefined) return 0;
   if (!Number.isFinite(v) || v < 0) throw new InputError(`${name} must be a number ≥ 0, got ${v}`);
   return v;
 }
 
-export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResult {
-  const { source, grid, connectivity, nodataOutlet } = hydroSetup('ponds', surface, opts);
-  const minDepth = checkThreshold('--min-depth', opts.minDepth);
-  const minArea = checkThreshold('--min-area', opts.minArea);
-  const minVolume = checkThreshold('--min-volume', opts.minVolume);
-  const minPersistence = checkThreshold('--min-persistence', opts.minPersistence);
+/** The filter options of ponds, checked (one line each for a bad value): the single grid's and the tiled run's. */
+export function pondsFilters(opts: HierarchyFilters & { minPersistence?: number; fillOnlyBelow?: number }): { minDepth: number; minArea: number; minVolume: number; minPersistence: number } {
+  const f = {
+    minDepth: checkThreshold('--min-depth', opts.minDepth),
+    minArea: checkThreshold('--min-area', opts.minArea),
+    minVolume: checkThreshold('--min-volume', opts.minVolume),
+    minPersistence: checkThreshold('--min-persistence', opts.minPersistence),
+  };
   if (opts.fillOnlyBelow !== undefined && !(opts.fillOnlyBelow > 0 && Number.isFinite(opts.fillOnlyBelow))) {
     throw new InputError(`--fill-only-below must be a volume > 0, got ${opts.fillOnlyBelow}`);
   }
+  return f;
+}
+
+export function ponds(surface: Grid | Mesh, opts: PondsOptions = {}): PondsResult {
+  const { source, grid, connectivity, nodataOutlet } = hydroSetup('ponds', surface, opts);
+  const { minDepth, minArea, minVolume, minPersistence } = pondsFilters(opts);
   const areas = cellAreas(grid, opts, source);
   const stage = opts.onStage ?? (() => undefined);
 

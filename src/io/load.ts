@@ -15,19 +15,19 @@ import { checkGridUsable } from './validate.js';
 import { checkValueRange, checkTransformRange } from './range.js';
 
 export interface LoadOptions {
-  /** GeoTIFF: 1-based band; default 1. */
+  /** GeoTIFF: the 1-based band to read. Default 1. */
   band?: number;
-  /** Values equal to this are nodata (overrides a GeoTIFF's own nodata tag). */
+  /** Values equal to this are nodata (overrides a GeoTIFF's own nodata tag). Default: the file's own nodata, if any. */
   nodata?: number;
-  /** GeoTIFF: threads that decode a large file, this one included; default: the number of cores. Same values whatever the number. */
+  /** GeoTIFF: threads that decode a large compressed file, this one included. Default: the number of cores (same values whatever the number). */
   threads?: number;
-  /** Matrix text and .npy: map coordinates of the centre of the first value. */
+  /** Matrix text and .npy: map coordinates [x, y] of the centre of the first value. Default [0, 0]. */
   origin?: [number, number];
-  /** Matrix text and .npy: step [dx, dy] along a row and from one row to the next. */
+  /** Matrix text and .npy: step [dx, dy] along a row and from one row to the next. Default [1, 1]. */
   spacing?: [number, number];
-  /** Column text: 1-based column numbers of x, y and value. */
+  /** Column text: 1-based column numbers of x, y and value. Default [1, 2, 3]. */
   columns?: [number, number, number];
-  /** Text: read the lines as a matrix of values or as x y value columns (when the file alone leaves it open). */
+  /** Text: read the lines as a `matrix` of values or as x y value `columns`. Default: decided from the file (an ambiguous file is refused with a hint). */
   layout?: TextLayout;
 }
 

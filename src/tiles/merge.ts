@@ -16,20 +16,12 @@
  * Global node numbers are the ranks of the nodes' creation cells in (value, index) order — the
  * single sweep's numbering, whatever the tiling.
  */
-import type { WindowSummary } from './pass1.js';
+import type { WindowSummary, NodeColumns } from './pass1.js';
 
-export interface GlobalTree {
+/** The global tree (the single sweep's, node for node; parent: the global parent). */
+export interface GlobalTree extends NodeColumns {
   /** Nodes, the outside (0) included. */
   count: number;
-  vertex: Int32Array;
-  vertexZ: Float64Array;
-  birth: Int32Array;
-  birthZ: Float64Array;
-  parent: Int32Array;
-  spill: Int32Array;
-  spillZ: Float64Array;
-  entry: Int32Array;
-  to: Int32Array;
   /** Per window: local node → its global node (final nodes), or the global node current just after its creation cell (provisional nodes; 0 = the outside). */
   windowMap: Int32Array[];
   /** Lowest valid value of the mosaic (0 when there is none). */

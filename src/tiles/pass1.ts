@@ -19,25 +19,29 @@ import type { Connectivity } from '../surface/complex.js';
 import type { WindowCells } from './windows.js';
 import { windowComplex, haloValue } from './windows.js';
 
-/** Pass 1's result for one window: typed arrays only (a worker can transfer it; a file can hold it). */
-export interface WindowSummary {
-  /** Local nodes, ω (0) included. */
-  count: number;
-  /** Node → 1 when provisional. */
-  prov: Uint8Array;
+/** A tree of sweep nodes as columns (a window's local tree, or the mosaic's global one); cells are global indices. */
+export interface NodeColumns {
   /** Node → creation cell (global index) and its value. */
   vertex: Int32Array;
   vertexZ: Float64Array;
   /** Node → lowest cell of its component (global index) and its value. */
   birth: Int32Array;
   birthZ: Float64Array;
-  /** Node → local parent (0 = outside, −1 = never spilled). */
+  /** Node → parent (in the window's tree or the global one; 0 = outside, −1 = never spilled). */
   parent: Int32Array;
   /** Node → spill cell (global, −1), its value (+∞ when none), entry (global, −1), to (global, −2 outlet, −1). */
   spill: Int32Array;
   spillZ: Float64Array;
   entry: Int32Array;
   to: Int32Array;
+}
+
+/** Pass 1's result for one window: typed arrays only (a worker can transfer it; a file can hold it). */
+export interface WindowSummary extends NodeColumns {
+  /** Local nodes, ω (0) included. */
+  count: number;
+  /** Node → 1 when provisional. */
+  prov: Uint8Array;
   /** Events in sweep order: cell (global), value, 1 when it touches an outlet, 1 when on the perimeter, the cell's local label after the sweep. */
   evCell: Int32Array;
   evZ: Float64Array;

@@ -16,7 +16,7 @@ import { cellAreas, type CellAreas, type UnitOptions } from '../hydro/areas.js';
 import { SUM_STRIDE, CELLS, SUMA, SUMAZ, TIEN, TIEA, SPILLZ, PITZ, type DepressionSweep, type NodeSums } from '../hydro/sweep.js';
 import { buildHierarchy, type Hierarchy, type HierarchyFilters } from '../hydro/hierarchy.js';
 import { pondRasters, type PondRasters } from '../hydro/rasters.js';
-import { checkThreshold } from '../hydro/ponds.js';
+import { pondsFilters } from '../hydro/ponds.js';
 import type { PondsEuler } from '../hydro/common.js';
 import type { Connectivity } from '../surface/complex.js';
 import type { CellWindow, Mosaic, MosaicTile } from './mosaic.js';
@@ -180,13 +180,7 @@ export async function pondsTiled(mosaic: Mosaic, opts: TiledPondsOptions = {}): 
   }
   const connectivity = opts.connectivity ?? 8, nodataOutlet = opts.nodataOutlet ?? true;
   if (connectivity !== 4 && connectivity !== 6 && connectivity !== 8) throw new InputError(`connectivity must be 4, 6 or 8, got ${connectivity}`);
-  const minDepth = checkThreshold('--min-depth', opts.minDepth);
-  const minArea = checkThreshold('--min-area', opts.minArea);
-  const minVolume = checkThreshold('--min-volume', opts.minVolume);
-  const minPersistence = checkThreshold('--min-persistence', opts.minPersistence);
-  if (opts.fillOnlyBelow !== undefined && !(opts.fillOnlyBelow > 0 && Number.isFinite(opts.fillOnlyBelow))) {
-    throw new InputError(`--fill-only-below must be a volume > 0, got ${opts.fillOnlyBelow}`);
-  }
+  const { minDepth, minArea, minVolume, minPersistence } = pondsFilters(opts);
   const areas = cellAreas({ transform: mosaic.transform, width: mosaic.width, height: mosaic.height, crs: mosaic.crs }, opts, source);
   const stage = opts.onStage ?? (() => undefined);
   const labels = opts.labels ?? (opts.runDir !== undefined ? folderLabelStore(opts.runDir) : memoryLabelStore());
