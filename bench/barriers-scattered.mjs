@@ -17,6 +17,7 @@ import { parseArgs } from 'node:util';
 import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { importDist, ROOT_DIR } from './lib/util.mjs';
+import { scatteredPoints } from './lib/scattered.mjs';
 
 const { values: opt } = parseArgs({
   options: {
@@ -49,20 +50,7 @@ function muellerBrown(x, y) {
 const wolfeQuapp = (x, y) => x ** 4 + y ** 4 - 2 * x * x - 4 * y * y + x * y + 0.3 * x + 0.1 * y;
 
 function samples(f, seed, win) {
-  let s = seed >>> 0;
-  const rand = () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-  const x = new Float64Array(n), y = new Float64Array(n), v = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    x[i] = win.x[0] + (win.x[1] - win.x[0]) * rand();
-    y[i] = win.y[0] + (win.y[1] - win.y[0]) * rand();
-    v[i] = f(x[i], y[i]);
-  }
+  const { x, y, v } = scatteredPoints(f, n, seed, win);
   return new Mesh(x, y, v);
 }
 

@@ -6,6 +6,7 @@
 import { readFileSync } from 'node:fs';
 import { Grid } from '../../src/surface/grid.js';
 import { Mesh } from '../../src/surface/mesh.js';
+import { scatteredPoints } from '../../bench/lib/scattered.mjs';
 
 const A = [-200, -100, -170, 15];
 const a = [-1, -1, -6.5, 0.7];
@@ -53,20 +54,7 @@ export function mbScattered(n = 5000, seed = 1979, win = { x: [-1.5, 1.2], y: [-
 
 /** f at n deterministic uniform random points (mulberry32, seeded) over the window. */
 export function scatteredSamples(f: (x: number, y: number) => number, n: number, seed: number, win: { x: number[]; y: number[] }): Mesh {
-  let s = seed >>> 0;
-  const rand = () => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-  const x = new Float64Array(n), y = new Float64Array(n), v = new Float64Array(n);
-  for (let i = 0; i < n; i++) {
-    x[i] = win.x[0] + (win.x[1] - win.x[0]) * rand();
-    y[i] = win.y[0] + (win.y[1] - win.y[0]) * rand();
-    v[i] = f(x[i], y[i]);
-  }
+  const { x, y, v } = scatteredPoints(f, n, seed, win);
   return new Mesh(x, y, v);
 }
 
