@@ -63,8 +63,7 @@ export function depressionShapes(g: Grid, labels: Int32Array, hier: Hierarchy, r
   }
   // geographic: x = (lon − lon_c)·mx(row), y = (lat − lat_c)·my(row) — local; projected: map coordinates relative to the centre
   const xc = g.x(c0, r0), yc = g.y(c0, r0);
-  const px = (c: number, r: number): number => (t[0] + (c + 0.5) * t[1] + (r + 0.5) * t[2] - xc) * sx[r];
-  const py = (c: number, r: number): number => (t[3] + (c + 0.5) * t[4] + (r + 0.5) * t[5] - yc) * sy[r];
+  const [px, py] = centrePositions(t, sx, sy, xc, yc);
 
   // --- moments and boxes, per innermost label, then up the tree (children have smaller ids)
   const S = 6;
@@ -166,8 +165,7 @@ export interface PerimeterTask {
 export function perimeterRows(task: PerimeterTask): Float64Array {
   const { width: W, height: Hh, values: z, labels, tin, tout, parent, spillValue, transform: t, sx, sy, xc, yc, connectivity } = task;
   const perimeter = new Float64Array(task.count);
-  const px = (c: number, r: number): number => (t[0] + (c + 0.5) * t[1] + (r + 0.5) * t[2] - xc) * sx[r];
-  const py = (c: number, r: number): number => (t[3] + (c + 0.5) * t[4] + (r + 0.5) * t[5] - yc) * sy[r];
+  const [px, py] = centrePositions(t, sx, sy, xc, yc);
   // pieces per corner mask (bit k: corner k inside; corners (c, r), (c+1, r), (c+1, r+1), (c, r+1)):
   // pairs of sides joined (side s joins corners s and s+1). Diagonal masks give two pieces: with
   // 8-connectivity the two inside corners are one wet area and the shoreline cuts off the outside
@@ -232,4 +230,15 @@ export function perimeterRows(task: PerimeterTask): Float64Array {
     }
   }
   return perimeter;
+}
+
+/**
+ * Positions of cell centres in the shape attributes' units: map coordinates relative to (xc, yc),
+ * scaled per row by sx, sy (the unit's metres on projected grids; metres per degree on geographic ones).
+ */
+function centrePositions(t: readonly number[], sx: Float64Array, sy: Float64Array, xc: number, yc: number): [(c: number, r: number) => number, (c: number, r: number) => number] {
+  return [
+    (c, r) => (t[0] + (c + 0.5) * t[1] + (r + 0.5) * t[2] - xc) * sx[r],
+    (c, r) => (t[3] + (c + 0.5) * t[4] + (r + 0.5) * t[5] - yc) * sy[r],
+  ];
 }
