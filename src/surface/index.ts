@@ -1,2 +1,3 @@
 export * from './grid.js';
 export * from './mesh.js';
+export * from './grid3.js';
