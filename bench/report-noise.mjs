@@ -23,6 +23,7 @@ import { writeFileSync, readFileSync, mkdtempSync, rmSync, mkdirSync, statSync, 
 import { tmpdir, cpus, totalmem, loadavg } from 'node:os';
 import { join, dirname } from 'node:path';
 import { fileURLToPath, pathToFileURL } from 'node:url';
+import { timeProcess } from './lib/util.mjs';
 
 const HERE = dirname(fileURLToPath(import.meta.url));
 const DIST = join(HERE, '..', 'dist');
@@ -36,7 +37,6 @@ const { values: opt } = parseArgs({
     png: { type: 'boolean', default: false },
     'max-old-space': { type: 'string', default: '16384' },
     mode: { type: 'string', default: 'command' },
-    child: { type: 'boolean', default: false },
     lib: { type: 'string' },
     result: { type: 'string' },
   },
@@ -66,17 +66,6 @@ if (opt.lib) {
   const cpu = process.cpuUsage(cpu0);
   writeFileSync(opt.result, JSON.stringify({ code: 0, ms: performance.now() - t0, analysisMs: tA, cpuMs: (cpu.user + cpu.system) / 1000, maxRss: process.resourceUsage().maxRSS * 1024, html }));
   process.exit(0);
-} else if (opt.child) {
-  // run the command line in this process and record its CPU time and peak memory when it exits
-  const args = process.argv.slice(process.argv.indexOf('--') + 1);
-  const cpu0 = process.cpuUsage();
-  const t0 = performance.now();
-  process.on('exit', (code) => {
-    const cpu = process.cpuUsage(cpu0);
-    writeFileSync(opt.result, JSON.stringify({ code, ms: performance.now() - t0, cpuMs: (cpu.user + cpu.system) / 1000, maxRss: process.resourceUsage().maxRSS * 1024 }));
-  });
-  process.argv = [process.argv[0], join(DIST, 'cli/main.js'), ...args];
-  await import(pathToFileURL(join(DIST, 'cli/main.js')).href);
 } else {
   if (!existsSync(join(DIST, 'cli/main.js'))) { console.error('bench/report-noise: run npm run build first'); process.exit(2); }
   const sizes = opt.sizes.split(',').map(Number), commands = opt.commands.split(','), repeat = Math.max(1, Number(opt.repeat));
@@ -115,11 +104,20 @@ if (opt.lib) {
           const flags = report ? ['--report', ...(opt.png ? ['--png'] : [])] : [];
           const args = opt.mode === 'library'
             ? ['--lib', `${cmd}|${npy}|${target}|${report ? 1 : 0}`, '--result', res, ...(opt.png ? ['--png'] : [])]
-            : ['--child', '--result', res, '--', cmd, npy, ...extra, '-o', target, '--quiet', ...flags];
-          const p = spawnSync(process.execPath, [`--max-old-space-size=${opt['max-old-space']}`, self, ...args], { encoding: 'utf8', maxBuffer: 1 << 26 });
-          const r = existsSync(res) ? JSON.parse(readFileSync(res, 'utf8')) : { code: p.status ?? p.signal, ms: NaN, cpuMs: NaN, maxRss: NaN };
-          r.code = p.status ?? p.signal;
-          if (p.status !== 0) r.error = (p.stderr || '').split('\n').find((l) => l.trim()) ?? `exit ${p.status ?? p.signal}`;
+            : [cmd, npy, ...extra, '-o', target, '--quiet', ...flags];
+          let r;
+          if (opt.mode === 'library') {
+            const p = spawnSync(process.execPath, [`--max-old-space-size=${opt['max-old-space']}`, self, ...args], { encoding: 'utf8', maxBuffer: 1 << 26 });
+            r = existsSync(res) ? JSON.parse(readFileSync(res, 'utf8')) : { code: p.status ?? p.signal, ms: NaN, cpuMs: NaN, maxRss: NaN };
+            r.code = p.status ?? p.signal;
+            if (p.status !== 0) r.error = (p.stderr || '').split('\n').find((l) => l.trim()) ?? `exit ${p.status ?? p.signal}`;
+          } else {
+            // the command as a user runs it (sill's launcher and the process it starts), under
+            // /usr/bin/time: the peak is the kernel's high-water mark of the largest of them
+            const t = timeProcess(process.execPath, [join(DIST, 'cli/main.js'), ...args]);
+            r = { code: t.status, ms: t.ms, cpuMs: t.cpuMs, maxRss: t.maxRss };
+            if (t.status !== 0) r.error = t.stderr.split('\n').find((l) => l.trim()) ?? `exit ${t.status}`;
+          }
           if (opt.mode !== 'library') r.html = report && existsSync(join(target, 'report.html')) ? statSync(join(target, 'report.html')).size : null;
           r.png = report && opt.png && existsSync(join(target, 'map.png')) ? statSync(join(target, 'map.png')).size : null;
           rmSync(target, { recursive: true, force: true });
