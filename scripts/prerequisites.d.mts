@@ -1,7 +1,7 @@
 /** Types of scripts/prerequisites.mjs (plain JavaScript so it runs before the build). */
 export declare const paths: { chromium(): string; python(): string; gdalinfo(): string };
 export interface Group {
-  id: 'browser' | 'gdal' | 'skimage' | 'numpy' | 'slurm';
+  id: 'browser' | 'gdal' | 'skimage' | 'numpy' | 'gudhi' | 'slurm';
   what: string;
   packages: string[];
   missing(): string | null;

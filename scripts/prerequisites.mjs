@@ -66,6 +66,16 @@ export const GROUPS = [
     overridden: () => !!process.env.SILL_PYTHON,
   },
   {
+    id: 'gudhi',
+    what: 'live GUDHI persistence checks of 3-D grids (tests/morse/gudhi3.test.ts)',
+    packages: ['python3-gudhi'],
+    missing: () => {
+      if (!existsSync(paths.python())) return `no Python at ${paths.python()}`;
+      return importable('gudhi') ? null : `${paths.python()} cannot import gudhi`;
+    },
+    overridden: () => !!process.env.SILL_PYTHON,
+  },
+  {
     id: 'slurm',
     what: 'cluster tests against a local single-node Slurm (tests/cluster, scripts/slurm-local.mjs)',
     packages: ['slurmctld', 'slurmd', 'slurm-client', 'munge'],

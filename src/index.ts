@@ -8,6 +8,13 @@ export { readSurface, gridFromArray, surfaceName, type Surface, type ReadSurface
 export { Grid, type GridInit, type GridValues, type GeoTransform, type Crs } from './surface/grid.js';
 export { Mesh } from './surface/mesh.js';
 export type { Connectivity, Boundary } from './surface/complex.js';
+// 3-D grids (docs/grids3d.md): the grid, its complex, and the survey as typed columns
+export { Grid3, type Grid3Init } from './surface/grid3.js';
+export { Complex3, type Complex3Options, type Connectivity3, type Boundary3, type SimplexCounts3 } from './surface/complex3.js';
+export {
+  survey3, criticalPoints3, MINIMUM, SADDLE1, SADDLE2, MAXIMUM, KIND3_NAMES,
+  type Survey3Options, type Survey3Result, type CriticalPoints3, type PersistencePairs3, type Euler3, type CriticalKind3,
+} from './morse/survey3.js';
 
 // mosaics: a GDAL VRT, a folder of GeoTIFF tiles or several GeoTIFF paths as one surface (docs/tiles.md)
 export { openMosaic, isMosaicInput, type OpenedMosaic, type MosaicOptions, type MosaicKind } from './io/mosaic.js';

@@ -10,6 +10,9 @@ import { GridComplex, type SurfaceComplex } from '../surface/complex.js';
 import { IntList } from './growable.js';
 import { sortOrder } from './order.js';
 
+/** What a sweep needs of a complex (grids and meshes in 2-D, and 3-D grids). */
+export type SweepComplex = Pick<SurfaceComplex, 'n' | 'values' | 'hasOmega' | 'omegaAdj' | 'hasTop' | 'topAdj' | 'maxDegree' | 'sublevelNbrs' | 'superlevelNbrs'>;
+
 export interface MergeTree {
   kind: 'join' | 'split';
   /** Node → vertex (−1 for the virtual vertex). Nodes are numbered in sweep order, so children come before parents. */
@@ -141,7 +144,7 @@ class TreeBuilder {
  *   tree, peaks with τ for the split tree; an upper bound will do): the tree's lists are then
  *   allocated once at about their final size. Only memory depends on it, never the result.
  */
-export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'join' | 'split', scratch?: Int32Array, leaves?: number): MergeTree {
+export function buildMergeTree(cx: SweepComplex, order: Uint32Array, kind: 'join' | 'split', scratch?: Int32Array, leaves?: number): MergeTree {
   // The loops below use no closures: optimised code then does not hold on to one call's arrays
   // and is reused from call to call (it matters for many small grids).
   const n = cx.n;
@@ -237,7 +240,7 @@ export function buildMergeTree(cx: SurfaceComplex, order: Uint32Array, kind: 'jo
 }
 
 /** Components a sweep starts, at most, from the critical points: its leaves (see buildMergeTree). */
-export function sweepLeaves(cx: SurfaceComplex, counts: { pits: number; peaks: number }, kind: 'join' | 'split'): number {
+export function sweepLeaves(cx: Pick<SurfaceComplex, 'hasTop'>, counts: { pits: number; peaks: number }, kind: 'join' | 'split'): number {
   // pits count ω already; a peak next to a wall joins τ's component instead of starting one
   return kind === 'join' ? counts.pits : counts.peaks + (cx.hasTop ? 1 : 0);
 }
