@@ -33,7 +33,7 @@ export function addCommonOptions(cmd: Command, defaults: { boundary: Boundary })
   return cmd
     .option('-o, --out <dir>', 'write the output files of this command into DIR')
     .option('--json', 'print the report object as JSON on stdout (and nothing else)')
-    .addOption(new Option('--connectivity <n>', 'grid connectivity: 8 (sublevel 8-, superlevel 4-connected), 6 (triangulated), 4').default('8'))
+    .addOption(new Option('--connectivity <n>', 'grid connectivity: 8 (sublevel 8-, superlevel 4-connected), 6 (triangulated), 4; 3-D grids: 14 (triangulated, their default) or 26').default('8'))
     .addOption(new Option('--boundary <mode>', `grid boundary: ${BOUNDARIES.join(', ')}`).default(defaults.boundary))
     .option('--min-persistence <v>', 'drop features whose persistence is below V (surface units)', '0')
     .option('--band <n>', 'band of a multi-band GeoTIFF (1-based, at most 65535)', '1')

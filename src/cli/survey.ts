@@ -15,23 +15,28 @@ import type { Mesh } from '../surface/mesh.js';
 import type { SurveyResult } from '../morse/survey.js';
 import { reportRequest, addReport, reportSummary, reportNames, type ReportRequest } from './report-option.js';
 import { buildSurveyReport } from '../render/html/survey.js';
+import { addGrid3Options, isGrid3Input, runSurvey3, type Grid3CliOptions } from './survey3.js';
+import type { Survey3Report } from '../report/survey3.js';
 
 export function registerSurvey(program: Command): void {
   const cmd = program
     .command('survey')
     .description('critical points (pits, passes, peaks), Euler check, merge trees and persistence pairs')
-    .argument('<input...>', 'GeoTIFF, .npy, or text grid / scattered samples; or a mosaic: a .vrt, a folder of GeoTIFF tiles, or several GeoTIFF paths');
-  addCommonOptions(cmd, { boundary: 'open' }).option(...NO_GPKG).action(async (input: string[], opts: SurveyCliOptions) => {
+    .argument('<input...>', 'GeoTIFF, .npy, or text grid / scattered samples; or a mosaic: a .vrt, a folder of GeoTIFF tiles, or several GeoTIFF paths; or a 3-D grid: a 3-D .npy array [z, y, x] or x y z value text');
+  addGrid3Options(addCommonOptions(cmd, { boundary: 'open' }).option(...NO_GPKG)).action(async (input: string[], opts: SurveyCliOptions, command: Command) => {
+    opts.connectivityDefault = command.getOptionValueSource('connectivity') === 'default';
+    opts.boundaryDefault = command.getOptionValueSource('boundary') === 'default';
     await runSurveyCommand(input, opts);
   });
 }
 
-export interface SurveyCliOptions extends CommonOptions {
+export interface SurveyCliOptions extends CommonOptions, Grid3CliOptions {
   /** false with --no-gpkg: no results.gpkg. */
   gpkg?: boolean;
 }
 
-export async function runSurveyCommand(input: Inputs, opts: SurveyCliOptions): Promise<SurveyReport> {
+export async function runSurveyCommand(input: Inputs, opts: SurveyCliOptions): Promise<SurveyReport | Survey3Report> {
+  if (await isGrid3Input(inputList(input), opts)) return runSurvey3(inputList(input)[0], opts);
   const progress = new Progress(opts.quiet || opts.json);
   const connectivity = parseConnectivity(opts.connectivity);
   const boundary = parseBoundary(opts.boundary);

@@ -18,7 +18,7 @@ export interface NpyReadOptions {
 
 type Kind = 'f' | 'i' | 'u';
 
-interface Dtype {
+export interface Dtype {
   kind: Kind;
   size: number;
   bigEndian: boolean;
@@ -26,7 +26,7 @@ interface Dtype {
 
 const SUPPORTED = "'<f4', '<f8', '<i2', '<i4', '|u1', '<u2' (also '|i1', '<u4' and big-endian '>' forms)";
 
-function parseDescr(path: string, descr: string): Dtype {
+export function parseDescr(path: string, descr: string): Dtype {
   const m = /^([<>|=])([fiu])(\d+)$/.exec(descr);
   const unsupported = () =>
     new InputError(`${path}: the array has dtype '${printable(descr)}', which sill does not read; save it as one of ${SUPPORTED}, e.g. with array.astype('<f8')`);
@@ -38,14 +38,15 @@ function parseDescr(path: string, descr: string): Dtype {
   return { kind, size, bigEndian: m[1] === '>' };
 }
 
-interface NpyHeader {
+export interface NpyHeader {
   dtype: Dtype;
   fortran: boolean;
   shape: number[];
   dataOffset: number;
 }
 
-async function readNpyHeader(path: string, fh: import('node:fs/promises').FileHandle, size: number): Promise<NpyHeader> {
+/** The header of a .npy file; `ndim`: the number of dimensions the caller reads (2 for a grid, 3 for a 3-D grid). */
+export async function readNpyHeader(path: string, fh: import('node:fs/promises').FileHandle, size: number, ndim: 2 | 3 = 2): Promise<NpyHeader> {
   const pre = await readAt(fh, 0, 12);
   const magic = [0x93, 0x4e, 0x55, 0x4d, 0x50, 0x59]; // \x93NUMPY
   if (pre.length < 6 || magic.some((b, i) => pre[i] !== b)) {
@@ -89,8 +90,10 @@ async function readNpyHeader(path: string, fh: import('node:fs/promises').FileHa
   if (dims.some((d) => !Number.isSafeInteger(d) || d < 0)) {
     throw new InputError(`${path}: the .npy shape (${shape[1]}) is not a list of whole numbers; save the array again`);
   }
-  if (dims.length !== 2) {
-    throw new InputError(`${path} holds a ${dims.length}-D array of shape (${dims.join(', ')}); sill needs a 2-D array (rows, columns)`);
+  if (dims.length !== ndim) {
+    throw new InputError(ndim === 2
+      ? `${path} holds a ${dims.length}-D array of shape (${dims.join(', ')}); sill needs a 2-D array (rows, columns), or a 3-D array (z, y, x) for survey`
+      : `${path} holds a ${dims.length}-D array of shape (${dims.join(', ')}); a 3-D grid needs a 3-D array indexed [z, y, x]`);
   }
   return { dtype: parseDescr(path, descr[1]), fortran: fortran[1] === 'True', shape: dims, dataOffset: headerStart + headerLen };
 }

@@ -64,7 +64,7 @@ function parseField(s: string): number | undefined {
   return m[1] === '-' ? -Infinity : Infinity;
 }
 
-interface Table {
+export interface Table {
   /** A header line (non-numeric first data line, or a comment of three names just before the data) was seen. */
   header: boolean;
   /** Row-major fields, `rows × fields`. */
@@ -79,7 +79,7 @@ function quote(s: string): string {
   return `'${printable(s)}'`;
 }
 
-function readTable(text: string, src: string): Table {
+export function readTable(text: string, src: string): Table {
   let cap = 1024;
   let data = new Float64Array(cap);
   let lines = new Uint32Array(64);
@@ -170,7 +170,7 @@ function textInfinity(src: string, line: number, col: number, v: number): InputE
 }
 
 /** Turn the nodata value into NaN and refuse infinities; `v` as read. */
-function cleanValue(v: number, nodata: number | undefined, src: string, line: number, col: number): number {
+export function cleanValue(v: number, nodata: number | undefined, src: string, line: number, col: number): number {
   if (v - v === 0) return v === nodata ? NaN : v;
   if (v !== v || v === nodata) return NaN;
   throw textInfinity(src, line, col, v);
@@ -204,7 +204,7 @@ function matrixGrid(t: Table, src: string, opts: TextSurfaceOptions): Grid {
   return new Grid({ width, height, values, transform, crs: null, nodata: nodata ?? null });
 }
 
-interface Axis {
+export interface Axis {
   lo: number;
   /** NaN when all coordinates are equal. */
   step: number;
@@ -217,7 +217,7 @@ interface Axis {
  * spacing). Values closer together than round-off count as one. Null when irregular or
  * when the lattice would need more than `maxCount` nodes.
  */
-function latticeAxis(v: Float64Array, maxCount: number): Axis | null {
+export function latticeAxis(v: Float64Array, maxCount: number): Axis | null {
   const s = Float64Array.from(v).sort();
   let m = 0;
   for (let i = 0; i < s.length; i++) if (m === 0 || s[i] !== s[m - 1]) s[m++] = s[i];
