@@ -10,6 +10,8 @@ export { Mesh } from './surface/mesh.js';
 export type { Connectivity, Boundary } from './surface/complex.js';
 // 3-D grids (docs/grids3d.md): the grid, its complex, and the survey as typed columns
 export { Grid3, type Grid3Init } from './surface/grid3.js';
+export { readGrid3, isGrid3File, type Grid3ReadOptions } from './io/grid3-read.js';
+export { survey3Report, locate3, type Survey3Report, type Survey3Run, type Location3, type CriticalPoint3Record, type Pair3Record } from './report/survey3.js';
 export { Complex3, type Complex3Options, type Connectivity3, type Boundary3, type SimplexCounts3 } from './surface/complex3.js';
 export {
   survey3, criticalPoints3, MINIMUM, SADDLE1, SADDLE2, MAXIMUM, KIND3_NAMES,
