@@ -14,7 +14,7 @@ export { readGrid3, isGrid3File, type Grid3ReadOptions } from './io/grid3-read.j
 export { survey3Report, locate3, type Survey3Report, type Survey3Run, type Location3, type CriticalPoint3Record, type Pair3Record } from './report/survey3.js';
 export { Complex3, type Complex3Options, type Connectivity3, type Boundary3, type SimplexCounts3 } from './surface/complex3.js';
 export {
-  survey3, criticalPoints3, MINIMUM, SADDLE1, SADDLE2, MAXIMUM, KIND3_NAMES,
+  criticalPoints3, MINIMUM, SADDLE1, SADDLE2, MAXIMUM, KIND3_NAMES,
   type Survey3Options, type Survey3Result, type CriticalPoints3, type PersistencePairs3, type Euler3, type CriticalKind3,
 } from './morse/survey3.js';
 
@@ -28,7 +28,7 @@ export { vrtText, type VrtLayer, type VrtSource } from './io/vrt-write.js';
 
 // the analyses: analysis(surface, options) → { report, result }
 export {
-  survey, ponds, runoff, barriers,
+  survey, ponds, runoff, barriers, survey3, type Survey3ApiOptions,
   type CommonOptions, type SurveyOptions, type HydroOptions, type PondsOptions, type RunoffOptions, type BarriersOptions,
 } from './api/analyses.js';
 

@@ -17,6 +17,9 @@ import { runoffReport, type RunoffRun } from '../report/runoff.js';
 import { barriersReport, type BarriersRun } from '../report/barriers.js';
 import { eulerFailure, checkBalance } from '../report/common.js';
 import { surfaceName, type Surface } from './surface.js';
+import type { Grid3 } from '../surface/grid3.js';
+import type { Boundary3, Connectivity3 } from '../surface/complex3.js';
+import { survey3Report, type Survey3Run } from '../report/survey3.js';
 
 /** Options every analysis of a grid takes. */
 export interface CommonOptions {
@@ -147,6 +150,36 @@ export function survey(surface: Surface, options: SurveyOptions = {}): SurveyRun
   const { input, ...opts } = options;
   const run = surveyReport(surface, opts, inputOf(surface, options));
   if (!run.report.euler.holds) throw eulerFailure(run.report.euler);
+  return run;
+}
+
+/** Options of the survey of a 3-D grid (docs/grids3d.md). */
+export interface Survey3ApiOptions {
+  /** 14 (default: Freudenthal triangulation) or 26 (flag complex of the 26-neighbour graph). */
+  connectivity?: Connectivity3;
+  /** 'closed' (default), 'open' or 'periodic' (all axes wrap). */
+  boundary?: Boundary3;
+  /** Axes that wrap, [x, y, z], with boundary 'open' or 'closed' for the others. */
+  periodicAxes?: [boolean, boolean, boolean];
+  /** Open boundary: nodata points drain to the outside (default true). */
+  nodataOutlet?: boolean;
+  /** Leave out features whose persistence is below this. Default 0. */
+  minPersistence?: number;
+  input?: string;
+}
+
+const SURVEY3_KEYS: Record<keyof Survey3ApiOptions, true> = { connectivity: true, boundary: true, periodicAxes: true, nodataOutlet: true, minPersistence: true, input: true };
+
+/** The survey of a 3-D grid: minima, index-1 and index-2 saddles, maxima, Euler check, merge trees, pairs of dimensions 0 and 2. */
+export function survey3(grid: Grid3, options: Survey3ApiOptions = {}): Survey3Run {
+  if (options === null || typeof options !== 'object') throw new InputError('survey3: options must be an object');
+  for (const k of Object.keys(options)) {
+    if (!(SURVEY3_KEYS as Record<string, true>)[k]) throw new InputError(`survey3: unknown option '${k}'; the options are ${Object.keys(SURVEY3_KEYS).join(', ')}`);
+  }
+  const { input, ...opts } = options;
+  const run = survey3Report(grid, opts, input ?? null);
+  const e = run.report.euler;
+  if (!e.holds) throw eulerFailure({ characteristic: e.characteristic, pits: e.minima, passes: e.saddles1 - e.saddles2, peaks: e.maxima, holds: false, outsidePit: e.outsidePit } as Parameters<typeof eulerFailure>[0]);
   return run;
 }
 
