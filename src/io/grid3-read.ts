@@ -89,6 +89,7 @@ export async function readGrid3(path: string, opts: Grid3ReadOptions = {}): Prom
     await fh.close().catch(() => undefined);
   }
   const grid = npy ? await readNpy3(path, opts) : await readText3(path, opts);
+  if (grid.validCount() === 0) throw new InputError(`${path}: every point of the ${grid.nx}×${grid.ny}×${grid.nz} grid is nodata; nothing to analyse (check --nodata)`);
   return withPeriods(grid, path, opts);
 }
 

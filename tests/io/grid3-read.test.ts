@@ -28,6 +28,7 @@ beforeAll(() => {
   writeFileSync(join(dir, 'irregular.txt'), 'x y z v\n0 0 0 1\n1 0 0 2\n2.5 0 0 3\n0 1 1 4\n');
   writeFileSync(join(dir, 'sparse.txt'), 'x y z v\n0 0 0 1\n1 0 0 1\n9 0 0 2\n0 1 0 1\n0 9 0 3\n0 0 1 1\n0 0 9 4\n');
   writeFileSync(join(dir, 'inf.txt'), 'x y z v\n0 0 0 1\n1 0 0 inf\n0 1 0 3\n1 1 0 4\n');
+  writeFileSync(join(dir, 'allnan.txt'), 'x y z v\n0 0 0 nan\n1 0 0 nan\n0 1 0 nan\n1 1 0 nan\n');
   writeFileSync(join(dir, 'plain.txt'), '0 0 1\n1 0 2\n0 1 3\n1 1 4\n');
   writeFileSync(join(dir, 'matrix4.txt'), '1 2 3 4\n5 6 7 8\n');
 });
@@ -93,6 +94,7 @@ describe('readGrid3', () => {
     ['spacing on text', () => readGrid3(join(dir, 'cols.csv'), { spacing: [1, 1, 1] }), /carry their own coordinates/],
     ['columns on npy', () => readGrid3(join(dir, 'c.npy'), { columns: [1, 2, 3, 4] }), /--columns applies to x y z value text/],
     ['2-D array', () => readGrid3(join(dir, 'two.npy')), /holds a 2-D array .* a 3-D grid needs a 3-D array indexed \[z, y, x\]/],
+    ['all nodata', () => readGrid3(join(dir, 'allnan.txt')), /every point of the 2×2×1 grid is nodata/],
     ['bad spacing', () => readGrid3(join(dir, 'c.npy'), { spacing: [1, 0, 1] }), /three finite numbers, all positive/],
   ];
   for (const [name, f, msg] of refusals) {
