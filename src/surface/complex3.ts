@@ -279,9 +279,18 @@ export class Complex3 {
     const omega = open ? new Uint8Array(this.n) : null;
     const top = new Uint8Array(this.n);
     let anyTop = false;
-    // only points on a face of the box, or next to nodata, touch ω or τ
+    // only points on a face of the box, or next to nodata, touch ω or τ; each is flagged once
+    const seen = new Uint8Array(this.n);
+    const subOff = this.subOff, supOff = this.supOff, ghost = this.ghostNodata;
     const flag = (i: number): void => {
-      if (v[i] !== v[i]) return;
+      if (seen[i] === 1 || v[i] !== v[i]) return;
+      seen[i] = 1;
+      if (this.interior(i)) {
+        // inside the box only nodata neighbours matter: outlets when they drain, else walls
+        if (ghost) { for (let q = 0; q < subOff.length; q++) { const x = v[i + subOff[q]]; if (x !== x) { omega![i] = 1; break; } } }
+        else { for (let q = 0; q < supOff.length; q++) { const x = v[i + supOff[q]]; if (x !== x) { top[i] = 1; anyTop = true; break; } } }
+        return;
+      }
       this.fillRing(i, this.sub);
       for (let q = 0; q < this.sub.length; q++) if (this.ring[q] === -2 && omega !== null) omega[i] = 1;
       this.fillRing(i, this.sup);
@@ -290,8 +299,10 @@ export class Complex3 {
     this.forEachFacePoint(flag);
     if (anyNodata) {
       const [nx, ny] = [this.nx, this.ny];
+      const all = Int32Array.from(ALL, (d) => d[0] + nx * (d[1] + ny * d[2]));
       for (let i = 0; i < this.n; i++) {
         if (v[i] === v[i]) continue;
+        if (this.interior(i)) { for (let q = 0; q < 26; q++) flag(i + all[q]); continue; }
         const x = i % nx, y = ((i - x) / nx) % ny, z = Math.floor(i / (nx * ny));
         for (const [dx, dy, dz] of ALL) {
           const j = this.locate(x + dx, y + dy, z + dz);
