@@ -26,7 +26,7 @@ const n = Number(opt.size), repeat = Number(opt.repeat), conn = Number(opt.conne
 
 const [g3, s3, g2, s2, cx3, ord, mt] = await Promise.all([
   importDist('surface/grid3.js'), importDist('morse/survey3.js'), importDist('surface/grid.js'), importDist('morse/survey.js'),
-  importDist('surface/complex3.js'), importDist('morse/order.js'), importDist('morse/mergetree.js'),
+  importDist('surface/complex3.js'), importDist('morse/order.js'), importDist('morse/mergetree3.js'),
 ]);
 if (!g3 || !s3) {
   console.error('bench/survey3: dist/ is incomplete — run npm run build first');
@@ -77,8 +77,8 @@ const c = lap(() => new cx3.Complex3(g, opts)); st.complex = c.wall;
 const o = lap(() => ord.sortOrder(c.out.values)); st.sort = o.wall;
 const cp = lap(() => s3.criticalPoints3(c.out)); st.critical = cp.wall;
 st.count = lap(() => c.out.countSimplices()).wall;
-st.join = lap(() => mt.buildMergeTree(c.out, o.out, 'join')).wall;
-st.split = lap(() => mt.buildMergeTree(c.out, o.out, 'split')).wall;
+st.join = lap(() => mt.buildMergeTree3(c.out, o.out, 'join')).wall;
+st.split = lap(() => mt.buildMergeTree3(c.out, o.out, 'split')).wall;
 
 const child = spawnSync(process.execPath, ['--expose-gc', fileURLToPath(import.meta.url), '--child', '--size', String(n), '--connectivity', String(conn)], { encoding: 'utf8' });
 const mem = child.status === 0 ? JSON.parse(child.stdout) : null;

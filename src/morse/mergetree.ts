@@ -31,7 +31,7 @@ export interface MergeTree {
 }
 
 /** Root of x in the union-find forest (entries p + 1 = parent p, −1 − node = root), with path halving. */
-function find(parent: Int32Array, x: number): number {
+export function find(parent: Int32Array, x: number): number {
   for (;;) {
     const p = parent[x];
     if (p < 0) return x;
@@ -43,7 +43,7 @@ function find(parent: Int32Array, x: number): number {
 }
 
 /** Append root r to roots[0 … nr−1] unless present; returns the new count. */
-function addRoot(roots: Int32Array, nr: number, r: number): number {
+export function addRoot(roots: Int32Array, nr: number, r: number): number {
   for (let t = 0; t < nr; t++) if (roots[t] === r) return nr;
   roots[nr] = r;
   return nr + 1;
@@ -58,7 +58,7 @@ function three(bits: Int32Array, j: number): number {
 }
 
 /** The tree being built: nodes, elder-rule pairs, and the merge step. */
-class TreeBuilder {
+export class TreeBuilder {
   readonly vertex: IntList;
   readonly parent: IntList;
   readonly birth: IntList;

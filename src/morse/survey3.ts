@@ -12,7 +12,8 @@ import type { Grid3 } from '../surface/grid3.js';
 import { Complex3, type Complex3Options, type LowerLinkKind, type SimplexCounts3 } from '../surface/complex3.js';
 import { IntList } from './growable.js';
 import { sortOrder } from './order.js';
-import { buildMergeTree, simplifyMergeTree, type MergeTree } from './mergetree.js';
+import { simplifyMergeTree, type MergeTree } from './mergetree.js';
+import { buildMergeTree3 } from './mergetree3.js';
 
 export const MINIMUM = 1;
 export const SADDLE1 = 2;
@@ -90,8 +91,8 @@ export function survey3(grid: Grid3, opts: Survey3Options = {}): Survey3Result {
   const critical = criticalPoints3(complex);
   const simplices = complex.countSimplices();
   const scratch = new Int32Array(complex.n + 1);
-  const join = buildMergeTree(complex, order, 'join', scratch, critical.minima);
-  const split = buildMergeTree(complex, order, 'split', scratch, critical.maxima + (complex.hasTop ? 1 : 0));
+  const join = buildMergeTree3(complex, order, 'join', scratch, critical.minima);
+  const split = buildMergeTree3(complex, order, 'split', scratch, critical.maxima + (complex.hasTop ? 1 : 0));
   const pairs = collectPairs3(complex.values, join, split);
   const { kept, removed } = simplify3(critical, pairs, minPersistence);
   const chi = simplices.characteristic;

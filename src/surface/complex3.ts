@@ -117,6 +117,32 @@ for (let m = 0; m < 1 << 14; m++) {
 }
 const F_FULL = (1 << 14) - 1;
 
+/** Lowest position of each component of the subset `mask`, as a mask. */
+export function componentReps(adj: Int32Array, mask: number): number {
+  let reps = 0, rest = mask;
+  while (rest !== 0) {
+    const low = rest & -rest;
+    let comp = low;
+    for (let grown = comp; grown !== 0;) {
+      let next = 0;
+      for (let g = grown; g !== 0; g &= g - 1) next |= adj[31 - Math.clz32(g & -g)];
+      next &= rest & ~comp;
+      comp |= next;
+      grown = next;
+    }
+    reps |= low;
+    rest &= ~comp;
+  }
+  return reps;
+}
+const F_REP = new Uint16Array(1 << 14);
+for (let m = 0; m < 1 << 14; m++) F_REP[m] = componentReps(F_ADJ, m);
+/** The 6 face neighbours are pairwise not adjacent in the 6-neighbour graph: each is its own component. */
+const FACE_ADJ = new Int32Array(6);
+const FACE_COMP = new Uint8Array(64);
+const FACE_REP = new Uint16Array(64);
+for (let m = 0; m < 64; m++) { FACE_COMP[m] = components(FACE_ADJ, m); FACE_REP[m] = m; }
+
 /**
  * Connectivity 26: χ(L) = Σ octants [L meets it] − Σ quarter-planes [L meets it] + Σ axis
  * neighbours [lower]. Every clique of the link lies in the octants (and quarter-planes, axes)
@@ -233,8 +259,9 @@ export class Complex3 {
   /** Offsets of the sublevel graph and of the superlevel graph, and their linear offsets. */
   private readonly sub: readonly (readonly [number, number, number])[];
   private readonly sup: readonly (readonly [number, number, number])[];
-  private readonly subOff: Int32Array;
-  private readonly supOff: Int32Array;
+  /** Linear offsets of the sublevel and the superlevel graph's neighbours (valid for interior points). */
+  readonly subOff: Int32Array;
+  readonly supOff: Int32Array;
   private readonly subNeg: Uint8Array;
   private readonly ring: Int32Array;
 
@@ -338,8 +365,18 @@ export class Complex3 {
     }
   }
 
+  /**
+   * For the union-find sweep upward (sublevel graph) or downward (superlevel graph): the
+   * adjacency of the graph's neighbour positions among themselves (bit masks), and a table of
+   * the components of each subset when there are at most 14 positions (null: compute them).
+   */
+  sweepLink(up: boolean): { adj: Int32Array; comps: Uint8Array | null; reps: Uint16Array | null } {
+    if (this.connectivity === 14) return { adj: F_ADJ, comps: F_COMP, reps: F_REP };
+    return up ? { adj: A_ADJ, comps: null, reps: null } : { adj: FACE_ADJ, comps: FACE_COMP, reps: FACE_REP };
+  }
+
   /** True when point i has all its 26 neighbours inside the box (no wrapping needed). */
-  private interior(i: number): boolean {
+  interior(i: number): boolean {
     const { nx, ny, nz } = this;
     const x = i % nx, r = (i - x) / nx, y = r % ny, z = (r - y) / ny;
     return x > 0 && x < nx - 1 && y > 0 && y < ny - 1 && z > 0 && z < nz - 1;

@@ -8,12 +8,14 @@
  * - χ of the grid without nodata is that of the space it models: closed box 1, 3-torus 0, a box
  *   with some periodic axes 0, open faces (all outlets identified) 0, or 1 with one periodic axis;
  * - merge trees and pairs sit on critical points of the right kinds, and simplifying by
- *   persistence keeps the Euler relation.
+ *   persistence keeps the Euler relation;
+ * - the 3-D sweep's fast path (src/morse/mergetree3.ts) builds the same trees as the general sweep.
  */
 import { describe, it, expect } from 'vitest';
 import fc from 'fast-check';
 import { Grid3 } from '../../src/surface/grid3.js';
 import { survey3, rowOf, MINIMUM, SADDLE1, SADDLE2, MAXIMUM } from '../../src/morse/survey3.js';
+import { buildMergeTree, type MergeTree } from '../../src/morse/mergetree.js';
 import type { Boundary3, Connectivity3 } from '../../src/surface/complex3.js';
 
 /** Values: whole numbers below `levels` on blocks of `block` points (plateaus), a share of NaN. */
@@ -34,7 +36,7 @@ function values3(nx: number, ny: number, nz: number, levels: number, block: numb
 }
 
 const grids = fc.record({
-  nx: fc.integer({ min: 4, max: 7 }), ny: fc.integer({ min: 4, max: 7 }), nz: fc.integer({ min: 4, max: 6 }),
+  nx: fc.integer({ min: 4, max: 8 }), ny: fc.integer({ min: 4, max: 7 }), nz: fc.integer({ min: 4, max: 7 }),
   levels: fc.integer({ min: 1, max: 6 }),
   block: fc.constantFrom(1, 1, 2, 3),
   holeRate: fc.constantFrom(0, 0, 0.05, 0.2),
@@ -55,10 +57,13 @@ function expectedChi(boundary: Boundary3, wrap: readonly boolean[]): number {
   return k === 0 ? 0 : 1;
 }
 
+const pairSet = (t: MergeTree) => Array.from(t.pairBirth, (b, k) => `${b}-${t.pairDeath[k]}`).sort();
+
 describe('3-D survey properties', () => {
   it('Euler relation, χ of the modelled space, trees and pairs on critical points', () => {
     fc.assert(fc.property(grids, (g) => {
       const v = values3(g.nx, g.ny, g.nz, g.levels, g.block, g.holeRate, g.seed);
+      if (g.levels > 3) for (let i = 0; i < v.length; i++) if (v[i] === v[i]) v[i] += Math.sin(i * 1.7) * 0.3; // some runs without ties
       const grid = new Grid3({ nx: g.nx, ny: g.ny, nz: g.nz, values: v });
       const s = survey3(grid, { connectivity: g.connectivity, boundary: g.boundary, periodicAxes: g.boundary === 'periodic' ? undefined : g.axes, nodataOutlet: g.nodataOutlet });
       const e = s.euler;
@@ -79,6 +84,14 @@ describe('3-D survey properties', () => {
       for (let r = 0; r < cp.kind.length; r++) { if (cp.kind[r] === MINIMUM) minRows++; if (cp.kind[r] === MAXIMUM) maxRows++; }
       expect(joinLeaves).toBe(minRows);
       expect(splitLeaves).toBe(maxRows);
+      // the 3-D sweep's fast path builds the trees the general sweep builds (same nodes, parents, pairs)
+      for (const [t, kind] of [[s.join, 'join'], [s.split, 'split']] as const) {
+        const g = buildMergeTree(s.complex, s.order, kind);
+        expect(Array.from(t.vertex)).toEqual(Array.from(g.vertex));
+        expect(Array.from(t.parent)).toEqual(Array.from(g.parent));
+        expect(Array.from(t.birth)).toEqual(Array.from(g.birth));
+        expect(pairSet(t)).toEqual(pairSet(g));
+      }
       // simplification by persistence cancels pairs and keeps the relation
       const t = survey3(grid, { connectivity: g.connectivity, boundary: g.boundary, periodicAxes: g.boundary === 'periodic' ? undefined : g.axes, nodataOutlet: g.nodataOutlet, minPersistence: 1.5 });
       expect(t.eulerKept.holds).toBe(true);
