@@ -4,7 +4,7 @@
  * persistence pairs of dimension 0 (join tree) and 2 (split tree, by duality). Dimension-1
  * pairs are not computed. Everything is typed columns; nothing per point is a JS object.
  *
- *   import { Grid3, survey3 } from 'sill';
+ *   import { survey3 } from '../morse/survey3.js';   // inside sill (the package's survey3 adds the report)
  *   const s = survey3(grid, { connectivity: 14, boundary: 'closed' });
  *   s.critical.vertex / kind / index / multiplicity; s.join (node columns); s.pairs
  */
