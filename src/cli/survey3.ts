@@ -14,6 +14,7 @@ import { TextSink, withFileSink, writeJson, writeCsv } from '../io/stream.js';
 import type { OutputFolder } from '../io/outdir.js';
 import { parseNodata, parseNumber, say, fmt, openOutput, Progress, THRESHOLD, VALUE_LIMIT, type CommonOptions } from './common.js';
 import { checkCellBudget, featureBudget } from './budget.js';
+import { columnCount } from './load.js';
 
 /** Options only 3-D grids take. */
 export interface Grid3CliOptions {
@@ -33,8 +34,7 @@ export function addGrid3Options(cmd: Command): Command {
 
 /** True when the (single) input is a 3-D grid; refuses 3-D-only options on other inputs. */
 export async function isGrid3Input(inputs: readonly string[], opts: CommonOptions & Grid3CliOptions): Promise<boolean> {
-  const columns4 = opts.columns !== undefined && opts.columns.split(',').length === 4;
-  const three = inputs.length === 1 && opts.layout === undefined && (await isGrid3File(inputs[0], columns4));
+  const three = inputs.length === 1 && opts.layout === undefined && (await isGrid3File(inputs[0], columnCount(opts.columns)));
   if (!three && (opts.periodicAxes !== undefined || opts.period !== undefined)) {
     throw new InputError(`--periodic-axes and --period apply to 3-D grids (a 3-D .npy array, or x y z value text); for a 2-D grid use --boundary periodic, periodic-x or periodic-y`);
   }

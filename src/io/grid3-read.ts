@@ -40,9 +40,10 @@ const AXES = 'xyz';
 
 /**
  * True when `path` holds a 3-D grid: a .npy file with a 3-D array, or text whose rows have four
- * fields under a header line of four names, or any text when `columns` names four columns.
+ * fields under a header line of four names, or any text when `--columns` names four columns.
+ * `columns`: how many column numbers --columns gives (0: none; 3 asks for x y value text).
  */
-export async function isGrid3File(path: string, columns4: boolean): Promise<boolean> {
+export async function isGrid3File(path: string, columns: number): Promise<boolean> {
   // anything that is not a readable file (a folder of tiles, a missing path) is for the 2-D readers to judge
   try {
     if (!(await stat(path)).isFile()) return false;
@@ -65,7 +66,8 @@ export async function isGrid3File(path: string, columns4: boolean): Promise<bool
     }
     const ext = extname(path).toLowerCase();
     if (ext === '.tif' || ext === '.tiff' || ext === '.vrt' || head.includes(0)) return false;
-    if (columns4) return true;
+    if (columns === 4) return true;
+    if (columns === 3) return false;
     const text = new TextDecoder('utf-8').decode(head);
     for (const raw of text.split('\n')) {
       const line = raw.trim();

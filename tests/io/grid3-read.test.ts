@@ -73,14 +73,15 @@ describe('readGrid3', () => {
   });
 
   it('which files are 3-D grids', async () => {
-    expect(await isGrid3File(join(dir, 'c.npy'), false)).toBe(true);
-    expect(await isGrid3File(join(dir, 'two.npy'), false)).toBe(false);
-    expect(await isGrid3File(join(dir, 'cols.csv'), false)).toBe(true);
-    expect(await isGrid3File(join(dir, 'plain.txt'), false)).toBe(false);
-    expect(await isGrid3File(join(dir, 'matrix4.txt'), false)).toBe(false);
-    expect(await isGrid3File(join(dir, 'matrix4.txt'), true)).toBe(true);
-    expect(await isGrid3File(join(dir, 'no-such-file'), false)).toBe(false);
-    expect(await isGrid3File(dir, false)).toBe(false);
+    expect(await isGrid3File(join(dir, 'c.npy'), 0)).toBe(true);
+    expect(await isGrid3File(join(dir, 'two.npy'), 0)).toBe(false);
+    expect(await isGrid3File(join(dir, 'cols.csv'), 0)).toBe(true);
+    expect(await isGrid3File(join(dir, 'cols.csv'), 3)).toBe(false);
+    expect(await isGrid3File(join(dir, 'plain.txt'), 0)).toBe(false);
+    expect(await isGrid3File(join(dir, 'matrix4.txt'), 0)).toBe(false);
+    expect(await isGrid3File(join(dir, 'matrix4.txt'), 4)).toBe(true);
+    expect(await isGrid3File(join(dir, 'no-such-file'), 0)).toBe(false);
+    expect(await isGrid3File(dir, 0)).toBe(false);
   });
 
   const refusals: [string, () => Promise<unknown>, RegExp][] = [

@@ -39,15 +39,16 @@ describe('npm test set-up (scripts/test.mjs)', () => {
     expect(r.lines.some((l) => /installing/.test(l))).toBe(false);
   });
 
-  it('lists every absent group: Python missing takes the GDAL, scikit-image and NumPy checks with it', () => {
+  it('lists every absent group: Python missing takes the GDAL, scikit-image, NumPy and GUDHI checks with it', () => {
     const r = runner({ SILL_CHROMIUM: '/nonexistent/chromium', SILL_PYTHON: '/nonexistent/python3' });
     const last = r.lines[r.lines.length - 1];
-    expect(last).toMatch(/^sill test: skipped 4 groups: /);
+    expect(last).toMatch(/^sill test: skipped 5 groups: /);
     expect(last).toContain('gdal — GDAL read-back checks');
     expect(last).toContain('skimage — live scikit-image reference checks');
     expect(last).toContain('numpy — the NumPy example of docs/library.md');
+    expect(last).toContain('gudhi — live GUDHI persistence checks of 3-D grids');
     expect(last).toContain('no Python at /nonexistent/python3');
-    expect(last).toMatch(/apt-get install -y chromium gdal-bin python3-gdal python3-skimage python3-numpy/);
+    expect(last).toMatch(/apt-get install -y chromium gdal-bin python3-gdal python3-skimage python3-numpy python3-gudhi/);
   });
 
   it('in CI a missing prerequisite fails the run instead of skipping', () => {
