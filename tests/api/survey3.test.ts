@@ -17,6 +17,21 @@ describe('survey3 (library)', () => {
     expect(typeof readGrid3).toBe('function');
   });
 
+  it('minPersistence cancels the pairs of dimensions 0 and 2 only: on the 3-torus one minimum and one maximum stay', () => {
+    const nx = 16, ny = 12, nz = 18;
+    const values = new Float64Array(nx * ny * nz);
+    for (let k = 0; k < nz; k++) for (let j = 0; j < ny; j++) for (let i = 0; i < nx; i++) {
+      values[i + nx * (j + ny * k)] = Math.cos((4 * Math.PI * (i + 0.37)) / nx) + 0.8 * Math.cos((2 * Math.PI * (j + 0.21)) / ny) + 1.3 * Math.cos((6 * Math.PI * (k + 0.13)) / nz);
+    }
+    const { report } = survey3(new Grid3({ nx, ny, nz, values }), { boundary: 'periodic', minPersistence: 100 });
+    // Source: product formula 6 + 18t + 18t² + 6t³ for the critical points; b0 = b3 = 1 for the
+    // 3-torus, so 5 minimum–saddle and 5 saddle–maximum pairs are finite and cancelled.
+    expect(report.euler).toMatchObject({ minima: 6, saddles1: 18, saddles2: 18, maxima: 6, holds: true });
+    expect(report.eulerKept).toMatchObject({ minima: 1, saddles1: 13, saddles2: 13, maxima: 1, holds: true });
+    expect(report.counts.removedPairs).toEqual({ dim0: 5, dim2: 5 });
+    expect(report.pairs.length).toBe(0);
+  });
+
   it('refuses unknown options and 2-D settings with one line', () => {
     const g = new Grid3({ nx: 4, ny: 4, nz: 4, values: new Float64Array(64) });
     expect(() => survey3(g, { threads: 2 } as never)).toThrow(InputError);
