@@ -18,7 +18,7 @@ import type { Crs } from '../surface/grid.js';
 /** Bytes of a batch (a row larger than this gets a batch of its own size). */
 const BATCH_BYTES = 1 << 20;
 /** Batches handed over and not yet written before the writer waits. */
-const MAX_IN_FLIGHT = 4;
+const MAX_IN_FLIGHT = 8;
 /** How long the writer waits for the thread to take one batch before it gives up. */
 const STALL_MS = 5 * 60_000;
 
