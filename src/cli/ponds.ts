@@ -16,7 +16,8 @@ import { writeCatchmentsGeojson } from '../report/catchments-geojson.js';
 import { toWgs84 } from '../hydro/reproject.js';
 import { stageVolume } from '../hydro/stage.js';
 import type { OutputFolder } from '../io/outdir.js';
-import { GeoPackageWriter } from '../io/gpkg.js';
+import { openGeoPackage, type GeoPackageOutput } from '../io/gpkg-thread.js';
+import { defaultThreads } from '../io/tile-encoder.js';
 import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, NO_GPKG, inputTime, GPKG_FILE, THRESHOLD, AREA_THRESHOLD, type NumberLimits } from './common.js';
 import {
   parseOpenBoundary, parseNodataAs, parseZAndStage, checkHydroReport, printReport, writeReportFile, writeIdCsv,
@@ -170,7 +171,7 @@ export function pondsFiles(mosaic: boolean): string[] {
 
 export async function writePondsFiles(out: OutputFolder, result: PondsResult, report: PondsReport, w: WriteOptions = { project: null }): Promise<string[]> {
   let rasters: Promise<void>[] = [];
-  let gpkg: GeoPackageWriter | null = null;
+  let gpkg: GeoPackageOutput | null = null;
   try {
     const g = result.grid;
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
@@ -196,7 +197,8 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     const levels = w.outlines ?? 'top';
     const meta = { name: 'depressions', description: depressionsDescription(levels), units: report.units, caution: report.caution };
     w.progress?.stage(`tracing outlines, writing depressions.geojson${w.gpkg !== false ? ' and results.gpkg' : ''}`);
-    if (w.gpkg !== false) gpkg = new GeoPackageWriter(out.path(GPKG_FILE), g.crs, { lastChange: w.gpkg });
+    // results.gpkg is written by a thread of its own (with more than one) from the rows this thread makes
+    if (w.gpkg !== false) gpkg = openGeoPackage(out.path(GPKG_FILE), g.crs, { lastChange: w.gpkg, thread: (w.threads ?? defaultThreads()) > 1 });
     const features = writeDepressionsGeojson(out.path('depressions.geojson'), w.project ? out.path('depressions-wgs84.geojson') : null, result, report.depressions.columns, levels, w.project, meta, gpkg);
     report.outlines = { levels, features, depressions: report.depressions.length, note: outlinesNote(levels, features, report.depressions.length) };
     await out.checkpoint();
@@ -209,8 +211,6 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     await out.checkpoint();
     w.progress?.stage('tracing catchments, writing catchments.geojson');
     writeCatchmentsGeojson(out.path('catchments.geojson'), result, catch0, levels, meta, gpkg);
-    gpkg?.finish();
-    gpkg = null;
     await out.checkpoint();
     w.progress?.stage('writing depressions.csv');
     const cols = report.depressions.columns;
@@ -224,11 +224,13 @@ export async function writePondsFiles(out: OutputFolder, result: PondsResult, re
     await out.checkpoint();
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'depressions.csv', 'depressions.geojson', 'pour-points.geojson', 'spill-paths.geojson', 'catchments.geojson', ...rasterFiles(PONDS_RASTERS, !!w.mosaic)], (ctx) => buildPondsHtml(result, report, ctx));
+    await gpkg?.finish();
+    gpkg = null;
     await Promise.all(rasters);
     return await out.commit();
   } catch (e) {
     await Promise.allSettled(rasters); // every raster writer has finished (and removed its temporary file)
-    gpkg?.abort();
+    await gpkg?.abort();
     throw out.fail(e);
   }
 }

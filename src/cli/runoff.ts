@@ -10,7 +10,9 @@ import { loadSurface } from '../io/index.js';
 import { formatNumber as jn } from '../io/stream.js';
 import { writeOutlineGeometry, outlineRings } from '../hydro/vectors.js';
 import type { OutputFolder } from '../io/outdir.js';
-import { GeoPackageWriter, type GpkgLayerSpec } from '../io/gpkg.js';
+import type { GpkgLayerSpec } from '../io/gpkg.js';
+import { openGeoPackage, type GeoPackageOutput } from '../io/gpkg-thread.js';
+import { defaultThreads } from '../io/tile-encoder.js';
 import type { Grid } from '../surface/grid.js';
 import { addCommonOptions, parseNumber, parseThreads, Progress, say, fmt, openOutput, NO_GPKG, inputTime, THRESHOLD, GPKG_FILE } from './common.js';
 import {
@@ -164,7 +166,7 @@ export const PONDS_LAYER: GpkgLayerSpec = {
 
 export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, report: RunoffReport, w: WriteOptions = {}): Promise<string[]> {
   let rasters: Promise<void>[] = [];
-  let gpkg: GeoPackageWriter | null = null;
+  let gpkg: GeoPackageOutput | null = null;
   try {
     const g = result.grid;
     const base = { width: g.width, height: g.height, transform: g.transform, crs: g.crs };
@@ -188,7 +190,8 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     };
     const B = result.bodies;
     let features = 0;
-    if (w.gpkg !== false) gpkg = new GeoPackageWriter(out.path(GPKG_FILE), g.crs, { lastChange: w.gpkg });
+    // results.gpkg is written by a thread of its own (with more than one) from the rows this thread makes
+    if (w.gpkg !== false) gpkg = openGeoPackage(out.path(GPKG_FILE), g.crs, { lastChange: w.gpkg, thread: (w.threads ?? defaultThreads()) > 1 });
     const layer = gpkg?.layer(PONDS_LAYER) ?? null;
     withCollection(out.path('ponds.geojson'), g.crs, meta, (fc) => {
       // one polygon per pond, written as it is traced
@@ -199,8 +202,6 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
         layer?.polygons(b, outlineRings(o, g.transform), ['pond', b, B.volume[b], B.level[b], B.area[b], B.cells[b], B.maxDepth[b], B.depression[b] > 0 ? B.depression[b] : null, B.full[b] === 1]);
       });
     });
-    gpkg?.finish();
-    gpkg = null;
     if (features !== B.count) throw new Error(`${features} pond outlines traced for ${B.count} ponds (internal error)`);
     report.outlines = { features, note: `ponds.geojson outlines all ${features} ponds` };
     await out.checkpoint();
@@ -216,10 +217,12 @@ export async function writeRunoffFiles(out: OutputFolder, result: RunoffResult, 
     await out.checkpoint();
     w.progress?.stage('writing the report');
     addReport(out, w.render, ['report.json', 'runoff.csv', 'ponds.geojson', ...rasterFiles(RUNOFF_RASTERS, !!w.mosaic)], (ctx) => buildRunoffHtml(result, report, ctx));
+    await gpkg?.finish();
+    gpkg = null;
     await Promise.all(rasters);
     return await out.commit();
   } catch (e) {
-    gpkg?.abort();
+    await gpkg?.abort();
     await Promise.allSettled(rasters); // every raster writer has finished (and removed its temporary file)
     throw out.fail(e);
   }

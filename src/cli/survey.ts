@@ -5,7 +5,9 @@ import { collectionHead } from '../io/tables.js';
 import { TextSink, withFileSink, writeJson, writeCsv, writePointCollection } from '../io/stream.js';
 import { KIND_NAMES } from '../morse/critical.js';
 import type { OutputFolder } from '../io/outdir.js';
-import { GeoPackageWriter, type GpkgLayerSpec } from '../io/gpkg.js';
+import type { GpkgLayerSpec } from '../io/gpkg.js';
+import { openGeoPackage, type GeoPackageOutput } from '../io/gpkg-thread.js';
+import { defaultThreads } from '../io/tile-encoder.js';
 import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, fmtCoord, openOutput, THRESHOLD, GPKG_FILE, NO_GPKG, inputTime, type CommonOptions } from './common.js';
 import { prepareInput, inputList, mosaicInfo, type Inputs } from './mosaic.js';
 import { checkCellBudget, featureBudget } from './budget.js';
@@ -55,7 +57,7 @@ export async function runSurveyCommand(input: Inputs, opts: SurveyCliOptions): P
   if (mosaic) Object.assign(report, { mosaic: mosaicInfo(mosaic) });
   progress.done();
   if (!report.euler.holds) throw eulerFailure(report.euler);
-  if (out) await writeSurveyFiles(out, surface, result, report, render, opts.gpkg !== false && inputTime(src.files[0]));
+  if (out) await writeSurveyFiles(out, surface, result, report, render, opts.gpkg !== false && inputTime(src.files[0]), threads);
   if (opts.json) writeJsonStdout(report);
   say(opts, surveySummary(report, opts.out, opts.gpkg !== false));
   if (render && opts.out) say(opts, reportSummary(opts.out, render));
@@ -73,8 +75,8 @@ export const CRITICAL_POINTS_LAYER: GpkgLayerSpec = {
   columns: [['kind', 'TEXT'], ['value', 'REAL'], ['multiplicity', 'INTEGER'], ['col', 'INTEGER'], ['row', 'INTEGER'], ['onEdge', 'BOOLEAN']],
 };
 
-export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, result: SurveyResult, report: SurveyReport, render?: ReportRequest | null, gpkg: Date | false = new Date()): Promise<string[]> {
-  let gp: GeoPackageWriter | null = null;
+export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, result: SurveyResult, report: SurveyReport, render?: ReportRequest | null, gpkg: Date | false = new Date(), threads?: number): Promise<string[]> {
+  let gp: GeoPackageOutput | null = null;
   try {
     withFileSink(out.path('report.json'), (sink) => { writeJson(sink, report, 1); sink.write('\n'); });
     await out.checkpoint();
@@ -100,14 +102,13 @@ export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, 
     await out.checkpoint();
     if (gpkg !== false) {
       // the same points as critical-points.geojson, fid = its feature id + 1
-      gp = new GeoPackageWriter(out.path(GPKG_FILE), surface.crs, { lastChange: gpkg });
+      // written by a thread of its own (with more than one) while this one writes merge-tree.json
+      gp = openGeoPackage(out.path(GPKG_FILE), surface.crs, { lastChange: gpkg, thread: (threads ?? defaultThreads()) > 1 });
       const layer = gp.layer(CRITICAL_POINTS_LAYER);
       for (let k = 0; k < K.vertex.length; k++) {
         const c = at(k);
         layer.point(k + 1, c.x, c.y, [c.kind, c.value, c.multiplicity, c.col, c.row, c.onEdge]);
       }
-      gp.finish();
-      gp = null;
       await out.checkpoint();
     }
     const values = result.complex.values;
@@ -122,9 +123,11 @@ export async function writeSurveyFiles(out: OutputFolder, surface: Grid | Mesh, 
     });
     await out.checkpoint();
     addReport(out, render, ['report.json', 'critical-points.csv', 'critical-points.geojson', 'merge-tree.json'], (ctx) => buildSurveyReport(surface, result, report, ctx));
+    await gp?.finish();
+    gp = null;
     return await out.commit();
   } catch (e) {
-    gp?.abort();
+    await gp?.abort();
     throw out.fail(e);
   }
 }

@@ -48,7 +48,8 @@ export interface SrsRow {
  * machine where its native part did not build still runs every command with --no-gpkg.
  */
 let sqlite: typeof Database | null = null;
-function openDatabase(path: string): Database.Database {
+/** better-sqlite3, or the one-line error saying that it did not load. */
+export function loadSqlite(): typeof Database {
   if (!sqlite) {
     try {
       sqlite = createRequire(import.meta.url)('better-sqlite3') as typeof Database;
@@ -56,7 +57,11 @@ function openDatabase(path: string): Database.Database {
       throw new Error(`results.gpkg needs the better-sqlite3 package, which did not load (${(e as Error).message.split('\n')[0]}); reinstall sill so that it builds, or pass --no-gpkg`);
     }
   }
-  return new sqlite(path);
+  return sqlite;
+}
+function openDatabase(path: string): Database.Database {
+  const Sqlite = loadSqlite();
+  return new Sqlite(path);
 }
 
 /** Rows written between commits. */
@@ -143,7 +148,7 @@ const ERRNO: Record<string, string> = {
 };
 
 /** A SQLite error from a file-system failure as a file-system error (`code` ENOSPC, EIO …) naming the file; others unchanged. */
-function asFsError(e: unknown, path: string): unknown {
+export function asFsError(e: unknown, path: string): unknown {
   const code = (e as { code?: unknown })?.code;
   if (typeof code !== 'string' || !code.startsWith('SQLITE_')) return e;
   const errno = ERRNO[code] ?? ERRNO[code.replace(/_[A-Z]+$/, '')];
@@ -172,12 +177,28 @@ function rtreeTriggers(t: string, c: string, i: string): string[] {
 const FID = 'fid';
 const GEOM = 'geom';
 
+/** What the feature writers need of a GeoPackage being written: a layer to put rows into. */
+export interface GpkgLayers {
+  layer(spec: GpkgLayerSpec): GpkgLayer;
+}
+
+/** Where a layer's rows go: SQLite on this thread, or a batch for the writing thread (gpkg-thread.ts). */
+export interface GpkgRowOut {
+  /** One row: `blob` the geometry (null: none), `indexed` whether its envelope goes into the R-tree. */
+  put(fid: number, blob: Uint8Array | null, values: readonly GpkgValue[], x0: number, y0: number, x1: number, y1: number, indexed: boolean): void;
+}
+
+/** A value as it is bound: booleans as 1/0, non-finite numbers as NULL. */
+export function bindValue(v: GpkgValue): number | string | null {
+  return typeof v === 'boolean' ? (v ? 1 : 0) : typeof v === 'number' && !Number.isFinite(v) ? null : v;
+}
+
 /**
  * A GeoPackage being written: `layer()` opens a feature table, rows go in one at a time,
  * `finish()` writes the extents, the indexes' triggers and closes the file; `abort()` closes and
  * deletes it. Layers may be written interleaved (one transaction spans them).
  */
-export class GeoPackageWriter {
+export class GeoPackageWriter implements GpkgLayers {
   private readonly db: Database.Database;
   private readonly layers: GpkgLayer[] = [];
   private pending = 0;
@@ -277,7 +298,7 @@ CREATE TABLE gpkg_extensions (
     const names = spec.columns.map(([n]) => ', ' + q(n)).join('');
     const insert = db.prepare(`INSERT INTO ${q(t)} (${q(FID)}, ${q(GEOM)}${names}) VALUES (?, ?${marks})`);
     const index = db.prepare(`INSERT INTO ${q(`rtree_${t}_${GEOM}`)} VALUES (?, ?, ?, ?, ?)`);
-    const layer = new GpkgLayer(this, spec, insert, index);
+    const layer = new GpkgLayer(spec, this.srs.srsId, new DirectRows(this, spec, insert, index));
     this.layers.push(layer);
     return layer;
   }
@@ -323,24 +344,40 @@ CREATE TABLE gpkg_extensions (
   }
 }
 
+/** Rows into SQLite on this thread: the layer table's INSERT and the R-tree's, one transaction per ROWS_PER_TRANSACTION rows. */
+class DirectRows implements GpkgRowOut {
+  private readonly args: unknown[];
+  constructor(private readonly gp: GeoPackageWriter, spec: GpkgLayerSpec, private readonly insert: Database.Statement, private readonly index: Database.Statement) {
+    this.args = new Array(2 + spec.columns.length);
+  }
+
+  put(fid: number, blob: Uint8Array | null, values: readonly GpkgValue[], x0: number, y0: number, x1: number, y1: number, indexed: boolean): void {
+    const a = this.args;
+    a[0] = fid;
+    a[1] = blob === null ? null : Buffer.from(blob.buffer, blob.byteOffset, blob.byteLength);
+    for (let k = 0; k < values.length; k++) a[k + 2] = bindValue(values[k]);
+    try {
+      this.insert.run(a);
+      if (indexed) this.index.run(fid, x0, x1, y0, y1);
+    } catch (e) {
+      throw asFsError(e, this.gp.path);
+    }
+    this.gp.tick();
+  }
+}
+
 /** One feature table being written. */
 export class GpkgLayer {
   /** [minx, miny, maxx, maxy] over the rows written (empty: min > max). */
   readonly extent = [Infinity, Infinity, -Infinity, -Infinity];
-  private readonly args: unknown[];
   private buf = new ArrayBuffer(1 << 16);
   private view = new DataView(this.buf);
   private bytes = new Uint8Array(this.buf);
   private pos = 0;
-  private readonly srsId: number;
   /** Rows written. */
   count = 0;
 
-  constructor(private readonly gp: GeoPackageWriter, readonly spec: GpkgLayerSpec,
-    private readonly insert: Database.Statement, private readonly index: Database.Statement) {
-    this.args = new Array(2 + spec.columns.length);
-    this.srsId = gp.srs.srsId;
-  }
+  constructor(readonly spec: GpkgLayerSpec, private readonly srsId: number, private readonly out: GpkgRowOut) {}
 
   /** A point feature. */
   point(fid: number, x: number, y: number, values: readonly GpkgValue[]): void {
@@ -432,27 +469,24 @@ export class GpkgLayer {
   private f64(v: number): void { this.view.setFloat64(this.pos, v, true); this.pos += 8; }
 
   private row(fid: number, values: readonly GpkgValue[], x0: number, y0: number, x1: number, y1: number, none = false, empty = false): void {
-    const a = this.args;
-    a[0] = fid;
-    if (none) a[1] = null;
-    else {
+    let blob: Uint8Array | null = null;
+    if (!none) {
       if (this.envelope) {
         const v = this.view;
         v.setFloat64(8, x0, true); v.setFloat64(16, x1, true); v.setFloat64(24, y0, true); v.setFloat64(32, y1, true);
       }
-      a[1] = Buffer.from(this.buf, 0, this.pos);
+      blob = this.bytes.subarray(0, this.pos);
     }
-    for (let k = 0; k < values.length; k++) {
-      const v = values[k];
-      a[k + 2] = typeof v === 'boolean' ? (v ? 1 : 0) : typeof v === 'number' && !Number.isFinite(v) ? null : v;
-    }
-    try {
-      this.insert.run(a);
-      if (!none && !empty) this.index.run(fid, x0, x1, y0, y1);
-    } catch (e) {
-      throw asFsError(e, this.gp.path);
-    }
-    if (!none && !empty) {
+    this.raw(fid, blob, values, x0, y0, x1, y1, !none && !empty);
+  }
+
+  /**
+   * A row whose geometry blob is already made (the writing thread's side of gpkg-thread.ts):
+   * `indexed` puts its envelope into the R-tree and the layer's extent.
+   */
+  raw(fid: number, blob: Uint8Array | null, values: readonly GpkgValue[], x0: number, y0: number, x1: number, y1: number, indexed: boolean): void {
+    this.out.put(fid, blob, values, x0, y0, x1, y1, indexed);
+    if (indexed) {
       const e = this.extent;
       if (x0 < e[0]) e[0] = x0;
       if (y0 < e[1]) e[1] = y0;
@@ -460,7 +494,6 @@ export class GpkgLayer {
       if (y1 > e[3]) e[3] = y1;
     }
     this.count++;
-    this.gp.tick();
   }
 }
 

@@ -9,7 +9,7 @@ import type { PondsResult } from '../hydro/ponds.js';
 import { traceDepressionOutlines, writeOutlineGeometry, outlineRings, type OutlineLevels } from '../hydro/vectors.js';
 import { collectionHead } from '../io/tables.js';
 import { TextSink, FeatureCollectionWriter, formatNumber as jn } from '../io/stream.js';
-import type { GeoPackageWriter, GpkgLayerSpec } from '../io/gpkg.js';
+import type { GpkgLayers, GpkgLayerSpec } from '../io/gpkg.js';
 
 /** The catchments layer of results.gpkg: the properties of catchments.geojson as typed columns. */
 export const CATCHMENTS_LAYER: GpkgLayerSpec = {
@@ -24,7 +24,7 @@ export const CATCHMENTS_LAYER: GpkgLayerSpec = {
  * ids); returns how many catchments were written.
  */
 export function writeCatchmentsGeojson(path: string, result: PondsResult, catchments: Int32Array, levels: OutlineLevels,
-  meta: { units: unknown; caution: string }, gpkg: GeoPackageWriter | null = null): number {
+  meta: { units: unknown; caution: string }, gpkg: GpkgLayers | null = null): number {
   const g = result.grid, H = result.hierarchy, C = result.catchments;
   if (!C) throw new Error('internal: catchments.geojson needs the catchments');
   const sink = TextSink.file(path);

@@ -8,7 +8,7 @@
  */
 import type { PondsResult } from '../hydro/ponds.js';
 import { traceDepressionOutlines, writeOutlineGeometry, outlineCount, outlineRings, type OutlineLevels } from '../hydro/vectors.js';
-import type { GeoPackageWriter, GpkgLayer, GpkgLayerSpec } from '../io/gpkg.js';
+import type { GpkgLayers, GpkgLayer, GpkgLayerSpec } from '../io/gpkg.js';
 import { collectionHead } from '../io/tables.js';
 import { TextSink, FeatureCollectionWriter, featureJson, pointJson, formatNumber as jn } from '../io/stream.js';
 import { childrenText, type DepressionColumns } from './hydro-common.js';
@@ -86,7 +86,7 @@ export function outlinesNote(levels: OutlineLevels, features: number, total: num
  * how many were written.
  */
 export function writeDepressionsGeojson(path: string, wgsPath: string | null, result: PondsResult, cols: DepressionColumns, levels: OutlineLevels,
-  project: Project, meta: Record<string, unknown>, gpkg: GeoPackageWriter | null = null): number {
+  project: Project, meta: Record<string, unknown>, gpkg: GpkgLayers | null = null): number {
   const g = result.grid, H = result.hierarchy;
   const sink = TextSink.file(path);
   const wgs = wgsPath && project ? TextSink.file(wgsPath) : null;
@@ -116,7 +116,7 @@ export const POUR_POINTS_DESCRIPTION = 'pour points: for each depression the pas
 
 /** pour-points.geojson (and, with `project`, pour-points-wgs84.geojson alongside): a point per depression, streamed from the columns. */
 export function writePourPointsGeojson(path: string, wgsPath: string | null, result: PondsResult, cols: DepressionColumns, project: Project, meta: Record<string, unknown>,
-  gpkg: GeoPackageWriter | null = null): void {
+  gpkg: GpkgLayers | null = null): void {
   const g = result.grid, H = result.hierarchy, W = g.width;
   const sink = TextSink.file(path);
   const wgs = wgsPath && project ? TextSink.file(wgsPath) : null;

@@ -7,7 +7,7 @@ import type { PondsResult } from '../hydro/ponds.js';
 import { SpillPaths, type SpillPath } from '../hydro/spill-paths.js';
 import { collectionHead } from '../io/tables.js';
 import { TextSink, FeatureCollectionWriter, formatNumber as jn } from '../io/stream.js';
-import type { GeoPackageWriter, GpkgLayerSpec } from '../io/gpkg.js';
+import type { GpkgLayers, GpkgLayerSpec } from '../io/gpkg.js';
 
 /** The spill-paths layer of results.gpkg: the features of spill-paths.geojson (`to`: NULL for the outside; `arrives`: the GeoJSON value as text — a depression id, "outside" or "pit"). */
 export const SPILL_PATHS_LAYER: GpkgLayerSpec = {
@@ -23,7 +23,7 @@ function arrivesJson(p: SpillPath): string {
 }
 
 /** Write spill-paths.geojson at `path` (and, with `gpkg`, the same features as its layer `spill-paths`); `catchments` is the catchment of every cell (`result.catchments.labels`). */
-export function writeSpillPathsGeojson(path: string, result: PondsResult, catchments: Int32Array, meta: { units: unknown; caution: string }, gpkg: GeoPackageWriter | null = null): void {
+export function writeSpillPathsGeojson(path: string, result: PondsResult, catchments: Int32Array, meta: { units: unknown; caution: string }, gpkg: GpkgLayers | null = null): void {
   const g = result.grid, H = result.hierarchy;
   const maker = new SpillPaths(g, result.complex, H, catchments, result.options.connectivity, result.options.nodataOutlet, !result.areas.uniform, result.catchments?.resume ?? null);
   const sink = TextSink.file(path);

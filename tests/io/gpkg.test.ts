@@ -5,11 +5,13 @@
  * 6, 7, 10–13 and the gpkg_rtree_index extension).
  */
 import { describe, it, expect, beforeAll } from 'vitest';
-import { existsSync, mkdtempSync } from 'node:fs';
+import { existsSync, mkdtempSync, readFileSync } from 'node:fs';
+import fc from 'fast-check';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { spawnSync } from 'node:child_process';
-import { GeoPackageWriter, epsgWkt, srsFor, GPKG_APPLICATION_ID, GPKG_USER_VERSION, type GpkgLayerSpec } from '../../src/io/gpkg.js';
+import { GeoPackageWriter, epsgWkt, srsFor, GPKG_APPLICATION_ID, GPKG_USER_VERSION, type GpkgLayerSpec, type GpkgLayers } from '../../src/io/gpkg.js';
+import { openGeoPackage, gpkgWorkerScript } from '../../src/io/gpkg-thread.js';
 import type { Crs } from '../../src/surface/grid.js';
 import { PYTHON, runs, skipNote } from '../prereq.js';
 import { readGpkg, ogr2ogrLayer } from './gpkg-gdal.js';
@@ -182,6 +184,70 @@ print(json.dumps(out))
     gp2.layer(POINTS);
     expect(() => gp2.layer(POINTS)).toThrow(/already exists/);
     gp2.abort();
+    expect(existsSync(path)).toBe(false);
+  });
+});
+
+describe('GeoPackage written on a worker thread (src/io/gpkg-thread.ts)', () => {
+  const when = new Date('2026-01-02T03:04:05.678Z');
+  /** The sample's layers (and texts beyond the short-ASCII path) through either writer. */
+  async function sample(path: string, thread: boolean, extra: (gp: GpkgLayers) => void = () => undefined): Promise<void> {
+    const gp = openGeoPackage(path, { epsg: 32633 }, { lastChange: when, thread });
+    const p = gp.layer(POINTS);
+    pts.forEach(([x, y, name, v, n, ok], i) => p.point(i + 1, x, y, [name, v, n, ok]));
+    p.point(9, 1, 2, ['a text longer than sixty-four characters, to take the general UTF-8 path — ✓', -0, 2 ** 53 + 2, false]);
+    const a = gp.layer(AREAS);
+    for (const [fid, g, label, area] of polys) a.polygons(fid, g, [label, area]);
+    const l = gp.layer(LINES);
+    for (const [fid, xy] of lines) l.line(fid, xy, [`path ${fid}`]);
+    l.line(7, null, [null]);
+    extra(gp);
+    await gp.finish();
+  }
+
+  it('the worker script is built (a missing build must fail here, not fall back to one thread)', () => {
+    expect(gpkgWorkerScript()).not.toBeNull();
+  });
+
+  it('the same bytes as the single-thread writer: point, polygon and line layers, and more rows than one transaction and one batch hold', async () => {
+    const many = (gp: GpkgLayers) => {
+      const m = gp.layer({ name: 'many', geometry: 'MULTILINESTRING', columns: [['k', 'INTEGER'], ['t', 'TEXT']] });
+      const xy = Float64Array.from({ length: 40 }, (_, k) => k * 0.5), starts = Int32Array.from([0, 5, 12]);
+      for (let k = 0; k < 20_005; k++) m.lines(k + 1, xy, starts, k % 4, 20, [k, k % 3 ? `row ${k}` : null]);
+    };
+    await sample(join(dir, 'one.gpkg'), false, many);
+    await sample(join(dir, 'two.gpkg'), true, many);
+    expect(readFileSync(join(dir, 'two.gpkg')).equals(readFileSync(join(dir, 'one.gpkg')))).toBe(true);
+  });
+
+  it('property: any rows of numbers (NaN, ±0, ±Infinity, subnormals, integers beyond 2^53), texts and booleans give the same bytes on either thread', async () => {
+    const value = fc.oneof(fc.double(), fc.string({ unit: 'binary', maxLength: 80 }), fc.boolean(), fc.constant(null), fc.integer());
+    const row = fc.tuple(fc.double({ noNaN: true, noDefaultInfinity: true }), fc.double({ noNaN: true, noDefaultInfinity: true }), fc.array(value, { minLength: 3, maxLength: 3 }));
+    let run = 0;
+    await fc.assert(fc.asyncProperty(fc.array(row, { maxLength: 40 }), async (rows) => {
+      const spec: GpkgLayerSpec = { name: 'rows', geometry: 'POINT', columns: [['a', 'REAL'], ['b', 'TEXT'], ['c', 'INTEGER']] };
+      const paths = [join(dir, `p${run}-1.gpkg`), join(dir, `p${run++}-2.gpkg`)];
+      for (const [i, thread] of [false, true].entries()) {
+        const gp = openGeoPackage(paths[i], null, { lastChange: when, thread });
+        const l = gp.layer(spec);
+        rows.forEach(([x, y, v], k) => l.point(k + 1, x, y, v));
+        await gp.finish();
+      }
+      expect(readFileSync(paths[1]).equals(readFileSync(paths[0]))).toBe(true);
+    }), { numRuns: 12 });
+  });
+
+  it('a failure on the thread (a repeated fid) is thrown by finish() with SQLite\'s message, and the file is gone; abort() deletes the file', async () => {
+    const path = join(dir, 'failed.gpkg');
+    const gp = openGeoPackage(path, null, { thread: true });
+    const l = gp.layer(POINTS);
+    l.point(1, 0, 0, ['a', 1, 1, true]);
+    l.point(1, 0, 0, ['again', 1, 1, true]);
+    await expect(gp.finish()).rejects.toThrow(/UNIQUE|PRIMARY KEY/);
+    expect(existsSync(path)).toBe(false);
+    const gp2 = openGeoPackage(path, null, { thread: true });
+    gp2.layer(POINTS).point(1, 0, 0, ['a', 1, 1, true]);
+    await gp2.abort();
     expect(existsSync(path)).toBe(false);
   });
 });
