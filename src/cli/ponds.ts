@@ -112,12 +112,13 @@ export async function runPondsCommand(input: Inputs, opts: PondsCliOptions): Pro
     if (stageId !== undefined) refuse('--stage-volume', 'the table is made from the whole grid');
     if (opts.wgs84) refuse('--wgs84', 'depressions-wgs84.geojson needs the outlines');
     const out = openOutput(opts, 'ponds', TILED_PONDS_FILES, src.files);
-    if (!opts.quiet) process.stderr.write(`sill ponds: ${tiledNote(src.mosaic.source, opts.tiled ? 'asked' : 'memory')}\n`);
     const { report, written } = await runTiledPonds({
       mosaic: src.mosaic, out, why: opts.tiled ? 'asked' : 'memory', connectivity, nodataOutlet: nodataAs === 'outlet',
       minDepth, minArea, minVolume, minPersistence, fillOnlyBelow, zUnits: opts.zUnits, zFactor, xyUnits: opts.xyUnits,
       labelLevel, workers, runDir: opts.runDir, threads, quiet: !!(opts.quiet || opts.json),
     });
+    // once the run has succeeded (a failure is its one line alone)
+    if (!opts.quiet) process.stderr.write(`sill ponds: ${tiledNote(src.mosaic.source, opts.tiled ? 'asked' : 'memory')}\n`);
     if (opts.json) printReport(report);
     say(opts, pondsSummary(report, opts.out, written));
     return report;

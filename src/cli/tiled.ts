@@ -16,11 +16,11 @@
  *     writes NAME/<tile name>.tif for each product; `values` hold the whole input tile's cells.
  *
  *   new TileAssembler(tiles: MosaicTile[])
- *   assembler.tile(k: number, own: CellWindow, products: RasterValues[]): RasterValues[]
- *     given window k's products (its owned window, windows in canonical order), the products over
- *     the whole input tile k: its owned cells plus the shared edge rows and columns that earlier
- *     windows own (kept from them; only those edges are kept, so memory stays at the edges).
- *   assembler.rest(): [k, RasterValues[]][] — tiles that own no cell, from the kept edges.
+ *   assembler.window(k: number, own: CellWindow, products: RasterValues[]): [number, RasterValues[]][]
+ *     given window k's products (tile k's owned window), the tiles now complete, each with its
+ *     products over the whole input tile: its owned cells plus the shared edge rows and columns
+ *     other windows own (kept from them until the tile is complete; in canonical order only the
+ *     edges are kept, so memory stays at the windows in flight and their edges).
  *
  *   writeProductVrts(out, base, products, mosaic)                                   (src/cli/mosaic.ts)
  *
@@ -28,13 +28,13 @@
  */
 import { mkdirSync, mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
-import { join } from 'node:path';
+import { join, relative, resolve, isAbsolute } from 'node:path';
 import { InputError } from '../errors.js';
 import { pondsTiled, type TiledPondsResult } from '../tiles/ponds.js';
 import type { CellWindow, MosaicTile } from '../tiles/mosaic.js';
 import type { OpenedMosaic } from '../io/mosaic.js';
 import type { RasterValues } from '../io/geotiff-write.js';
-import type { OutputFolder } from '../io/outdir.js';
+import { OutputError, plainReason, type OutputFolder } from '../io/outdir.js';
 import { VALUE_LIMIT } from '../io/range.js';
 import { Grid, type GridValues } from '../surface/grid.js';
 import type { Connectivity } from '../surface/complex.js';
@@ -96,6 +96,11 @@ export function tiledNote(source: string, why: TiledWhy): string {
 
 export type TiledWhy = 'asked' | 'memory';
 
+function isInside(path: string, dir: string): boolean {
+  const r = relative(resolve(dir), resolve(path));
+  return r !== '' && !r.startsWith('..') && !isAbsolute(r);
+}
+
 interface Piece { win: CellWindow; values: RasterValues[] }
 
 function intersect(a: CellWindow, b: CellWindow): CellWindow | null {
@@ -118,56 +123,57 @@ function like(v: RasterValues, n: number): RasterValues {
 }
 
 /**
- * Whole input tiles from the owned windows (see the file header). Windows come in canonical
- * order; a cell a tile does not own is owned by an earlier tile, so its values are kept from then.
+ * Whole input tiles from the owned windows (see the file header). A tile is ready once every
+ * window that owns some of its cells has been given; until then the parts of those windows that
+ * lie in it are kept (in canonical order, only the edges a tile shares with earlier ones).
  */
 export class TileAssembler {
   private readonly pending = new Map<number, Piece[]>();
-  private readonly made: Uint8Array;
+  private readonly need: Int32Array;
 
   constructor(private readonly tiles: readonly MosaicTile[]) {
-    this.made = new Uint8Array(tiles.length);
+    const T = tiles.length;
+    this.need = new Int32Array(T);
+    for (let k = 0; k < T; k++) {
+      const o = tiles[k].own;
+      if (o.width <= 0 || o.height <= 0) continue;
+      for (let u = 0; u < T; u++) if (intersect(tiles[u], o)) this.need[u]++;
+    }
   }
 
-  tile(k: number, own: CellWindow, products: RasterValues[]): RasterValues[] {
-    const T = this.tiles, t = T[k];
-    // the edges later tiles share with this window, kept before anything else touches the arrays
-    for (let u = k + 1; u < T.length; u++) {
+  /**
+   * Window `k` (tile k's owned window `own`) and its products; returns the tiles that are now
+   * complete, with their products over the whole tile (in tile order).
+   */
+  window(k: number, own: CellWindow, products: RasterValues[]): [number, RasterValues[]][] {
+    const T = this.tiles, ready: [number, RasterValues[]][] = [];
+    for (let u = 0; u < T.length; u++) {
       const w = intersect(T[u], own);
       if (!w) continue;
-      const piece = { win: w, values: products.map((p) => { const v = like(p, w.width * w.height); copyWindow(p, own, v, w, w); return v; }) };
+      if (this.need[u] <= 0) throw new Error(`internal: window ${k} given twice, or tile ${T[u].name} already written`);
+      // the window's own products as they are (not touched again), a copy of the part another tile shares
+      const piece = u === k && w.width === own.width && w.height === own.height ? { win: own, values: products }
+        : { win: w, values: products.map((p) => { const v = like(p, w.width * w.height); copyWindow(p, own, v, w, w); return v; }) };
       const list = this.pending.get(u);
       if (list) list.push(piece); else this.pending.set(u, [piece]);
+      if (--this.need[u] === 0) ready.push([u, this.assemble(u)]);
     }
-    this.made[k] = 1;
-    const whole = own.col0 === t.col0 && own.row0 === t.row0 && own.width === t.width && own.height === t.height;
-    if (whole && !this.pending.has(k)) return products;
-    const out = products.map((p) => like(p, t.width * t.height));
-    products.forEach((p, j) => copyWindow(p, own, out[j], t, own));
-    this.fill(k, out);
-    return out;
+    return ready;
   }
 
-  /** Tiles that own no cell (every cell shared with earlier tiles), made from the kept edges. */
-  rest(): [number, RasterValues[]][] {
-    const out: [number, RasterValues[]][] = [];
-    for (let k = 0; k < this.tiles.length; k++) {
-      if (this.made[k]) continue;
-      const pieces = this.pending.get(k);
-      if (!pieces) throw new Error(`internal: tile ${this.tiles[k].name} owns no cell and no earlier tile covers it`);
-      const t = this.tiles[k];
-      const vals = pieces[0].values.map((p) => like(p, t.width * t.height));
-      this.fill(k, vals);
-      this.made[k] = 1;
-      out.push([k, vals]);
-    }
-    return out;
+  /** True when every tile has been returned complete. */
+  finished(): boolean {
+    return this.need.every((n) => n === 0);
   }
 
-  private fill(k: number, out: RasterValues[]): void {
-    const t = this.tiles[k];
-    for (const piece of this.pending.get(k) ?? []) piece.values.forEach((v, j) => copyWindow(v, piece.win, out[j], t, piece.win));
-    this.pending.delete(k);
+  private assemble(u: number): RasterValues[] {
+    const t = this.tiles[u], pieces = this.pending.get(u)!;
+    this.pending.delete(u);
+    const p0 = pieces[0];
+    if (pieces.length === 1 && p0.win.col0 === t.col0 && p0.win.row0 === t.row0 && p0.win.width === t.width && p0.win.height === t.height) return p0.values;
+    const out = p0.values.map((p) => like(p, t.width * t.height));
+    for (const piece of pieces) piece.values.forEach((v, j) => copyWindow(v, piece.win, out[j], t, piece.win));
+    return out;
   }
 }
 
@@ -225,7 +231,10 @@ export async function runTiledPonds(a: TiledPondsArgs): Promise<{ report: PondsR
   const bar = new ProgressBar(a.quiet);
   let tmp: string | null = null;
   let runDir: string;
-  if (a.runDir !== undefined) { mkdirSync(a.runDir, { recursive: true }); runDir = a.runDir; }
+  if (a.runDir !== undefined) {
+    try { mkdirSync(a.runDir, { recursive: true }); } catch (e) { throw new InputError(`--run-dir ${a.runDir}: cannot make the folder: ${plainReason(e)}; give a folder that can be made or exists`); }
+    runDir = a.runDir;
+  }
   else if (out) runDir = out.scratch();
   else runDir = tmp = mkdtempSync(join(tmpdir(), 'sill-run-'));
   try {
@@ -273,10 +282,10 @@ export async function runTiledPonds(a: TiledPondsArgs): Promise<{ report: PondsR
         const labels = a.labelLevel === 'top' ? topLabels(rs.labels, H) : rs.labels;
         const products = [rs.filled, rs.depth, labels];
         types = products.map(dataType);
-        await write(mosaic.tiles.indexOf(tile), assembler.tile(mosaic.tiles.indexOf(tile), own, products));
+        for (const [k, values] of assembler.window(mosaic.tiles.indexOf(tile), own, products)) await write(k, values);
       },
     });
-    for (const [k, values] of assembler.rest()) await write(k, values);
+    if (out && !assembler.finished()) throw new Error('internal: a tile of the mosaic was not written complete');
     bar.update('writing depressions.csv, pour-points.geojson and report.json');
 
     const result = {
@@ -308,7 +317,12 @@ export async function runTiledPonds(a: TiledPondsArgs): Promise<{ report: PondsR
     return { report, written };
   } catch (e) {
     bar.done();
-    throw out ? out.fail(e) : e;
+    // a file of the run folder that cannot be written or read: a runtime failure (exit 1), named as such
+    const path = (e as NodeJS.ErrnoException)?.path;
+    const err = typeof path === 'string' && typeof (e as NodeJS.ErrnoException).code === 'string' && isInside(path, runDir)
+      ? new OutputError(`cannot use the run folder ${a.runDir ?? '(inside the output folder\'s staging folder)'}: ${plainReason(e)} at ${path}; ${out ? `nothing in ${out.given} was changed` : 'nothing was written'}`)
+      : e;
+    throw out ? out.fail(err) : err;
   } finally {
     if (tmp) rmSync(tmp, { recursive: true, force: true });
   }
