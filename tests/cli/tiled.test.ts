@@ -282,5 +282,11 @@ subprocess.run(['gdalbuildvrt', '-q', d + '/tiles.vrt'] + sorted(d + '/tiles/' +
     expect(rep.counts.depressions).toBeGreaterThan(50);
     expect(rep.tiled.windows).toBe(9);
     sameFiles(a, b);
+    // filters, 6-connectivity, walls and a vertical unit: the same options on both paths
+    const opts = ['--connectivity', '6', '--min-depth', '0.1', '--fill-only-below', '40', '--z-units', 'ft', '--nodata-as', 'wall'];
+    const m2 = join(dir, 'big-mem-opts'), c = join(dir, 'big-tiled-opts');
+    run(['ponds', vrt, '-o', m2, '--quiet', ...opts]);
+    run(['ponds', vrt, '-o', c, '--tiled', '--workers', '2', '--quiet', ...opts]);
+    compareRuns(m2, c);
   });
 });
