@@ -113,16 +113,16 @@ interface SummaryHead {
 
 /** The summary's first lines: the surface, the outlets, the Euler check. */
 /** A mosaic in the summary: its tiles, how it was given, and that it was assembled. */
-export function mosaicLine(m: { tileCount: number; kind: string }): string {
+export function mosaicLine(m: { tileCount: number; kind: string; assembled?: boolean }): string {
   const given = m.kind === 'vrt' ? 'a VRT' : m.kind === 'folder' ? 'a folder' : 'GeoTIFF paths';
-  return `${m.tileCount} tile${m.tileCount === 1 ? '' : 's'} from ${given}, assembled into one grid in memory`;
+  return `${m.tileCount} tile${m.tileCount === 1 ? '' : 's'} from ${given}, ${m.assembled === false ? 'analysed tile by tile' : 'assembled into one grid in memory'}`;
 }
 
 export function summaryHead(r: SummaryHead): string[] {
   const s = r.surface;
   const lines: string[] = [];
   lines.push(`surface      ${s.width} × ${s.height} grid, ${s.validCells} valid cells${s.crs?.name ? `, ${s.crs.name}` : ', no CRS'}`);
-  const m = (r as { mosaic?: { tileCount: number; kind: string } }).mosaic;
+  const m = (r as { mosaic?: { tileCount: number; kind: string; assembled?: boolean } }).mosaic;
   if (m) lines.push(`mosaic       ${mosaicLine(m)}`);
   lines.push(`outlets      grid edge${r.nodataAs === 'outlet' ? ' and nodata cells' : ' (nodata cells are walls)'}; connectivity ${r.connectivity}`);
   if (r.euler) {

@@ -26,6 +26,7 @@ import {
 import { prepareInput, inputList, mosaicInfo, rasterNames, rasterFiles, writeRasterProducts, type Inputs } from './mosaic.js';
 import type { OpenedMosaic } from '../io/mosaic.js';
 import { checkCellBudget, featureBudget } from './budget.js';
+import { runTiledPonds, tiledNote, TILED_PONDS_FILES } from './tiled.js';
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, PONDS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildPondsReport as buildPondsHtml } from '../render/html/ponds.js';
 
@@ -42,6 +43,10 @@ export interface PondsCliOptions extends HydroCliOptions {
   culverts?: string;
   /** false with --no-gpkg: no results.gpkg. */
   gpkg?: boolean;
+  /** A mosaic tile by tile even when it would fit in memory assembled (src/cli/tiled.ts). */
+  tiled?: boolean;
+  workers?: string;
+  runDir?: string;
 }
 
 export function registerPonds(program: Command): void {
@@ -65,6 +70,9 @@ export function registerPonds(program: Command): void {
     .option('--culverts <file>', 'lines through embankments (GeoJSON LineStrings or CSV x1,y1,x2,y2[,invert][,name]) where water passes at the invert; reports what changed')
     .option('--stage-step <dz>', 'level step of the stage-volume table (vertical unit; default: 50 steps)')
     .option(...NO_GPKG)
+    .option('--tiled', 'analyse a mosaic tile by tile, as when it would not fit in memory assembled (docs/tiles.md; fewer outputs)')
+    .option('--workers <n>', 'tiles analysed at a time by a tile-by-tile run (default: the number of cores)')
+    .option('--run-dir <dir>', 'folder for the stage files and labels of a tile-by-tile run (default: inside the output folder\'s staging folder, removed at the end)')
     .action(async (input: string[], opts: PondsCliOptions) => {
       await runPondsCommand(input, opts);
     });
@@ -91,7 +99,32 @@ export async function runPondsCommand(input: Inputs, opts: PondsCliOptions): Pro
   const { zFactor, stageId, stageStep } = parseZAndStage(opts);
   const render = reportRequest('ponds', inputList(input), { ...opts }, flagsOf({ ...opts }, PONDS_FLAGS));
   if (opts.wgs84 && !opts.out) throw new InputError('--wgs84 writes depressions-wgs84.geojson and pour-points-wgs84.geojson: give an output folder with -o/--out');
-  const src = await prepareInput(input, opts, 'ponds');
+  const workers = opts.workers === undefined ? undefined
+    : parseNumber('--workers', opts.workers, { integer: true, min: 1, max: 4096, why: 'more worker threads than that exhaust the machine' });
+  const src = await prepareInput(input, opts, 'ponds', { tiled: true });
+  if (opts.tiled && !src.mosaic) {
+    throw new InputError('--tiled applies to a mosaic (a .vrt, a folder of GeoTIFF tiles or several GeoTIFF paths); a single file is analysed in memory — leave --tiled out');
+  }
+  if (src.mosaic && (opts.tiled || !src.fits)) {
+    const why = opts.tiled ? '--tiled' : 'the assembled mosaic would not fit the memory budget';
+    const refuse = (flag: string, what: string): never => { throw new InputError(`${src.mosaic!.source}: ${flag} is not available tile by tile (${why}): ${what}; leave ${flag} out`); };
+    if (render) refuse('--report', 'the report page draws the whole grid');
+    if (opts.culverts) refuse('--culverts', 'the lines are burnt into the whole grid');
+    if (stageId !== undefined) refuse('--stage-volume', 'the table is made from the whole grid');
+    if (opts.wgs84) refuse('--wgs84', 'depressions-wgs84.geojson needs the outlines');
+    const out = openOutput(opts, 'ponds', TILED_PONDS_FILES, src.files);
+    const { report, written } = await runTiledPonds({
+      mosaic: src.mosaic, out, why: opts.tiled ? 'asked' : 'memory', connectivity, nodataOutlet: nodataAs === 'outlet',
+      minDepth, minArea, minVolume, minPersistence, fillOnlyBelow, zUnits: opts.zUnits, zFactor, xyUnits: opts.xyUnits,
+      labelLevel, workers, runDir: opts.runDir, threads, quiet: !!(opts.quiet || opts.json),
+    });
+    // once the run has succeeded (a failure is its one line alone)
+    if (!opts.quiet) process.stderr.write(`sill ponds: ${tiledNote(src.mosaic.source, opts.tiled ? 'asked' : 'memory')}\n`);
+    if (opts.json) printReport(report);
+    say(opts, pondsSummary(report, opts.out, written));
+    return report;
+  }
+  if (opts.runDir !== undefined) throw new InputError('--run-dir applies to a tile-by-tile run of a mosaic (--tiled); leave it out');
   const out = openOutput(opts, 'ponds', [
     ...pondsFiles(src.mosaic !== null), ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...(opts.wgs84 ? PONDS_WGS84_FILES : []), ...(stageId !== undefined ? [`stage-volume-${stageId}.csv`] : []), ...reportNames(render),
   ], opts.culverts ? [...src.files, opts.culverts] : src.files);

@@ -38,10 +38,20 @@ const OUTLET_RING: Record<number, readonly (readonly [number, number])[]> = {
  * edge); null when the cell touches no outlet.
  */
 export function outletNeighbour(g: Grid, connectivity: number, nodataOutlet: boolean, cell: number): [number, number] | null {
-  const W = g.width, row = Math.floor(cell / W), col = cell - row * W;
+  const W = g.width, v = g.values;
+  return outletNeighbourOf(W, g.height, connectivity, nodataOutlet, cell, (c, r) => Number.isNaN(v[r * W + c]));
+}
+
+/**
+ * outletNeighbour on a grid of `width` × `height` cells whose values are not at hand as one array
+ * (a mosaic read tile by tile): `isNodata(col, row)` tells whether a cell of the grid is nodata.
+ */
+export function outletNeighbourOf(width: number, height: number, connectivity: number, nodataOutlet: boolean, cell: number,
+  isNodata: (col: number, row: number) => boolean): [number, number] | null {
+  const row = Math.floor(cell / width), col = cell - row * width;
   for (const [dc, dr] of OUTLET_RING[connectivity] ?? OUTLET_RING[8]) {
     const c = col + dc, r = row + dr;
-    if (c < 0 || r < 0 || c >= W || r >= g.height || (nodataOutlet && Number.isNaN(g.values[r * W + c]))) return [c, r];
+    if (c < 0 || r < 0 || c >= width || r >= height || (nodataOutlet && isNodata(c, r))) return [c, r];
   }
   return null;
 }

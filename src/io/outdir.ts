@@ -29,6 +29,8 @@ import { exchangeFolders, exchangeWay } from './exchange.js';
 export const MANIFEST = '.sill-manifest.json';
 export const JOURNAL = '.sill-journal.json';
 export const STAGING_PREFIX = '.sill-staging-';
+/** The run's temporary folder inside the staging folder (OutputFolder.scratch). */
+const SCRATCH = '.sill-scratch';
 
 export interface ManifestFile { name: string; size: number }
 
@@ -361,6 +363,7 @@ export class OutputFolder {
   private createdFrom: string | undefined;
   private readonly names: string[] = [];
   private done = false;
+  private scratchDir: string | null = null;
 
   /**
    * Check the output folder before any work: a folder or creatable, writable; files sill did not
@@ -514,6 +517,18 @@ export class OutputFolder {
     return p;
   }
 
+  /**
+   * A folder for the run's own temporary files inside the staging folder (a tiled run's stage
+   * files and labels): not part of the result — removed before the commit, and with the staging
+   * folder when the run fails or is killed.
+   */
+  scratch(): string {
+    const p = join(this.ensureStaging(), SCRATCH);
+    mkdirSync(p, { recursive: true });
+    this.scratchDir = p;
+    return p;
+  }
+
   /** Let a SIGINT/SIGTERM that came in act now (writers call this between files; their steps are synchronous). */
   async checkpoint(): Promise<void> {
     assertSupervised();
@@ -528,6 +543,7 @@ export class OutputFolder {
   /** Put the complete set in place (see the top of this file). Returns the final paths. */
   async commit(): Promise<string[]> {
     const staging = this.ensureStaging();
+    if (this.scratchDir) { rmSync(this.scratchDir, { recursive: true, force: true }); this.scratchDir = null; }
     const names = [...new Set(this.names)];
     try {
       const files = names.map((name) => ({ name, size: lstatSync(join(staging, name)).size }));

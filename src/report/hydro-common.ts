@@ -151,8 +151,12 @@ export interface DepressionColumns {
   toOutside: Uint8Array;
 }
 
-/** The columns of `res`'s depressions (one pass over the hierarchy, no object per depression). */
-export function depressionColumns(res: HydroResultCore): DepressionColumns {
+/**
+ * The columns of `res`'s depressions (one pass over the hierarchy, no object per depression).
+ * `outlet(id)`: the outlet beyond depression id's pass when it spills to the outside, for a grid
+ * whose cells are not in `res.grid.values` (a mosaic analysed tile by tile); default: looked up there.
+ */
+export function depressionColumns(res: HydroResultCore, outlet?: (id: number) => [number, number] | null): DepressionColumns {
   const g = res.grid, H = res.hierarchy, W = g.width;
   const f32 = g.values instanceof Float32Array;
   const R = H.count + 1;
@@ -170,7 +174,7 @@ export function depressionColumns(res: HydroResultCore): DepressionColumns {
       continue;
     }
     // the nearest outlet of the pass cell's ring (off the grid, or nodata that drains)
-    const o = outletNeighbour(g, res.options.connectivity, res.options.nodataOutlet, H.spillCell[id]);
+    const o = outlet ? outlet(id) : outletNeighbour(g, res.options.connectivity, res.options.nodataOutlet, H.spillCell[id]);
     if (o === null) {
       const pass = H.spillCell[id], row = Math.floor(pass / W);
       throw new Error(`internal: pass cell (${pass - row * W}, ${row}) spills to the outside but touches no outlet`);

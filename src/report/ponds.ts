@@ -157,9 +157,10 @@ export function pondsReport(surface: Grid | Mesh, opts: PondsReportOptions = {},
   return { result, report: buildPondsReport(result, input, opts.labelLevel ?? 'leaf') };
 }
 
-export function buildPondsReport(result: PondsResult, input: string | null, labelLevel: 'leaf' | 'top' = 'leaf'): PondsReport {
+/** @param columns the depressions' columns when the caller made them (default: made here from the grid) */
+export function buildPondsReport(result: PondsResult, input: string | null, labelLevel: 'leaf' | 'top' = 'leaf', columns?: DepressionColumns): PondsReport {
   const H = result.hierarchy, C = result.catchments;
-  const cols = depressionColumns(result);
+  const cols = columns ?? depressionColumns(result);
   let leaf = 0, merged = 0, topLevel = 0, volume = 0, area = 0;
   for (let id = 1; id <= H.count; id++) {
     if (H.childStart[id + 1] === H.childStart[id]) leaf++; else merged++;

@@ -20,7 +20,8 @@ import { pondsFilters } from '../hydro/ponds.js';
 import type { PondsEuler } from '../hydro/common.js';
 import type { Connectivity } from '../surface/complex.js';
 import type { CellWindow, Mosaic, MosaicTile } from './mosaic.js';
-import { readHalo, classifyWindow } from './windows.js';
+import { readHalo, classifyWindow, ownValues, type HaloRead } from './windows.js';
+import type { GridValues } from '../surface/grid.js';
 import type { WindowEuler } from './euler.js';
 import { pass1, type WindowSummary } from './pass1.js';
 import { seamMerge, type GlobalTree } from './merge.js';
@@ -77,8 +78,12 @@ export interface TiledPondsOptions extends UnitOptions, HierarchyFilters {
   fillOnlyBelow?: number;
   /** Called at the start of each stage, and after each window (`done` of `total`). */
   onStage?: (stage: string, done?: number, total?: number) => void;
-  /** Receives each tile's filled, depth and label rasters (its owned window) as they are made. */
-  onRasters?: (tile: MosaicTile, own: CellWindow, rasters: PondRasters) => void | Promise<void>;
+  /**
+   * Receives each tile's filled, depth and label rasters (its owned window) as they are made, in
+   * window order; `window` gives the window's cells as read (with their one-cell halo, clipped to
+   * the mosaic; the owned values with −0 made 0) and the depressions (the hierarchy is final).
+   */
+  onRasters?: (tile: MosaicTile, own: CellWindow, rasters: PondRasters, window: RasterWindow) => void | Promise<void>;
   labels?: LabelStore;
   /**
    * A run folder: each window's pass-1 summary is written there as a stage file (pass1-<window>.run)
@@ -90,6 +95,15 @@ export interface TiledPondsOptions extends UnitOptions, HierarchyFilters {
   euler?: boolean;
   /** Worker threads for the windows' passes (default: the number of cores); 1 runs them on this thread. Results are the same for every number. */
   workers?: number;
+}
+
+/** What onRasters gets beside the rasters. */
+export interface RasterWindow {
+  /** The window read with its halo (the cells around it, for lookups across its edges). */
+  read: HaloRead;
+  /** The owned window's values (row-major; NaN = nodata or gap). */
+  values: GridValues;
+  hierarchy: Hierarchy;
 }
 
 export interface TiledPondsResult {
@@ -265,12 +279,14 @@ export async function pondsTiled(mosaic: Mosaic, opts: TiledPondsOptions = {}): 
   let filledVolume = 0, filledCells = 0, filledArea = 0;
   for (let t = 0; t < T; t++) {
     const own = tiles[t].own;
-    const values = await mosaic.readWindow(own);
+    // with its halo when a caller looks across the window's edges; the owned window alone otherwise
+    const read = opts.onRasters ? await readHalo(mosaic, own) : null;
+    const values = read ? ownValues(read) : await mosaic.readWindow(own);
     for (let i = 0; i < values.length; i++) if (values[i] === 0) values[i] = 0; // −0 → 0, as Grid does
     const label = await labels.take(t);
     const rs = pondRasters(values, own.width, label, hierarchy, areas.rowArea.subarray(own.row0, own.row0 + own.height));
     filledVolume += rs.filledVolume; filledCells += rs.filledCells; filledArea += rs.filledArea;
-    if (opts.onRasters) await opts.onRasters(tiles[t], own, rs);
+    if (opts.onRasters) await opts.onRasters(tiles[t], own, rs, { read: read!, values, hierarchy });
     stage('filled, depth and label rasters', t + 1, T);
   }
   return {

@@ -65,6 +65,15 @@ export async function readHalo(mosaic: Mosaic, own: CellWindow): Promise<HaloRea
   return { own, hw, values, mosaicWidth: W, mosaicHeight: H };
 }
 
+/** The owned window's values of a halo read (a copy, row-major). */
+export function ownValues(read: HaloRead): GridValues {
+  const { own, hw } = read, w = own.width, h = own.height;
+  const out: GridValues = read.values instanceof Float64Array ? new Float64Array(w * h) : new Float32Array(w * h);
+  const dc0 = own.col0 - hw.col0, dr0 = own.row0 - hw.row0;
+  for (let r = 0; r < h; r++) out.set(read.values.subarray((r + dr0) * hw.width + dc0, (r + dr0) * hw.width + dc0 + w), r * w);
+  return out;
+}
+
 /** Read window `own` of the mosaic with its halo and classify its cells (see classifyWindow). */
 export async function readWindowCells(mosaic: Mosaic, own: CellWindow, conn: Connectivity, nodataOutlet: boolean, owns?: CellWindow[]): Promise<WindowCells> {
   return classifyWindow(await readHalo(mosaic, own), conn, nodataOutlet, owns);

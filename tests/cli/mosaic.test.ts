@@ -231,12 +231,12 @@ describe('bad mosaics: one line, exit 2, nothing written', () => {
     ['text options on a mosaic', () => ['ponds', f('tiles'), '--spacing', '1,1'], /--spacing applies to text and \.npy input/],
   ], () => dir);
 
-  it('a mosaic too large for memory when assembled: one line saying so', () => {
+  it('a mosaic too large for memory when assembled: one line saying so (runoff; ponds runs tile by tile then, tests/cli/tiled.test.ts)', () => {
     const out = join(dir, 'budget');
-    const r = sill(['ponds', f('tiles.vrt'), '-o', out], { env: { SILL_MEMORY_BYTES: String(64 * 2 ** 20) } });
+    const r = sill(['runoff', f('tiles.vrt'), '--depth', '30mm', '-o', out], { env: { SILL_MEMORY_BYTES: String(64 * 2 ** 20) } });
     expect(r.code).toBe(2);
     expect(r.stderr.trim().split('\n')).toHaveLength(1);
-    expect(r.stderr).toMatch(/tiles\.vrt: ponds on 1 920 cells needs about .* the mosaic's 5 tiles are assembled into one grid in memory for ponds/);
+    expect(r.stderr).toMatch(/tiles\.vrt: runoff on 1 920 cells needs about .* the mosaic's 5 tiles are assembled into one grid in memory for runoff/);
     expect(existsSync(out)).toBe(false);
   });
 
