@@ -27,6 +27,7 @@ import type { OpenedMosaic } from '../io/mosaic.js';
 import { checkCellBudget, featureBudget } from './budget.js';
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, PONDS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildPondsReport as buildPondsHtml } from '../render/html/ponds.js';
+import { addStagedOptions, stagedRequested, runPondsStaged, type StagedCliOptions } from './staged.js';
 
 export interface PondsCliOptions extends HydroCliOptions {
   minDepth?: string;
@@ -63,9 +64,11 @@ export function registerPonds(program: Command): void {
     .option('--stage-volume <id>', 'write stage-volume-ID.csv: water level, wet area and volume of depression ID from its pit to its spill level')
     .option('--culverts <file>', 'lines through embankments (GeoJSON LineStrings or CSV x1,y1,x2,y2[,invert][,name]) where water passes at the invert; reports what changed')
     .option('--stage-step <dz>', 'level step of the stage-volume table (vertical unit; default: 50 steps)')
-    .option(...NO_GPKG)
-    .action(async (input: string[], opts: PondsCliOptions) => {
-      await runPondsCommand(input, opts);
+    .option(...NO_GPKG);
+  addStagedOptions(cmd)
+    .action(async (input: string[], opts: PondsCliOptions & StagedCliOptions) => {
+      if (stagedRequested(opts)) await runPondsStaged(input, opts);
+      else await runPondsCommand(input, opts);
     });
 }
 
