@@ -6,19 +6,16 @@
  * the single grid in ponds-tiled.test.ts, and the single grid's filled DEM against scikit-image's
  * morphological reconstruction in tests/hydro/reference.test.ts (outside source).
  *
- * The stages are run in this process (InlineEngine: many cases, cheap) and by the local pool of
- * child processes (LocalEngine: the real task runner and `sill tile-stage`), including a tile that
- * fails (a damaged tile file: the run ends naming it) and the rerun that resumes.
+ * The stages run in this process here (InlineEngine: many cases, cheap); the local pool of child
+ * processes and Slurm run them in tests/cluster/ponds-stages*.test.ts.
  */
 import { describe, it, expect, beforeAll, afterAll } from 'vitest';
 import fc from 'fast-check';
-import { copyFileSync, readFileSync, rmSync, writeFileSync, statSync, utimesSync } from 'node:fs';
+import { rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { openMosaic } from '../../src/io/mosaic.js';
 import { pondsTiled } from '../../src/tiles/ponds.js';
-import { pondsStaged, StageFailed, PASS1, RASTERS } from '../../src/tiles/stages.js';
-import { LocalEngine } from '../../src/cluster/engine.js';
-import { RunFolder } from '../../src/cluster/run-folder.js';
+import { pondsStaged, StageFailed } from '../../src/tiles/stages.js';
 import { InputError } from '../../src/errors.js';
 import { gridArb } from '../hydro/arbitraries.js';
 import { randomGrid } from '../hydro/helpers.js';
@@ -54,42 +51,6 @@ describe('ponds as run-folder stages equals the in-process tiled run', () => {
       sameResult(s, r, got.got, ref.got);
     }), { numRuns: 10 });
   });
-
-  it('the local pool of child processes: a damaged tile ends the run naming it; the rerun resumes and equals the in-process run', async () => {
-    const g = randomGrid(77, 14, 11, 4, 0.05);
-    const folder = join(dir, 'pool');
-    await writeTiles(folder, g, tilesOf(guillotine(14, 11, 3, 3), false));
-    const ref = rasterSink();
-    const r = await pondsTiled(await openMosaic([folder]), { workers: 1, minDepth: 0.5, onRasters: ref.onRasters });
-    const runDir = join(dir, 'pool-run');
-    // damage the last tile's compressed cells, keeping its header, size and time: the run is planned, the passes that read it fail
-    const victim = join(folder, 't002.tif');
-    const keep = join(dir, 't002.tif.good');
-    copyFileSync(victim, keep);
-    const st = statSync(victim);
-    const buf = readFileSync(victim);
-    buf.fill(0x55, buf.length - 24);
-    writeFileSync(victim, buf);
-    utimesSync(victim, st.atime, st.mtime);
-    const failed = await pondsStaged({ inputs: [folder] }, { minDepth: 0.5, runDir, engine: new LocalEngine(2) }).then(() => null, (e) => e);
-    expect(failed).toBeInstanceOf(StageFailed);
-    expect((failed as Error).message).toMatch(/^tile t00\d \(stage pass1\) failed: .*t002\.tif is truncated or damaged/);
-    expect((failed as Error).message).toMatch(/rerun with the same --run-dir to resume/);
-    const run = new RunFolder(runDir);
-    expect(run.status(PASS1, 2)?.ok).toBe(false);
-    const okBefore = [0, 1].filter((t) => run.status(PASS1, t)?.ok);
-    const before = okBefore.map((t) => readFileSync(run.statusPath(PASS1, t), 'utf8'));
-    // repaired (same size and time, as a restored copy would be): the rerun does only what is missing
-    copyFileSync(keep, victim);
-    utimesSync(victim, st.atime, st.mtime);
-    const got = rasterSink();
-    const stages: string[] = [];
-    const s = await pondsStaged({ inputs: [folder] }, { minDepth: 0.5, runDir, engine: new LocalEngine(2), onRasters: got.onRasters, onStage: (x) => stages.push(x) });
-    expect(okBefore.map((t) => readFileSync(run.statusPath(PASS1, t), 'utf8'))).toEqual(before); // not run again
-    expect(run.status(RASTERS, 2)?.ok).toBe(true);
-    sameResult(s, r, got.got, ref.got);
-    expect(stages).toContain('seam merge');
-  }, 120_000);
 
   it('a run folder of another run, or of foreign files, is refused with one line', async () => {
     const g = randomGrid(5, 8, 7, 3, 0);

@@ -1,0 +1,75 @@
+/**
+ * `sill ponds MOSAIC -o DIR --scheduler local`: the tile passes as run-folder stages run by the
+ * local pool of child processes. Its per-tile rasters and VRTs equal, byte for byte, those of the
+ * same command without --scheduler (the mosaic assembled into one grid: the single-grid method,
+ * whose filled DEM is checked against scikit-image in tests/hydro/reference.test.ts, an outside
+ * source). A damaged tile ends the run with exit 1 and one line naming it, leaving no DIR; the
+ * rerun with the same run folder does only what is missing and finishes.
+ */
+import { describe, it, expect, beforeAll, afterAll } from 'vitest';
+import { existsSync, readFileSync, rmSync } from 'node:fs';
+import { join } from 'node:path';
+import { listFiles, sill, tempDir } from '../cli/run.js';
+import { RunFolder } from '../../src/cluster/run-folder.js';
+import { writeMosaic, damageTile, TILE_NAMES } from './mosaic.js';
+
+let dir: string;
+beforeAll(async () => {
+  dir = tempDir('sill-ponds-stages-');
+  await writeMosaic(join(dir, 'tiles'));
+});
+afterAll(() => { if (dir) rmSync(dir, { recursive: true, force: true }); });
+
+/** The raster files of a ponds output folder on a mosaic. */
+export function sameRasters(a: string, b: string): void {
+  const files = listFiles(a).filter((f) => f !== '.sill-manifest.json');
+  expect(files).toEqual(['depth.vrt', ...TILE_NAMES.map((t) => `depth/${t}.tif`), 'filled.vrt', ...TILE_NAMES.map((t) => `filled/${t}.tif`), 'labels.vrt', ...TILE_NAMES.map((t) => `labels/${t}.tif`)].sort());
+  for (const f of files) expect(readFileSync(join(a, f)).equals(readFileSync(join(b, f))), f).toBe(true);
+}
+
+describe('sill ponds on a mosaic with --scheduler local', () => {
+  it('a damaged tile: exit 1 naming it, no DIR; repaired, the rerun resumes and writes the rasters of the in-memory run', () => {
+    const tiles = join(dir, 'tiles'), out = join(dir, 'out'), run = join(dir, 'run'), ref = join(dir, 'ref');
+    const r0 = sill(['ponds', tiles, '-o', ref, '--min-depth', '0.2', '--quiet']);
+    expect(r0.stderr).toBe('');
+    const restore = damageTile(join(tiles, 'd.tif'), join(dir, 'd.good'));
+    const args = ['ponds', tiles, '-o', out, '--min-depth', '0.2', '--scheduler', 'local', '--workers', '2', '--run-dir', run];
+    const bad = sill(args, { timeout: 120_000 });
+    expect(bad.code).toBe(1);
+    const lines = bad.stderr.trim().split('\n');
+    expect(lines).toHaveLength(1);
+    expect(lines[0]).toMatch(/^sill: tile [a-d] \(stage pass1\) failed: .*d\.tif is truncated or damaged.*; its log is .*; fix it and rerun with the same --run-dir to resume$/);
+    expect(existsSync(out)).toBe(false);
+    const folder = new RunFolder(run);
+    const okBefore = [0, 1, 2].filter((t) => folder.status('pass1', t)?.ok);
+    expect(okBefore).toEqual([0, 1]); // a and b do not touch d
+    const statusBefore = okBefore.map((t) => readFileSync(folder.statusPath('pass1', t), 'utf8'));
+    restore();
+    const good = sill(args, { timeout: 120_000 });
+    expect(good.stderr).toBe('');
+    expect(good.code).toBe(0);
+    expect(good.stdout).toMatch(/^ponds on 4 tiles .* by the local pool: \d+ depressions/);
+    // the tasks that had finished were not run again
+    expect(okBefore.map((t) => readFileSync(folder.statusPath('pass1', t), 'utf8'))).toEqual(statusBefore);
+    sameRasters(out, ref);
+  }, 240_000);
+
+  it('bad combinations are one line, exit 2, before any work', () => {
+    const tiles = join(dir, 'tiles');
+    const cases: [string[], RegExp][] = [
+      [['--scheduler', 'local', '--dry-run'], /--dry-run writes the sbatch scripts of --scheduler slurm/],
+      [['--scheduler', 'local', '--partition', 'x'], /--partition is for --scheduler slurm/],
+      [['--scheduler', 'local', '--json'], /--json is not available with --scheduler yet/],
+    ];
+    for (const [more, re] of cases) {
+      const r = sill(['ponds', tiles, '-o', join(dir, 'never'), ...more]);
+      expect(r.code).toBe(2);
+      expect(r.stderr).toMatch(re);
+      expect(r.stderr.trim().split('\n')).toHaveLength(1);
+    }
+    const single = sill(['ponds', join(tiles, 'a.tif'), '-o', join(dir, 'never'), '--scheduler', 'local']);
+    expect(single.code).toBe(2);
+    expect(single.stderr).toMatch(/--scheduler runs the tile passes of a mosaic/);
+    expect(existsSync(join(dir, 'never'))).toBe(false);
+  });
+});
