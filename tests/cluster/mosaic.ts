@@ -1,6 +1,8 @@
 /** A small mosaic of four abutting GeoTIFF tiles for the staged ponds runs, and a way to damage one tile's cells and restore it (same size and time). */
 import { copyFileSync, mkdirSync, readFileSync, statSync, utimesSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
+import { expect } from 'vitest';
+import { listFiles } from '../cli/run.js';
 import { writeGeoTiff } from '../../src/io/geotiff-write.js';
 
 export const TILE_NAMES = ['a', 'b', 'c', 'd'];
@@ -37,3 +39,11 @@ export function damageTile(path: string, keepCopy: string): () => void {
     utimesSync(path, st.atime, st.mtime);
   };
 }
+
+/** Byte for byte, every raster file of two ponds output folders on this mosaic. */
+export function sameRasters(a: string, b: string): void {
+  const files = listFiles(a).filter((f) => f !== '.sill-manifest.json');
+  expect(files).toEqual(['depth.vrt', ...TILE_NAMES.map((t) => `depth/${t}.tif`), 'filled.vrt', ...TILE_NAMES.map((t) => `filled/${t}.tif`), 'labels.vrt', ...TILE_NAMES.map((t) => `labels/${t}.tif`)].sort());
+  for (const f of files) expect(readFileSync(join(a, f)).equals(readFileSync(join(b, f))), f).toBe(true);
+}
+

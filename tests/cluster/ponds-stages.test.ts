@@ -9,9 +9,9 @@
 import { describe, it, expect, beforeAll, afterAll } from 'vitest';
 import { existsSync, readFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
-import { listFiles, sill, tempDir } from '../cli/run.js';
+import { sill, tempDir } from '../cli/run.js';
 import { RunFolder } from '../../src/cluster/run-folder.js';
-import { writeMosaic, damageTile, TILE_NAMES } from './mosaic.js';
+import { writeMosaic, damageTile, sameRasters } from './mosaic.js';
 
 let dir: string;
 beforeAll(async () => {
@@ -19,13 +19,6 @@ beforeAll(async () => {
   await writeMosaic(join(dir, 'tiles'));
 });
 afterAll(() => { if (dir) rmSync(dir, { recursive: true, force: true }); });
-
-/** The raster files of a ponds output folder on a mosaic. */
-export function sameRasters(a: string, b: string): void {
-  const files = listFiles(a).filter((f) => f !== '.sill-manifest.json');
-  expect(files).toEqual(['depth.vrt', ...TILE_NAMES.map((t) => `depth/${t}.tif`), 'filled.vrt', ...TILE_NAMES.map((t) => `filled/${t}.tif`), 'labels.vrt', ...TILE_NAMES.map((t) => `labels/${t}.tif`)].sort());
-  for (const f of files) expect(readFileSync(join(a, f)).equals(readFileSync(join(b, f))), f).toBe(true);
-}
 
 describe('sill ponds on a mosaic with --scheduler local', () => {
   it('a damaged tile: exit 1 naming it, no DIR; repaired, the rerun resumes and writes the rasters of the in-memory run', () => {
