@@ -109,7 +109,8 @@ export function rasterFiles(products: readonly string[], mosaic: boolean): strin
   return products.map((p) => `${p}.${mosaic ? 'vrt' : 'tif'}`);
 }
 
-function dataType(v: RasterValues): string {
+/** GDAL's name of a raster's sample type. */
+export function dataType(v: RasterValues): string {
   if (v instanceof Float32Array) return 'Float32';
   if (v instanceof Float64Array) return 'Float64';
   if (v instanceof Int32Array) return 'Int32';

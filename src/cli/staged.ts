@@ -4,9 +4,9 @@
  * or as Slurm job arrays chained with afterok dependencies. Wiring only.
  *
  * Outputs: filled/, depth/, labels/ (one GeoTIFF per input tile) and filled.vrt, depth.vrt,
- * labels.vrt, through the mosaic writer (src/cli/mosaic.ts writeRasterProducts). The rasters are
- * gathered window by window into mosaic-sized arrays for that writer; the catalogues and the
- * other products of `ponds -o` are not written by this path yet (docs/tiles.md).
+ * labels.vrt, the same files the mosaic writer (src/cli/mosaic.ts writeRasterProducts) writes,
+ * made tile by tile from the windows' rasters in the run folder (writeTileRasters). The
+ * catalogues and the other products of `ponds -o` are not written by this path yet (docs/tiles.md).
  *
  * Also the hidden command `sill tile-stage RUN STAGE INDEX` that each task runs.
  */
@@ -15,15 +15,21 @@ import { relative, resolve } from 'node:path';
 import { cpus } from 'node:os';
 import { Option, type Command } from 'commander';
 import { InputError } from '../errors.js';
-import { runTileStage, planPondsStages, pondsStaged, type MosaicSource } from '../tiles/stages.js';
+import { runTileStage, planPondsStages, pondsStaged, readWindowRasters, type MosaicSource } from '../tiles/stages.js';
+import type { CellWindow } from '../tiles/mosaic.js';
+import type { OutputFolder } from '../io/outdir.js';
+import { writeGeoTiff, type RasterValues } from '../io/geotiff-write.js';
+import { vrtText } from '../io/vrt-write.js';
+import type { Hierarchy } from '../hydro/hierarchy.js';
+import type { PondRasters } from '../hydro/rasters.js';
 import { LocalEngine, type Engine } from '../cluster/engine.js';
 import { SlurmEngine, slurmMissing } from '../cluster/slurm.js';
-import { isMosaicInput, openMosaic } from '../io/mosaic.js';
+import { isMosaicInput, openMosaic, intersect, type OpenedMosaic } from '../io/mosaic.js';
 import { topLabels } from '../hydro/rasters.js';
 import { parseNumber, parseNodata, Progress, openOutput, say, fmt, THRESHOLD, AREA_THRESHOLD, type CommonOptions, type NumberLimits } from './common.js';
 import { parseOpenBoundary, parseNodataAs, parseZAndStage } from './hydro-common.js';
 import type { PondsCliOptions } from './ponds.js';
-import { inputList, rasterNames, writeRasterProducts, type Inputs } from './mosaic.js';
+import { inputList, rasterNames, dataType, type Inputs } from './mosaic.js';
 
 export interface StagedCliOptions extends CommonOptions {
   scheduler?: string;
@@ -113,31 +119,9 @@ export async function runPondsStaged(input: Inputs, opts: PondsCliOptions & Stag
   const out = openOutput(opts, 'ponds', rasterNames(RASTERS, true), [...inputs, ...mosaic.tiles.map((t) => t.path)])!;
   const progress = new Progress(opts.quiet);
   try {
-    const W = mosaic.width, N = mosaic.width * mosaic.height;
-    const filled = mosaic.float64 ? new Float64Array(N).fill(NaN) : new Float32Array(N).fill(NaN);
-    const depth = mosaic.float64 ? new Float64Array(N).fill(-9999) : new Float32Array(N).fill(-9999);
-    let labels: Int32Array = new Int32Array(N).fill(-1);
-    const result = await pondsStaged(source, {
-      ...lib, engine,
-      onStage: (s, done, total) => progress.stage(total !== undefined ? `${s}: ${done}/${total}` : s),
-      onRasters: (_tile, own, rs) => {
-        for (let r = 0; r < own.height; r++) {
-          const to = (own.row0 + r) * W + own.col0, from = r * own.width;
-          filled.set(rs.filled.subarray(from, from + own.width), to);
-          depth.set(rs.depth.subarray(from, from + own.width), to);
-          labels.set(rs.labels.subarray(from, from + own.width), to);
-        }
-      },
-    });
-    if (labelLevel === 'top') labels = topLabels(labels, result.hierarchy);
+    const result = await pondsStaged(source, { ...lib, engine, onStage: (s, done, total) => progress.stage(total !== undefined ? `${s}: ${done}/${total}` : s) });
     progress.stage('writing filled, depth and labels: a GeoTIFF a tile and a VRT each');
-    const valueNodata = mosaic.nodata !== null && Number.isFinite(mosaic.nodata) ? mosaic.nodata : NaN;
-    const rasters = writeRasterProducts(out, { width: mosaic.width, height: mosaic.height, transform: mosaic.transform, crs: mosaic.crs }, [
-      { name: 'filled', values: filled, nodata: valueNodata, overviews: 'average' },
-      { name: 'depth', values: depth, nodata: -9999, overviews: 'average' },
-      { name: 'labels', values: labels, nodata: -1, overviews: 'nearest' },
-    ], mosaic, 1);
-    await Promise.all(rasters);
+    await writeTileRasters(out, runDir, mosaic, labelLevel === 'top' ? result.hierarchy : null);
     await out.commit();
     progress.done();
     const h = result.hierarchy;
@@ -149,6 +133,53 @@ export async function runPondsStaged(input: Inputs, opts: PondsCliOptions & Stag
   } catch (e) {
     progress.done();
     throw out.fail(e);
+  }
+}
+
+/**
+ * Write filled/, depth/ and labels/ (one GeoTIFF per input tile, the tile's own geotransform) and
+ * their VRTs from the windows' rasters in the run folder, one tile at a time: memory is a tile and
+ * the owned windows it overlaps, never the mosaic. The same files writeRasterProducts
+ * (src/cli/mosaic.ts) writes from mosaic-sized rasters. `top`: the hierarchy, for labels of the
+ * outermost depressions (--label-level top).
+ */
+export async function writeTileRasters(out: OutputFolder, runDir: string, mosaic: OpenedMosaic, top: Hierarchy | null): Promise<void> {
+  const windows = mosaic.tiles.map((t, k) => ({ k, own: t.own })).filter((w) => w.own.width > 0 && w.own.height > 0);
+  const valueNodata = mosaic.nodata !== null && Number.isFinite(mosaic.nodata) ? mosaic.nodata : NaN;
+  const products = [
+    { name: 'filled', nodata: valueNodata, overviews: 'average' as const, pick: (r: PondRasters): RasterValues => r.filled },
+    { name: 'depth', nodata: -9999, overviews: 'average' as const, pick: (r: PondRasters): RasterValues => r.depth },
+    { name: 'labels', nodata: -1, overviews: 'nearest' as const, pick: (r: PondRasters): RasterValues => (top ? topLabels(r.labels, top) : r.labels) },
+  ];
+  const types = new Map<string, string>();
+  for (const tile of mosaic.tiles) {
+    const parts: { own: CellWindow; cut: CellWindow; rs: PondRasters }[] = [];
+    for (let w = 0; w < windows.length; w++) {
+      const cut = intersect(tile, windows[w].own);
+      if (cut) parts.push({ own: windows[w].own, cut, rs: await readWindowRasters(runDir, w) });
+    }
+    await Promise.all(products.map((p) => {
+      let v: RasterValues | null = null;
+      for (const { own, cut, rs } of parts) {
+        const src = p.pick(rs);
+        v ??= new (src.constructor as new (n: number) => RasterValues)(tile.width * tile.height);
+        for (let r = 0; r < cut.height; r++) {
+          const from = (cut.row0 - own.row0 + r) * own.width + cut.col0 - own.col0;
+          v.set(src.subarray(from, from + cut.width), (cut.row0 - tile.row0 + r) * tile.width + cut.col0 - tile.col0);
+        }
+      }
+      if (!v) throw new Error(`internal: tile ${tile.name} lies in no owned window`);
+      types.set(p.name, dataType(v));
+      return writeGeoTiff(out.path(`${p.name}/${tile.name}.tif`), { width: tile.width, height: tile.height, transform: tile.transform, crs: mosaic.crs, values: v, nodata: p.nodata },
+        { overviews: p.overviews, threads: 1 });
+    }));
+    await out.checkpoint();
+  }
+  for (const p of products) {
+    out.write(`${p.name}.vrt`, vrtText({
+      width: mosaic.width, height: mosaic.height, transform: mosaic.transform, crs: mosaic.crs, dataType: types.get(p.name)!, nodata: p.nodata,
+      sources: mosaic.tiles.map((t) => ({ file: `${p.name}/${t.name}.tif`, col0: t.col0, row0: t.row0, width: t.width, height: t.height })),
+    }));
   }
 }
 

@@ -248,6 +248,11 @@ export async function stageRasters(runDir: string, t: number): Promise<void> {
   await writeRunFile(data(runDir, `rasters-${t}.run`), rs as unknown as Record<string, unknown>);
 }
 
+/** The filled, depth and label rasters of window t of a finished run (its owned window, row-major). */
+export async function readWindowRasters(runDir: string, t: number): Promise<PondRasters> {
+  return readRunFile<PondRasters>(data(runDir, `rasters-${t}.run`));
+}
+
 /** Run task `index` of stage `stage` of the run folder (what `sill tile-stage RUN STAGE INDEX` does). */
 export async function runTileStage(runDir: string, stage: string, index: number): Promise<void> {
   switch (stage) {
@@ -408,7 +413,7 @@ async function collect(runDir: string, spec: StagedPondsSpec, mosaic: OpenedMosa
   for (let k = 1; k < tree.count; k++) if (tree.vertex[k] === tree.birth[k]) sweepPits++;
   let filledVolume = 0, filledCells = 0, filledArea = 0;
   for (let t = 0; t < T; t++) {
-    const rs = await readRunFile<PondRasters>(data(runDir, `rasters-${t}.run`));
+    const rs = await readWindowRasters(runDir, t);
     filledVolume += rs.filledVolume; filledCells += rs.filledCells; filledArea += rs.filledArea;
     if (opts.onRasters) await opts.onRasters(tiles[t], tiles[t].own, rs);
   }
