@@ -125,10 +125,15 @@ function windowTiles(m: OpenedMosaic): MosaicTile[] {
 async function context(runDir: string): Promise<StageContext> {
   const spec = readSpec(runDir);
   const inputs = spec.mosaic.inputs.map((p) => resolve(spec.cwd, p));
-  const mosaic = await openMosaic(inputs, { band: spec.mosaic.band, nodata: spec.mosaic.nodata, threads: 1 });
+  // the overlaps were checked when the run was planned; the tiles must be the same files, unchanged since
+  const mosaic = await openMosaic(inputs, { band: spec.mosaic.band, nodata: spec.mosaic.nodata, threads: 1, checkOverlaps: false });
   const tiles = windowTiles(mosaic);
   if (tiles.length !== spec.tiles.length || tiles.some((t, k) => t.name !== spec.tiles[k].name || !sameWindow(t.own, spec.tiles[k].own))) {
     throw new InputError(`the mosaic ${mosaic.source} no longer has the tiles this run was planned with; start a new run (another or an empty --run-dir)`);
+  }
+  for (const t of spec.tiles) {
+    const st = statSync(resolve(spec.cwd, t.path));
+    if (st.size !== t.size || st.mtimeMs !== t.mtimeMs) throw new InputError(`tile ${t.path} has changed since this run was planned; start a new run (another or an empty --run-dir)`);
   }
   const areas = cellAreas({ transform: mosaic.transform, width: mosaic.width, height: mosaic.height, crs: mosaic.crs }, unitOptions(spec.options), mosaic.source);
   return { spec, mosaic, tiles, owns: tiles.map((t) => t.own), areas };

@@ -11,11 +11,11 @@
  */
 import { describe, it, expect, beforeAll, afterAll } from 'vitest';
 import fc from 'fast-check';
-import { readFileSync, rmSync } from 'node:fs';
+import { readFileSync, rmSync, utimesSync } from 'node:fs';
 import { join } from 'node:path';
 import { openMosaic } from '../../src/io/mosaic.js';
 import { pondsTiled } from '../../src/tiles/ponds.js';
-import { pondsStaged, StageFailed } from '../../src/tiles/stages.js';
+import { pondsStaged, stagePass1, StageFailed } from '../../src/tiles/stages.js';
 import { InputError } from '../../src/errors.js';
 import { gridArb } from '../hydro/arbitraries.js';
 import { randomGrid } from '../hydro/helpers.js';
@@ -115,5 +115,10 @@ describe('ponds as run-folder stages equals the in-process tiled run', () => {
     await pondsStaged({ inputs: [folder] }, { runDir, engine: new InlineEngine() });
     await expect(pondsStaged({ inputs: [folder] }, { runDir, minDepth: 1, engine: new InlineEngine() })).rejects.toThrow(/holds another run \(other inputs, tiles or options\)/);
     await expect(pondsStaged({ inputs: [folder] }, { runDir: folder, engine: new InlineEngine() })).rejects.toThrow(/holds files but no run of sill/);
+    // a tile touched after the plan: a task refuses to go on, a rerun is another run
+    const t0 = join(folder, 't000.tif');
+    utimesSync(t0, new Date(), new Date(Date.now() + 5000));
+    await expect(stagePass1(runDir, 0)).rejects.toThrow(/tile .*t000\.tif has changed since this run was planned/);
+    await expect(pondsStaged({ inputs: [folder] }, { runDir, engine: new InlineEngine() })).rejects.toThrow(/holds another run/);
   });
 });
