@@ -128,7 +128,7 @@ export async function runPondsStaged(input: Inputs, opts: PondsCliOptions & Stag
     let top = 0, volume = 0;
     for (let d = 1; d <= h.count; d++) if (h.parent[d] === 0) { top++; volume += h.volume[d]; }
     say(opts, `ponds on ${mosaic.tiles.length} tiles (${result.tree.count - 1} sweep nodes), ${slurm ? 'on Slurm' : 'by the local pool'}: ${h.count} depressions (${top} top-level), ` +
-      `${fmt(volume)} ${result.areas.units.volume} at their spill levels\nwrote ${rasterNames(RASTERS, true).join(', ')} into ${opts.out}; run folder ${runDir}`);
+      `${fmt(volume)} ${result.areas.units.volume} at their spill levels\nwrote ${rasterNames(RASTERS, true).join(', ')} into ${opts.out}${given ? `; the run folder ${opts.runDir} is kept` : ''}`);
     if (!given && existsSync(runDir)) rmSync(runDir, { recursive: true, force: true });
   } catch (e) {
     progress.done();

@@ -374,7 +374,7 @@ export function runFailure(run: RunFolder): StageFailed | null {
     const f = failed[0];
     const what = stage.tasks.length > 1 || name === PASS1 || name === PASS2 || name === RASTERS ? `tile ${f.label} (stage ${name})` : `stage ${name}`;
     const more = failed.length > 1 ? ` (and ${failed.length - 1} more task${failed.length === 2 ? '' : 's'} of stage ${name}: ${failed.slice(1, 4).map((x) => x.label).join(', ')}${failed.length > 4 ? ', …' : ''})` : '';
-    return new StageFailed(`${what} failed: ${f.error ?? 'failed'}${more}; its log is ${run.logPath(name, f.index)}; fix it and rerun with the same --run-dir to resume`, f.exit === 2);
+    return new StageFailed(`${what} failed: ${f.error ?? 'failed'}${more}; its log is ${run.logPath(name, f.index)}; fix it and run the same command again (same --run-dir) to resume`, f.exit === 2);
   }
   return null;
 }

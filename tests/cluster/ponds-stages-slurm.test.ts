@@ -47,7 +47,7 @@ describe.skipIf(!runs('slurm'))(`sill ponds --scheduler slurm on a local Slurm${
     expect(bad.code).toBe(1);
     const lines = bad.stderr.trim().split('\n');
     expect(lines).toHaveLength(1);
-    expect(lines[0]).toMatch(/^sill: tile [cd] \(stage pass1\) failed: .*d\.tif is truncated or damaged.*rerun with the same --run-dir to resume$/);
+    expect(lines[0]).toMatch(/^sill: tile [cd] \(stage pass1\) failed: .*d\.tif is truncated or damaged.*run the same command again \(same --run-dir\) to resume$/);
     expect(existsSync(out)).toBe(false);
     const folder = new RunFolder(run);
     expect([0, 1].map((t) => folder.status('pass1', t)?.ok)).toEqual([true, true]);

@@ -31,7 +31,7 @@ describe('sill ponds on a mosaic with --scheduler local', () => {
     expect(bad.code).toBe(1);
     const lines = bad.stderr.trim().split('\n');
     expect(lines).toHaveLength(1);
-    expect(lines[0]).toMatch(/^sill: tile [a-d] \(stage pass1\) failed: .*d\.tif is truncated or damaged.*; its log is .*; fix it and rerun with the same --run-dir to resume$/);
+    expect(lines[0]).toMatch(/^sill: tile [a-d] \(stage pass1\) failed: .*d\.tif is truncated or damaged.*; its log is .*; fix it and run the same command again \(same --run-dir\) to resume$/);
     expect(existsSync(out)).toBe(false);
     const folder = new RunFolder(run);
     const okBefore = [0, 1, 2].filter((t) => folder.status('pass1', t)?.ok);
