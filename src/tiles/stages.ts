@@ -392,7 +392,9 @@ const STAGE_TITLES: Record<string, string> = {
 export async function pondsStaged(source: MosaicSource, opts: TiledPondsOptions & StagedOptions): Promise<TiledPondsResult> {
   const { run, spec, mosaic } = await planPondsStages(source, opts);
   const stage = opts.onStage ?? (() => undefined);
-  await opts.engine.run(run, (p) => {
+  // nothing left (a rerun after the tasks ended, e.g. after a --dry-run's scripts were submitted by hand): no engine needed
+  const left = run.run()!.stages.some((name) => run.pending(run.stage(name)).length > 0);
+  if (left) await opts.engine.run(run, (p) => {
     if (p.tasks > 1 || p.stage === PASS1 || p.stage === PASS2 || p.stage === RASTERS) stage(STAGE_TITLES[p.stage] ?? p.stage, p.done, p.tasks);
     else stage(STAGE_TITLES[p.stage] ?? p.stage);
   });

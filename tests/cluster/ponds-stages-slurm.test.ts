@@ -70,10 +70,10 @@ describe.skipIf(!runs('slurm'))(`sill ponds --scheduler slurm on a local Slurm${
     sameRasters(out, ref);
   }, 600_000);
 
-  it('--dry-run writes the sbatch scripts (memory per task from the tile size) and submits nothing', () => {
+  it('--dry-run writes the sbatch scripts (memory per task from the tile size) and submits nothing; submitted by hand, the run then only writes the outputs', () => {
     const run = join(dir, 'dry');
     const queued = () => spawnSync('squeue', ['-h', '-o', '%i'], { encoding: 'utf8', env: { ...process.env, ...SLURM_ENV } }).stdout.trim();
-    const r = sill(['ponds', join(dir, 'tiles'), '--run-dir', run, '--scheduler', 'slurm', '--dry-run', '--partition', 'sill', '--time', '0:10:00'], { env: SLURM_ENV });
+    const r = sill(['ponds', join(dir, 'tiles'), '--min-depth', '0.2', '--run-dir', run, '--scheduler', 'slurm', '--dry-run', '--partition', 'sill', '--time', '0:10:00'], { env: SLURM_ENV });
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
     expect(queued()).toBe('');
@@ -88,5 +88,17 @@ describe.skipIf(!runs('slurm'))(`sill ponds --scheduler slurm on a local Slurm${
     expect(script).toMatch(/^#SBATCH --partition=sill$/m);
     expect(script).toMatch(/^#SBATCH --time=0:10:00$/m);
     for (const f of listFiles(slurmDir)) expect(spawnSync('bash', ['-n', join(slurmDir, f)]).status).toBe(0);
-  }, 120_000);
+    // the written chain runs as it is; then the same command without --dry-run finds every task done and writes the outputs
+    const s = spawnSync('bash', [join(slurmDir, 'submit.sh')], { encoding: 'utf8', env: { ...process.env, ...SLURM_ENV } });
+    expect(s.status).toBe(0);
+    const t0 = Date.now();
+    while (queued() !== '' && Date.now() - t0 < 180_000) spawnSync('sleep', ['0.3']);
+    const out = join(dir, 'dry-out');
+    const w = sill(['ponds', join(dir, 'tiles'), '-o', out, '--min-depth', '0.2', '--run-dir', run, '--scheduler', 'slurm', '--partition', 'sill', '--time', '0:10:00', '--quiet'], { env: SLURM_ENV, timeout: 120_000 });
+    expect(w.stderr).toBe('');
+    expect(w.code).toBe(0);
+    expect(existsSync(join(run, 'slurm', 'jobs.json'))).toBe(false); // sill submitted nothing itself
+    expect(sill(['ponds', join(dir, 'tiles'), '-o', join(dir, 'dry-ref'), '--min-depth', '0.2', '--quiet']).code).toBe(0);
+    sameRasters(out, join(dir, 'dry-ref'));
+  }, 300_000);
 });
