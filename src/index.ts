@@ -23,6 +23,9 @@ export { openMosaic, isMosaicInput, type OpenedMosaic, type MosaicOptions, type 
 export type { Mosaic, MosaicTile, CellWindow } from './tiles/mosaic.js';
 // the tile-by-tile depression method over any Mosaic: the single-grid answer in bounded memory (docs/tiles.md, Method)
 export { pondsTiled, type TiledPondsOptions, type TiledPondsResult } from './tiles/ponds.js';
+export { pondsStaged, StageFailed, type MosaicSource, type StagedOptions } from './tiles/stages.js';
+export { LocalEngine, type Engine } from './cluster/engine.js';
+export { SlurmEngine, type SlurmOptions } from './cluster/slurm.js';
 export { gridMosaic, type TileCut } from './tiles/memory.js';
 export { vrtText, type VrtLayer, type VrtSource } from './io/vrt-write.js';
 

@@ -14,6 +14,7 @@ import { registerBarriers } from './barriers.js';
 import { registerPonds } from './ponds.js';
 import { registerRunoff } from './runoff.js';
 import { registerBatch } from './batch.js';
+import { registerTileStage } from './staged.js';
 
 export function buildProgram(): Command {
   const program = new Command();
@@ -29,6 +30,7 @@ export function buildProgram(): Command {
   registerRunoff(program);
   registerDemo(program);
   registerBatch(program);
+  registerTileStage(program);
   for (const c of program.commands) c.exitOverride().configureOutput(errorOutput(`sill ${c.name()}`));
   return program;
 }

@@ -119,6 +119,7 @@ export function rasterFiles(products: readonly string[], mosaic: boolean): strin
   return products.map((p) => `${p}.${mosaic ? 'vrt' : 'tif'}`);
 }
 
+/** GDAL's name of a raster's sample type. */
 export function dataType(v: RasterValues): string {
   if (v instanceof Float32Array) return 'Float32';
   if (v instanceof Float64Array) return 'Float64';

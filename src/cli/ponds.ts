@@ -29,6 +29,7 @@ import { checkCellBudget, featureBudget } from './budget.js';
 import { runTiledPonds, tiledNote, TILED_PONDS_FILES } from './tiled.js';
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, PONDS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildPondsReport as buildPondsHtml } from '../render/html/ponds.js';
+import { addStagedOptions, stagedRequested, runPondsStaged, type StagedCliOptions } from './staged.js';
 
 export interface PondsCliOptions extends HydroCliOptions {
   minDepth?: string;
@@ -71,10 +72,12 @@ export function registerPonds(program: Command): void {
     .option('--stage-step <dz>', 'level step of the stage-volume table (vertical unit; default: 50 steps)')
     .option(...NO_GPKG)
     .option('--tiled', 'analyse a mosaic tile by tile, as when it would not fit in memory assembled (docs/tiles.md; fewer outputs)')
-    .option('--workers <n>', 'tiles analysed at a time by a tile-by-tile run (default: the number of cores)')
-    .option('--run-dir <dir>', 'folder for the stage files and labels of a tile-by-tile run (default: inside the output folder\'s staging folder, removed at the end)')
-    .action(async (input: string[], opts: PondsCliOptions) => {
-      await runPondsCommand(input, opts);
+    .option('--workers <n>', 'tiles analysed at a time by a tile-by-tile run (default: the number of cores); with --scheduler: tasks at a time (slurm: the arrays\' limit, none by default)')
+    .option('--run-dir <dir>', 'folder for the stage files and labels of a tile-by-tile run (default: inside the output folder\'s staging folder, removed at the end); with --scheduler: the run folder on a file system every node sees, and a rerun with the same folder resumes');
+  addStagedOptions(cmd)
+    .action(async (input: string[], opts: PondsCliOptions & StagedCliOptions) => {
+      if (stagedRequested(opts)) await runPondsStaged(input, opts);
+      else await runPondsCommand(input, opts);
     });
 }
 

@@ -30,7 +30,7 @@ import { mkdirSync, mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join, relative, resolve, isAbsolute } from 'node:path';
 import { InputError } from '../errors.js';
-import { pondsTiled, type TiledPondsResult } from '../tiles/ponds.js';
+import { pondsTiled, type TiledPondsResult, type TiledPondsOptions } from '../tiles/ponds.js';
 import type { CellWindow, MosaicTile } from '../tiles/mosaic.js';
 import type { OpenedMosaic } from '../io/mosaic.js';
 import type { RasterValues } from '../io/geotiff-write.js';
@@ -90,11 +90,12 @@ export const NOT_COMPUTED: { what: string; files: string[]; keys: string[]; reas
 
 /** The one stderr line of a tiled run. */
 export function tiledNote(source: string, why: TiledWhy): string {
-  return `${source}: analysed tile by tile (${why === 'asked' ? '--tiled' : 'the assembled mosaic would not fit the memory budget'}); ` +
+  const reason = why === 'asked' ? '--tiled' : why === 'scheduler' ? 'as stages of a run folder, --scheduler' : 'the assembled mosaic would not fit the memory budget';
+  return `${source}: analysed tile by tile (${reason}); ` +
     `not computed: ${NOT_COMPUTED.map((n) => n.what).join(', ')} — they need cells across tile seams (report.json "notComputed", docs/tiles.md)`;
 }
 
-export type TiledWhy = 'asked' | 'memory';
+export type TiledWhy = 'asked' | 'memory' | 'scheduler';
 
 function isInside(path: string, dir: string): boolean {
   const r = relative(resolve(dir), resolve(path));
@@ -199,6 +200,8 @@ export interface TiledPondsArgs {
   /** Threads that compress the rasters. */
   threads?: number;
   quiet: boolean;
+  /** Runs the tile passes (default: pondsTiled on worker threads; `ponds --scheduler` passes pondsStaged with its engine). */
+  run?: (opts: TiledPondsOptions) => Promise<TiledPondsResult>;
 }
 
 /** The mosaic as a grid without its cells, for the report writers (they read its size, transform, CRS and the type of its values only). */
@@ -254,7 +257,7 @@ export async function runTiledPonds(a: TiledPondsArgs): Promise<{ report: PondsR
     let outCol = new Int32Array(0), outRow = new Int32Array(0), outFound = new Uint8Array(0), candidates = new Int32Array(0);
     let validCells = 0;
     const W = mosaic.width;
-    const res: TiledPondsResult = await pondsTiled(mosaic, {
+    const res: TiledPondsResult = await (a.run ?? ((o: TiledPondsOptions) => pondsTiled(mosaic, o)))({
       connectivity: a.connectivity, nodataOutlet: a.nodataOutlet,
       minDepth: a.minDepth, minArea: a.minArea, minVolume: a.minVolume, minPersistence: a.minPersistence, fillOnlyBelow: a.fillOnlyBelow,
       zUnits: a.zUnits, zFactor: a.zFactor, xyUnits: a.xyUnits,

@@ -21,6 +21,12 @@ export interface MosaicOptions {
   nodata?: number;
   /** Threads that decode one tile (readGeoTiff's option). */
   threads?: number;
+  /**
+   * Read the strips where tiles overlap to check that they hold equal values (default true). False
+   * only for a caller that checked the same tiles before and knows them unchanged since (the tasks
+   * of a staged run, src/tiles/stages.ts, which compare each tile file's size and time).
+   */
+  checkOverlaps?: boolean;
 }
 
 /** How the mosaic was given. */
@@ -146,7 +152,7 @@ export async function openMosaic(inputs: readonly string[], opts: MosaicOptions 
     const c = byTile.get(t.path)!;
     return { band: c.band, nodata: c.nodata, threads: opts.threads };
   };
-  await checkOverlaps(tiles, overlaps, placed.transform, readOpts);
+  if (opts.checkOverlaps !== false) await checkOverlaps(tiles, overlaps, placed.transform, readOpts);
 
   const width = placed.width, height = placed.height;
   const mosaic: OpenedMosaic = {

@@ -140,7 +140,7 @@ async function eachWindow<T>(count: number, lanes: number, fn: (t: number) => Pr
 }
 
 /** The Euler block of the mosaic from the windows' parts (in window order). */
-function eulerOf(parts: WindowEuler[], conn: Connectivity): PondsEuler {
+export function eulerOf(parts: WindowEuler[], conn: Connectivity): PondsEuler {
   let pits = 1, passes = 0, peaks = 0; // the outside vertex ω is a pit
   const dims = new Array<number>(conn === 8 ? 4 : 3).fill(0);
   for (const e of parts) {
