@@ -18,6 +18,7 @@
  * tested on random tilings (tests/tiles, tests/cli/tiled.test.ts) and at 4000² by bench/tiles-cli.mjs.
  *
  *   npm run build && node bench/tiles-huge.mjs [--tiles 8] [--tile 5000] [--workers 2] [--dir D] [--keep]
+ *   node bench/tiles-huge.mjs --dir D --generate-only    # only write the tiles (a later run with --dir D reuses them)
  *
  * A report, not a test. Needs about 7 GB of disk for the tiles and as much again for the outputs
  * at the default size; results go to bench/out/tiles-huge-<cells>.json.
@@ -35,6 +36,7 @@ const { values: opt } = parseArgs({
     workers: { type: 'string', default: '2' },
     dir: { type: 'string' },
     keep: { type: 'boolean', default: false },
+    'generate-only': { type: 'boolean', default: false },
   },
 });
 const T = Number(opt.tiles), S = Number(opt.tile), N = T * S;
@@ -104,6 +106,7 @@ try {
     }
     process.stderr.write(`bench/tiles-huge: tiles of row ${tr + 1}/${T} written (${((performance.now() - g0) / 1000).toFixed(0)} s)\n`);
   }
+  if (opt['generate-only']) { console.log(`tiles written to ${join(base, 'tiles')}; run again with --dir ${base} to analyse them`); process.exit(0); }
   const out = join(base, 'out');
   rmSync(out, { recursive: true, force: true });
   const la0 = loadavg()[0];
