@@ -626,7 +626,10 @@ export function barriers(input: Grid | Mesh, opts: BarriersOptions = {}): Barrie
  * order of the join tree) join the components of the basins they connect; each join is a node
  * (children before parents), and `inTree` is set on the transition states that join something.
  */
-function hierarchyOverStates(minima: MinimumRecord[], transitionStates: TransitionStateRecord[]): HierarchyNode[] {
+export function hierarchyOverStates(
+  minima: readonly Pick<MinimumRecord, 'id' | 'bestEnergy'>[],
+  transitionStates: Pick<TransitionStateRecord, 'id' | 'energy' | 'vertex' | 'bestEnergy' | 'connectsPairs' | 'inTree'>[],
+): HierarchyNode[] {
   const nodes: HierarchyNode[] = [];
   const nodeOf = new Map<string, number>();
   for (const m of minima) {
@@ -686,7 +689,7 @@ function fmt(x: number): string {
  * hierarchy meet (their lowest common ancestor). Each join pairs the minima of one child branch with
  * those of another, so every pair is produced once.
  */
-function minimaxBarriers(hierarchy: HierarchyNode[], minima: MinimumRecord[]): MinimaxRow[] {
+export function minimaxBarriers(hierarchy: HierarchyNode[], minima: readonly Pick<MinimumRecord, 'id' | 'bestEnergy'>[]): MinimaxRow[] {
   const byId = new Map(minima.map((m, k) => [m.id, k]));
   const leaves: number[][] = hierarchy.map(() => []);
   const rows: MinimaxRow[] = [];

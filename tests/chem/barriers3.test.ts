@@ -1,0 +1,147 @@
+import { describe, it, expect } from 'vitest';
+import fc from 'fast-check';
+import { Grid3 } from '../../src/surface/grid3.js';
+import { InputError } from '../../src/errors.js';
+import { barriers3, type Barriers3Result } from '../../src/chem/barriers3.js';
+import { reference3, sampleGrid3, mbZ, gaussians, type Stationary3 } from './surfaces3.js';
+
+const ref = reference3();
+
+/** Every SciPy minimum and first-order saddle has one state within the tolerances, with the right Hessian signature. */
+function checkStates(r: Barriers3Result, points: Stationary3[], tolX: number, tolE: number) {
+  const refMin = points.filter((p) => p.kind === 'minimum'), refTs = points.filter((p) => p.kind === 'saddle');
+  expect(r.minima).toHaveLength(refMin.length);
+  expect(r.transitionStates).toHaveLength(refTs.length);
+  const idOf = new Map<string, number>();
+  for (const [want, got] of [[refMin, r.minima], [refTs, r.transitionStates]] as const) {
+    for (const p of want) {
+      const s = got.reduce((a, b) => (Math.hypot(a.bestX - p.x, a.bestY - p.y, a.bestZ - p.z) <= Math.hypot(b.bestX - p.x, b.bestY - p.y, b.bestZ - p.z) ? a : b));
+      expect(s.refined.status).toBe('converged');
+      expect(Math.hypot(s.bestX - p.x, s.bestY - p.y, s.bestZ - p.z)).toBeLessThan(tolX);
+      expect(Math.abs(s.bestEnergy - p.energy)).toBeLessThan(tolE);
+      const neg = s.refined.eigen.values.filter((l) => l < 0).length;
+      expect(neg).toBe(p.hessianEigenvalues.filter((l) => l < 0).length);
+      idOf.set(s.id, points.indexOf(p));
+    }
+  }
+  return idOf;
+}
+
+describe('barriers on 3-D grids, against SciPy', () => {
+  // Source: SciPy's optimize.root on the analytic gradients, signatures by numpy.linalg.eigvalsh
+  // (tests/reference/energy3d.py → fixtures/chem/stationary-3d.json).
+  it('Müller–Brown plus a coupled harmonic z: minima, transition states, barriers, paths, populations', () => {
+    const s = ref.surfaces['mb-z'];
+    const r = barriers3(sampleGrid3(mbZ, s.window, 0.025), { units: 'kJ/mol', temperature: 300 });
+    expect(r.survey.euler.holds).toBe(true);
+    const idOf = checkStates(r, s.stationaryPoints, 3e-3, 0.05);
+    // which minima each saddle joins, as on the analytic surface: the deepest and the shallowest
+    // minimum meet only through the higher saddle, the lower saddle joins the two shallower minima
+    const mins = s.stationaryPoints.filter((p) => p.kind === 'minimum').sort((a, b) => a.energy - b.energy);
+    const byRef = (id: string) => s.stationaryPoints[idOf.get(id)!];
+    const [low, high] = r.transitionStates.slice().sort((a, b) => a.bestEnergy - b.bestEnergy);
+    expect(low.connects.map(byRef).sort((a, b) => a.energy - b.energy)).toEqual([mins[1], mins[2]]);
+    expect(high.connects.map(byRef).sort((a, b) => a.energy - b.energy)).toEqual([mins[0], mins[2]]);
+    // barriers are differences of the refined energies (SciPy's within tolerance)
+    for (const b of r.barriers) {
+      const t = byRef(b.via), a = byRef(b.from), c = byRef(b.to);
+      expect(Math.abs(b.forward! - (t.energy - a.energy))).toBeLessThan(0.1);
+      expect(Math.abs(b.backward! - (t.energy - c.energy))).toBeLessThan(0.1);
+      expect(b.basis).toBe('refined');
+    }
+    // every path: converged, its highest point is the transition state, ends in the minima it joins
+    for (const t of r.transitionStates) {
+      expect(t.path?.status).toBe('converged');
+      expect(t.path!.agrees).toBe(true);
+      expect(Math.abs(t.path!.maximum.energy - byRef(t.id).energy)).toBeLessThan(0.1);
+      expect([...t.path!.ends].sort()).toEqual([...t.connects].sort());
+    }
+    // basin populations are a distribution; the deepest well holds nearly all of it at 300 K
+    // (its free energy is tens of kT below the others': Boltzmann's law, common practice)
+    const pop = r.minima.map((m) => m.basin.population!);
+    expect(pop.reduce((a, b) => a + b, 0)).toBeCloseTo(1, 12);
+    expect(r.minima[0].basin.population).toBeGreaterThan(0.99);
+    // hierarchy: both transition states join basins (three minima, two joins)
+    expect(r.transitionStates.every((t) => t.inTree)).toBe(true);
+    expect(r.hierarchy.filter((n) => n.kind === 'transition-state')).toHaveLength(2);
+  });
+
+  it('three Gaussian wells', () => {
+    const s = ref.surfaces.gaussians;
+    const r = barriers3(sampleGrid3(gaussians, s.window, 0.1), { minPersistence: 0.1 });
+    expect(r.survey.euler.holds).toBe(true);
+    checkStates(r, s.stationaryPoints, 5e-3, 5e-3);
+    for (const t of r.transitionStates) expect(t.path?.agrees).toBe(true);
+  });
+});
+
+describe('barriers on a 3-torus (analytic)', () => {
+  it('one minimum joined to itself by three transition states across the seams', () => {
+    // Source (analytic): V = −cos x − cos y − cos z − ¼ cos(x − z) is a Morse function on the 3-torus
+    // with stationary points at x, y, z ∈ {0, π}: one minimum (0,0,0), V = −3.25; index-1 saddles
+    // (0,π,0) V = −1.25, (π,0,0) and (0,0,π) V = −0.75 (the counts 1, 3, 3, 1 of the torus's Betti numbers).
+    const n = 20, h = (2 * Math.PI) / n;
+    const values = new Float64Array(n * n * n);
+    for (let k = 0; k < n; k++) for (let j = 0; j < n; j++) for (let i = 0; i < n; i++) {
+      const x = i * h, y = j * h, z = k * h;
+      values[i + n * (j + n * k)] = -Math.cos(x) - Math.cos(y) - Math.cos(z) - 0.25 * Math.cos(x - z);
+    }
+    const r = barriers3(new Grid3({ nx: n, ny: n, nz: n, values, spacing: [h, h, h] }), { boundary: 'periodic', minPersistence: 0.1 });
+    expect(r.survey.euler.characteristic).toBe(0);
+    expect(r.minima).toHaveLength(1);
+    expect(r.minima[0].bestEnergy).toBeCloseTo(-3.25, 3);
+    expect(r.transitionStates.map((t) => Number(t.bestEnergy.toFixed(3))).sort((a, b) => a - b)).toEqual([-1.25, -0.75, -0.75]);
+    for (const t of r.transitionStates) {
+      expect(t.connects).toEqual(['M1', 'M1']);
+      expect(t.refined.eigen.values.filter((l) => l < 0)).toHaveLength(1);
+      expect(t.path?.status).toBe('converged');
+      expect(t.path!.agrees).toBe(true);
+    }
+    expect(r.period.every((p) => Math.abs(p! - 2 * Math.PI) < 1e-12)).toBe(true);
+  });
+});
+
+describe('barriers on random 3-D grids (fast-check)', () => {
+  it('states, basins and tables stay consistent in every boundary mode', () => {
+    // Source: the definitions (common practice): every lattice point drains to one minimum or the
+    // outside, populations add to one, a barrier is the transition state's energy minus its minimum's.
+    fc.assert(fc.property(
+      fc.integer({ min: 1, max: 2 ** 30 }), fc.constantFrom('closed' as const, 'open' as const, 'periodic' as const), fc.constantFrom(14 as const, 26 as const),
+      (seed, boundary, connectivity) => {
+        let s = seed;
+        const rnd = () => ((s = (s * 1103515245 + 12345) % 2147483648) / 2147483648);
+        const n = 6;
+        const values = new Float64Array(n * n * n);
+        // a smooth random field: a few random Gaussian wells
+        const wells = Array.from({ length: 3 }, () => [rnd() * n, rnd() * n, rnd() * n, 1 + rnd()]);
+        for (let k = 0; k < n; k++) for (let j = 0; j < n; j++) for (let i = 0; i < n; i++) {
+          let v = 0;
+          for (const [a, b, c, d] of wells) v -= d * Math.exp(-((i - a) ** 2 + (j - b) ** 2 + (k - c) ** 2) / 4);
+          values[i + n * (j + n * k)] = v;
+        }
+        const run = () => barriers3(new Grid3({ nx: n, ny: n, nz: n, values }), { boundary, connectivity, units: 'kT', minPersistence: 0.01, maxPaths: 3 });
+        // on an open boundary every basin may spill off the grid: then the one-line refusal
+        if (boundary === 'open') {
+          try { run(); } catch (e) {
+            expect(e).toBeInstanceOf(InputError);
+            expect(String((e as Error).message)).toMatch(/^no minimum is left after simplification/);
+            return;
+          }
+        }
+        const r = run();
+        expect(r.survey.euler.holds).toBe(true);
+        const ids = new Set(r.minima.map((m) => m.id));
+        for (const t of r.transitionStates) for (const c of t.connects) expect(c === 'outside' || ids.has(c)).toBe(true);
+        for (let i = 0; i < r.basinOf.length; i++) expect(r.basinOf[i] >= 0 || r.basinOf[i] === -2).toBe(true);
+        if (boundary !== 'open') for (let i = 0; i < r.basinOf.length; i++) expect(r.basinOf[i]).toBeGreaterThanOrEqual(0);
+        expect(r.minima.reduce((a, m) => a + m.basin.samples, 0)).toBe(r.basinOf.filter((b) => b >= 0).length);
+        expect(r.minima.reduce((a, m) => a + m.basin.population!, 0)).toBeCloseTo(1, 10);
+        const byId = new Map(r.minima.map((m) => [m.id, m]));
+        const tsById = new Map(r.transitionStates.map((t) => [t.id, t]));
+        for (const b of r.barriers) {
+          if (b.forward !== null) expect(b.forward).toBeCloseTo(tsById.get(b.via)!.bestEnergy - byId.get(b.from)!.bestEnergy, 10);
+        }
+      },
+    ), { numRuns: 25 });
+  });
+});
