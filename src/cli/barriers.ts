@@ -18,6 +18,14 @@ import { loadInput } from './load.js';
 import { checkCellBudget } from './budget.js';
 import { eulerFailure } from './hydro-common.js';
 import type { Boundary } from '../surface/complex.js';
+import type { Grid } from '../surface/grid.js';
+import type { Mesh } from '../surface/mesh.js';
+import type { Grid3 } from '../surface/grid3.js';
+import type { Connectivity3 } from '../surface/complex3.js';
+import type { Barriers3Options } from '../chem/barriers3.js';
+import { barriers3Report, path3Rows, type Barriers3Report, type Barriers3ReportOptions } from '../report/barriers3.js';
+import type { Barriers3Result } from '../chem/barriers3.js';
+import { slices3Svg, profiles3Svg, sliceChoices } from '../render/landscape3.js';
 
 export interface BarriersCliOptions extends CommonOptions {
   units?: string;
@@ -32,6 +40,8 @@ export interface BarriersCliOptions extends CommonOptions {
   minPersistenceDefault?: boolean;
   /** Set by the command: --boundary was left at its default. */
   boundaryDefault?: boolean;
+  /** Set by the command: --connectivity was left at its default. */
+  connectivityDefault?: boolean;
   /** false with --no-gpkg: no results.gpkg. */
   gpkg?: boolean;
 }
@@ -60,6 +70,7 @@ export function registerBarriers(program: Command): void {
     .action(async (input: string, opts: BarriersCliOptions, command: Command) => {
       opts.minPersistenceDefault = command.getOptionValueSource('minPersistence') === 'default';
       opts.boundaryDefault = command.getOptionValueSource('boundary') === 'default';
+      opts.connectivityDefault = command.getOptionValueSource('connectivity') === 'default';
       await runBarriersCommand(input, opts);
     });
 }
@@ -72,9 +83,11 @@ function parsePeriod(s: string | undefined): [number | null, number | null] | un
   return [v[0], v.length === 2 ? v[1] : v[0]];
 }
 
-export async function runBarriersCommand(input: string, opts: BarriersCliOptions): Promise<BarriersReport> {
+export async function runBarriersCommand(input: string, opts: BarriersCliOptions): Promise<BarriersReport | Barriers3Report> {
   const progress = new Progress(opts.quiet || opts.json);
-  const connectivity = parseConnectivity(opts.connectivity);
+  // 14 and 26 are the 3-D connectivities: checked once the input is read
+  const given3 = opts.connectivity === '14' || opts.connectivity === '26';
+  const connectivity = given3 ? 8 : parseConnectivity(opts.connectivity);
   let boundary: Boundary = parseBoundary(opts.boundary ?? 'closed');
   if (opts.periodic) {
     if (opts.boundaryDefault === false && boundary !== 'periodic') {
@@ -102,10 +115,24 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
 
   // the command line in the report names the boundary in effect and leaves out a defaulted --min-persistence
   const render = reportRequest('barriers', [input], { ...opts, boundary, periodic: undefined, minPersistence: minPersistence === undefined ? undefined : opts.minPersistence }, flagsOf({ ...opts }, BARRIERS_FLAGS));
-  const out = openOutput(opts, 'barriers', [...BARRIERS_FILES, ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...reportNames(render)], [input]);
+  const out = openOutput(opts, 'barriers', [...BARRIERS_FILES, ...BARRIERS3_FILES, ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...reportNames(render)], [input]);
   progress.stage(`reading ${input}`);
-  const surface = await loadInput(input, opts);
+  const surface = (await loadInput(input, opts)) as Grid | Mesh | Grid3;
   checkCellBudget('barriers', surface.size, input);
+  if (surface.kind === 'grid3') {
+    try {
+      if (render) throw new InputError(`${input}: --report is not available for 3-D grids yet; -o DIR writes the 3-D figures (slices.svg, profiles.svg, disconnectivity.svg)`);
+      const options3 = barriers3Options(opts, boundary);
+      progress.stage('critical points, basins, refinement and paths (3-D)');
+      return await runBarriers3(surface, input, { ...options3, units, to, temperature, minPersistence, cap, images, maxPaths }, opts, out, progress);
+    } catch (e) {
+      throw out ? out.fail(e) : e;
+    }
+  }
+  if (given3) {
+    const err = new InputError(`--connectivity ${opts.connectivity} is for 3-D grids; ${input} is a 2-D surface: use 4, 6 or 8`);
+    throw out ? out.fail(err) : err;
+  }
   progress.stage('critical points, basins, refinement and paths');
   const { result, report } = barriersReport(surface, {
     connectivity, boundary, units, to, temperature, minPersistence, cap, period, images, maxPaths,
@@ -284,5 +311,138 @@ export function barriersSummary(r: BarriersReport, outDir?: string, gpkg = true)
   }
   for (const n of r.notes) lines.push(`note      ${n}`);
   if (outDir) lines.push(`files     ${outDir}/ report.json minima.csv transition-states.csv barriers.csv paths/ disconnectivity.svg landscape.svg${gpkg ? ' results.gpkg' : ''}`);
+  return lines.join('\n');
+}
+
+/** The files `barriers -o DIR` writes on a 3-D grid besides the 2-D names (which figures differ). */
+export const BARRIERS3_FILES = ['slices.svg', 'profiles.svg'];
+
+/** Connectivity and periodic axes of a 3-D run from the command line. */
+function barriers3Options(opts: BarriersCliOptions, boundary: Boundary): Pick<Barriers3Options, 'connectivity' | 'boundary' | 'periodicAxes'> {
+  let connectivity: Connectivity3 = 14;
+  if (!opts.connectivityDefault && opts.connectivity !== undefined) {
+    if (opts.connectivity !== '14' && opts.connectivity !== '26') throw new InputError(`--connectivity must be 14 (Freudenthal triangulation) or 26 on a 3-D grid, got '${opts.connectivity}'`);
+    connectivity = Number(opts.connectivity) as Connectivity3;
+  }
+  if (boundary === 'periodic-x') return { connectivity, boundary: 'closed', periodicAxes: [true, false, false] };
+  if (boundary === 'periodic-y') return { connectivity, boundary: 'closed', periodicAxes: [false, true, false] };
+  return { connectivity, boundary };
+}
+
+/**
+ * `barriers` on a 3-D grid once it is loaded: the analysis, report.json and the files, the summary.
+ * (Also what the library and the samples command call with a grid built in memory.)
+ */
+export async function runBarriers3(grid: Grid3, input: string | null, options: Barriers3ReportOptions, opts: BarriersCliOptions, out: OutputFolder | null, progress?: Progress): Promise<Barriers3Report> {
+  const { result, report } = barriers3Report(grid, options, input);
+  progress?.done();
+  if (!report.euler.holds) {
+    const e = report.euler;
+    throw new Error(`self-check failed: minima − index-1 saddles + index-2 saddles − maxima = ${e.minima - e.saddles1 + e.saddles2 - e.maxima}, but χ = ${e.characteristic}; please report this with the input`);
+  }
+  if (out) await writeBarriers3Files(out, result, report);
+  if (opts.json) {
+    const sink = new TextSink(1);
+    writeJson(sink, report);
+    sink.write('\n');
+    sink.close();
+  }
+  say(opts, barriers3Summary(report, result, opts.out));
+  return report;
+}
+
+export async function writeBarriers3Files(out: OutputFolder, result: Barriers3Result, report: Barriers3Report): Promise<string[]> {
+  try {
+    const json = (name: string, value: unknown) => withFileSink(out.path(name), (sink) => { writeJson(sink, value, 1); sink.write('\n'); });
+    const csv = <T>(name: string, rows: readonly T[], columns: [string, (r: T) => unknown][]) => withFileSink(out.path(name), (sink) => writeCsvRecords(sink, rows, columns));
+    json('report.json', report);
+    type S = Barriers3Report['minima'][number] | Barriers3Report['transitionStates'][number];
+    const stationaryCols = <T extends S>(): [string, (r: T) => unknown][] => [
+      ['id', (r) => r.id],
+      ['x', (r) => r.refined?.x ?? r.x], ['y', (r) => r.refined?.y ?? r.y], ['z', (r) => r.refined?.z ?? r.z], ['energy', (r) => r.refined?.energy ?? r.energy],
+      ['energy_basis', (r) => r.energyBasis],
+      ['sampled_x', (r) => r.x], ['sampled_y', (r) => r.y], ['sampled_z', (r) => r.z], ['sampled_energy', (r) => r.energy],
+      ['col', (r) => r.col], ['row', (r) => r.row], ['layer', (r) => r.layer], ['on_edge', (r) => (r.onEdge ? 1 : 0)],
+      ['hessian_xx', (r) => r.hessian?.[0][0]], ['hessian_xy', (r) => r.hessian?.[0][1]], ['hessian_xz', (r) => r.hessian?.[0][2]],
+      ['hessian_yy', (r) => r.hessian?.[1][1]], ['hessian_yz', (r) => r.hessian?.[1][2]], ['hessian_zz', (r) => r.hessian?.[2][2]],
+      ['eigenvalue_1', (r) => r.hessianEigenvalues?.[0]], ['eigenvalue_2', (r) => r.hessianEigenvalues?.[1]], ['eigenvalue_3', (r) => r.hessianEigenvalues?.[2]],
+      ['refinement', (r) => r.refinement.status],
+      ['persistence', (r) => r.persistence], ['merged_points', (r) => r.merged.length],
+    ];
+    type Mi = Barriers3Report['minima'][number];
+    type Ts = Barriers3Report['transitionStates'][number];
+    csv('minima.csv', report.minima, [
+      ...stationaryCols<Mi>(),
+      ['basin_samples', (m) => m.basin.samples], ['basin_volume', (m) => m.basin.area],
+      ['free_energy', (m) => m.basin.freeEnergy], ['relative_free_energy', (m) => m.basin.relativeFreeEnergy],
+      ['population', (m) => m.basin.population],
+    ]);
+    csv('transition-states.csv', report.transitionStates, [
+      ...stationaryCols<Ts>(),
+      ['connects_1', (t) => t.connects[0]], ['connects_2', (t) => t.connects[1]],
+      ['multiplicity', (t) => t.multiplicity], ['in_hierarchy', (t) => (t.inTree ? 1 : 0)],
+      ['path_file', (t) => t.path?.file], ['path_maximum', (t) => t.path?.maximum.energy], ['path_agrees', (t) => (t.path ? (t.path.agrees ? 1 : 0) : null)],
+    ]);
+    csv('barriers.csv', report.barriers, [
+      ['from', (b) => b.from], ['to', (b) => b.to], ['via', (b) => b.via],
+      ['forward', (b) => b.forward], ['backward', (b) => b.backward], ['energy_basis', (b) => b.energyBasis],
+      ['rate_forward_per_s', (b) => b.rateForward], ['rate_backward_per_s', (b) => b.rateBackward],
+    ]);
+    if (report.lowestBarriers) {
+      csv('lowest-barriers.csv', report.lowestBarriers, [
+        ['a', (r) => r.a], ['b', (r) => r.b], ['via', (r) => r.via], ['energy', (r) => r.energy], ['from_a', (r) => r.fromA], ['from_b', (r) => r.fromB],
+      ]);
+    }
+    for (const t of result.transitionStates) {
+      if (!t.path || t.path.x.length === 0) continue;
+      csv(`paths/${t.id}.csv`, path3Rows(result, t.path, report.units.factor), [
+        ['arc_length', (p) => p.s], ['x', (p) => p.x], ['y', (p) => p.y], ['z', (p) => p.z], ['energy', (p) => p.energy],
+      ]);
+    }
+    json('disconnectivity.json', { schema: 'sill/disconnectivity@1', unit: report.units.output, ...report.disconnectivity });
+    out.write('disconnectivity.svg', disconnectivitySvg(report));
+    out.write('slices.svg', slices3Svg(result, report));
+    out.write('profiles.svg', profiles3Svg(result, report));
+    return await out.commit();
+  } catch (e) {
+    throw out.fail(e);
+  }
+}
+
+export function barriers3Summary(r: Barriers3Report, result: Barriers3Result, outDir?: string): string {
+  const s = r.surface;
+  const u = r.units.output === 'none' ? '' : ` ${r.units.output}`;
+  const e = (x: number | null | undefined) => fmt(x ?? null, 5);
+  const at = (p: { x: number; y: number; z: number }) => `(${fmt(p.x, 6)}, ${fmt(p.y, 6)}, ${fmt(p.z, 6)})`;
+  const lines: string[] = [];
+  lines.push(`surface   ${s.width} × ${s.height} × ${s.depth} grid, ${s.validCells} valid points`);
+  lines.push(`complex   connectivity ${r.connectivity}, boundary ${r.boundary}; Euler ${r.euler.holds ? 'holds' : 'FAILS'} (χ = ${r.euler.characteristic})`);
+  lines.push(`energies  in${u || ' input units'}${r.units.kT !== null ? `, T = ${r.units.temperature} K, kT = ${fmt(r.units.kT, 4)}${u}` : ''}; ${r.minPersistence.source.startsWith('default') ? 'default ' : ''}min persistence ${fmt(r.minPersistence.value, 4)}${u}`);
+  lines.push(`found     ${r.counts.minima} minima, ${r.counts.transitionStates} transition states`);
+  lines.push('minima:');
+  for (const m of r.minima.slice(0, 20)) {
+    const p = m.refined ?? m;
+    const pop = m.basin.population === null ? '' : `  population ${fmt(m.basin.population, 3)}`;
+    lines.push(`  ${m.id.padEnd(4)} E ${e(p.energy).padStart(10)}  at ${at(p)}${m.refined ? '' : ` [${m.refinement.status}]`}${m.onEdge ? ' [edge]' : ''}${pop}`);
+  }
+  if (r.minima.length > 20) lines.push(`  … ${r.minima.length - 20} more in report.json`);
+  if (r.transitionStates.length) lines.push('transition states:');
+  for (const t of r.transitionStates.slice(0, 20)) {
+    const p = t.refined ?? t;
+    const path = t.path ? `, path max ${t.path.agrees ? 'agrees' : `differs by ${fmt(t.path.maximumMinusTs, 3)}`}` : '';
+    lines.push(`  ${t.id.padEnd(4)} E ${e(p.energy).padStart(10)}  at ${at(p)}  joins ${t.connects.join('–')}${t.refined ? '' : ` [${t.refinement.status}]`}${t.onEdge ? ' [edge]' : ''}${path}`);
+  }
+  if (r.transitionStates.length > 20) lines.push(`  … ${r.transitionStates.length - 20} more in report.json`);
+  if (r.barriers.length) {
+    lines.push(`barriers${u ? ` (${u.trim()})` : ''}:   from → to   via   forward   backward`);
+    for (const b of r.barriers.slice(0, 30)) lines.push(`  ${`${b.from} → ${b.to}`.padEnd(14)} ${b.via.padEnd(5)} ${e(b.forward).padStart(9)} ${e(b.backward).padStart(10)}`);
+    if (r.barriers.length > 30) lines.push(`  … ${r.barriers.length - 30} more in barriers.csv`);
+  }
+  for (const n of r.notes) lines.push(`note      ${n}`);
+  if (outDir) {
+    const sl = sliceChoices(result).map((c) => `${c.id} at layer ${c.layer} (z = ${fmt(c.z, 4)})`).join(', ');
+    lines.push(`figures   slices.svg: x–y planes through ${sl}; profiles.svg: energy along each path`);
+    lines.push(`files     ${outDir}/ report.json minima.csv transition-states.csv barriers.csv paths/ disconnectivity.svg slices.svg profiles.svg`);
+  }
   return lines.join('\n');
 }

@@ -8,7 +8,12 @@
 import type { BarriersReport } from '../report/barriers.js';
 import { esc, px, label, ticks, INK, FAINT, MINIMUM_FILL, SADDLE_FILL, FONT, unitLabel } from './svg.js';
 
-export function disconnectivitySvg(report: BarriersReport): string {
+/** What the figure reads of a report (2-D and 3-D reports alike). */
+export type DisconnectivityInput = Pick<BarriersReport, 'disconnectivity' | 'units' | 'thermodynamics'> & {
+  minima: readonly { id: string; basin: { population: number | null } }[];
+};
+
+export function disconnectivitySvg(report: DisconnectivityInput): string {
   const d = report.disconnectivity;
   const nodes = d.nodes;
   const leaves = nodes.filter((n) => n.children.length === 0);
