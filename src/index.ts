@@ -44,6 +44,11 @@ export {
   barriersReport, reportFromResult as buildBarriersReport,
   type BarriersRun, type BarriersReport, type MinimumEntry, type TransitionStateEntry, type BarrierEntry, type PathEntry, type StationaryEntry, type PointXYE,
 } from './report/barriers.js';
+// barriers on a 3-D grid (Grid3): the analysis, and its report object (the 2-D keys plus z)
+export {
+  barriers3Report, reportFromResult3 as buildBarriers3Report,
+  type Barriers3Run, type Barriers3Report, type Barriers3ReportOptions, type Minimum3Entry, type TransitionState3Entry, type Stationary3Entry, type Path3Entry, type PointXYZE,
+} from './report/barriers3.js';
 export { DepressionRows, type DepressionCore, type DepressionColumns, type CellRef, type PourRecord } from './report/hydro-common.js';
 export { Rows } from './io/stream.js';
 
@@ -55,6 +60,7 @@ export type { Hierarchy } from './hydro/hierarchy.js';
 export type { PondRasters } from './hydro/rasters.js';
 export type { RunoffResult, RunoffWater, WaterBodies } from './hydro/runoff.js';
 export type { BarriersResult, MinimumRecord, TransitionStateRecord, BarrierRow, PathRecord } from './chem/barriers.js';
+export { barriers3, type Barriers3Options, type Barriers3Result, type Minimum3Record, type TransitionState3Record, type Path3Record } from './chem/barriers3.js';
 export { ENERGY_UNITS, conversionFactor, type EnergyUnit } from './chem/units.js';
 
 // writers

@@ -10,3 +10,8 @@ export { noiseFloor, planeResiduals, valueQuantum, NOISE_FACTOR, MAD_SCALE, type
 export { groupByPoint, localSpacing, outwardRise, hullInfo, type HullInfo } from './merge.js';
 export { layoutDisconnectivity, type DisconnectivityLayout, type GraphNode } from './disconnectivity.js';
 export { barriersReport, reportFromResult, type BarriersReport, type BarriersReportOptions, type BarriersRun } from '../report/barriers.js';
+export { barriers3, descentLabels3, lowerLinkComponents3, type Barriers3Options, type Barriers3Result, type Minimum3Record, type TransitionState3Record, type Stationary3Record, type Path3Record, type Location3, type MergedPoint3 } from './barriers3.js';
+export { GridField3, newSample3, hermite4Weights, type Field3Sample } from './field3.js';
+export { refineStationary3, descendOnFit3, eigenSymmetric3, type Refined3, type SymmetricEigen3 } from './refine3.js';
+export { minimumEnergyPath3, steepestDescent3, resample3, type Path3, type EndTarget3 } from './mep3.js';
+export { barriers3Report, reportFromResult3, path3Rows, type Barriers3Report, type Barriers3Run } from '../report/barriers3.js';
