@@ -4,7 +4,11 @@
  *  - The complex, critical points, join tree and persistence pairs come from survey3
  *    (src/morse/survey3.ts; Freudenthal triangulation by default, 14 neighbours).
  *  - Minima are the pits that survive persistence simplification; transition states are the
- *    index-1 saddles that survive it, each joining the basins its lower-link pieces drain to.
+ *    index-1 saddles at which basins merge (inner nodes of the simplified join tree), each joining
+ *    the basins its lower-link pieces drain to. Unlike 2-D, index-1 saddles that close a loop (a
+ *    second channel, a way round a periodic axis, a dip on a ridge) are not reported, only counted
+ *    (`removed.loops`): without dimension-1 persistence a real second channel cannot be told from a
+ *    wrinkle on a ridge.
  *  - Each point is refined on the tricubic fit (src/chem/field3.ts, src/chem/refine3.ts); two
  *    refined points closer than MERGE_TOLERANCE sample spacings are one state (as in 2-D; the 2-D
  *    rule for failed minima inside another's basin is not applied in 3-D).
@@ -121,6 +125,8 @@ export interface Barriers3Result {
     belowThreshold: { minima: number; transitionStates: number; threshold: number; rule: string };
     edge: { transitionStates: number; rule: string };
     merged: { minima: number; transitionStates: number; rule: string };
+    /** Index-1 saddles that close a loop rather than merge basins (3-D only; see the module comment). */
+    loops: { saddles: number; rule: string };
   };
   minima: Minimum3Record[];
   transitionStates: TransitionState3Record[];
@@ -367,12 +373,21 @@ export function barriers3(input: Grid3, opts: Barriers3Options = {}): Barriers3R
     cancelled.set(passV, (cancelled.get(passV) ?? 0) + 1);
     if (P.persistence[k] > 0) { removed.transitionStates++; removed.minima++; }
   }
+  // transition states: the index-1 saddles at which basins merge (inner nodes of the simplified join
+  // tree). Index-1 saddles that close a loop (a second channel between basins already joined, a way
+  // round a periodic axis, or a dip on a ridge) are left out and counted: telling a real second
+  // channel from a wrinkle of a ridge needs dimension-1 persistence, which the 3-D survey does not compute.
+  const treeVerts = new Set<number>();
+  for (let k = 0; k < tree.vertex.length; k++) if (tree.childCount[k] > 0 && tree.vertex[k] >= 0) treeVerts.add(tree.vertex[k]);
   const passVerts: number[] = [], passMult: number[] = [];
+  let loopSaddles = 0;
   const cp = res.critical;
   for (let k = 0; k < cp.vertex.length; k++) {
     if (cp.kind[k] !== SADDLE1) continue;
     const m = cp.multiplicity[k] - (cancelled.get(cp.vertex[k]) ?? 0);
-    if (m > 0) { passVerts.push(cp.vertex[k]); passMult.push(m); }
+    if (m <= 0) continue;
+    if (!treeVerts.has(cp.vertex[k])) { loopSaddles += m; continue; }
+    passVerts.push(cp.vertex[k]); passMult.push(m);
   }
 
   const wrap = cx.wrap;
@@ -572,6 +587,7 @@ export function barriers3(input: Grid3, opts: Barriers3Options = {}): Barriers3R
 
   const badMin = minima.filter((m) => m.refined.status !== 'converged').length;
   const badTs = transitionStates.filter((t) => t.refined.status !== 'converged').length;
+  if (loopSaddles > 0) notes.push(`${loopSaddles} index-1 saddle${loopSaddles === 1 ? '' : 's'} that close${loopSaddles === 1 ? 's' : ''} a loop (a second channel between basins already joined, a way round a periodic axis, or a dip on a ridge) ${loopSaddles === 1 ? 'is' : 'are'} not reported as transition states in 3-D: telling them apart needs dimension-1 persistence, which is not computed`);
   if (badMin + badTs > 0) notes.push(`refinement failed for ${badMin} minim${badMin === 1 ? 'um' : 'a'} and ${badTs} transition state${badTs === 1 ? '' : 's'}: their sampled values are used (see each point's refinement message)`);
 
   return {
@@ -585,6 +601,7 @@ export function barriers3(input: Grid3, opts: Barriers3Options = {}): Barriers3R
       },
       edge: { transitionStates: 0, rule: 'saddle on the hull of the samples where the surface rises out of the window by more than the threshold within one sample spacing' },
       merged: { minima: mergedAway.minima, transitionStates: mergedAway.transitionStates, rule: `refined to the same point (within ${MERGE_TOLERANCE} sample spacing), or a saddle between two such pits` },
+      loops: { saddles: loopSaddles, rule: 'index-1 saddles (with multiplicity) that close a loop instead of merging basins — a second channel between basins already joined, a way round a periodic axis, or a dip on a ridge: not reported in 3-D, where dimension-1 persistence (which would tell them apart) is not computed' },
     },
     minima, transitionStates, barriers: barrierRows, minimax, hierarchy, basinOf, period, notes,
   };

@@ -99,7 +99,9 @@ export interface Euler3Info {
   simplices: number[];
 }
 
-export interface Barriers3Report extends Omit<BarriersReport, 'surface' | 'euler' | 'periodic' | 'fit' | 'minima' | 'transitionStates'> {
+export interface Barriers3Report extends Omit<BarriersReport, 'surface' | 'euler' | 'periodic' | 'fit' | 'minima' | 'transitionStates' | 'removed'> {
+  /** As in 2-D, plus `loops`: index-1 saddles that close a loop, not reported in 3-D. */
+  removed: Barriers3Result['removed'];
   surface: Surface3Info;
   euler: Euler3Info;
   periodic: { x: number | null; y: number | null; z: number | null };

@@ -76,29 +76,57 @@ describe('barriers on 3-D grids, against SciPy', () => {
   });
 });
 
-describe('barriers on a 3-torus (analytic)', () => {
-  it('one minimum joined to itself by three transition states across the seams', () => {
-    // Source (analytic): V = −cos x − cos y − cos z − ¼ cos(x − z) is a Morse function on the 3-torus
-    // with stationary points at x, y, z ∈ {0, π}: one minimum (0,0,0), V = −3.25; index-1 saddles
-    // (0,π,0) V = −1.25, (π,0,0) and (0,0,π) V = −0.75 (the counts 1, 3, 3, 1 of the torus's Betti numbers).
-    const n = 20, h = (2 * Math.PI) / n;
+describe('barriers on 3-tori (analytic)', () => {
+  const torus = (n: number, f: (x: number, y: number, z: number) => number) => {
+    const h = (2 * Math.PI) / n;
     const values = new Float64Array(n * n * n);
-    for (let k = 0; k < n; k++) for (let j = 0; j < n; j++) for (let i = 0; i < n; i++) {
-      const x = i * h, y = j * h, z = k * h;
-      values[i + n * (j + n * k)] = -Math.cos(x) - Math.cos(y) - Math.cos(z) - 0.25 * Math.cos(x - z);
-    }
-    const r = barriers3(new Grid3({ nx: n, ny: n, nz: n, values, spacing: [h, h, h] }), { boundary: 'periodic', minPersistence: 0.1 });
+    for (let k = 0; k < n; k++) for (let j = 0; j < n; j++) for (let i = 0; i < n; i++) values[i + n * (j + n * k)] = f(i * h, j * h, k * h);
+    return new Grid3({ nx: n, ny: n, nz: n, values, spacing: [h, h, h] });
+  };
+
+  it('one minimum: no basins to join, the three loop saddles counted, not reported', () => {
+    // Source (analytic): V = −cos x − cos y − cos z − ¼ cos(x − z) is a Morse function on the 3-torus
+    // with stationary points at x, y, z ∈ {0, π}: one minimum (0,0,0), V = −3.25, and three index-1
+    // saddles (0,π,0), (π,0,0), (0,0,π) — the counts 1, 3, 3, 1 of the torus's Betti numbers. Each
+    // saddle closes a loop round the torus; none merges basins.
+    const r = barriers3(torus(20, (x, y, z) => -Math.cos(x) - Math.cos(y) - Math.cos(z) - 0.25 * Math.cos(x - z)), { boundary: 'periodic', minPersistence: 0.1 });
     expect(r.survey.euler.characteristic).toBe(0);
     expect(r.minima).toHaveLength(1);
     expect(r.minima[0].bestEnergy).toBeCloseTo(-3.25, 3);
-    expect(r.transitionStates.map((t) => Number(t.bestEnergy.toFixed(3))).sort((a, b) => a - b)).toEqual([-1.25, -0.75, -0.75]);
-    for (const t of r.transitionStates) {
-      expect(t.connects).toEqual(['M1', 'M1']);
-      expect(t.refined.eigen.values.filter((l) => l < 0)).toHaveLength(1);
-      expect(t.path?.status).toBe('converged');
-      expect(t.path!.agrees).toBe(true);
-    }
+    expect(r.field.distance(r.minima[0].bestX, r.minima[0].bestY, r.minima[0].bestZ, 0, 0, 0)).toBeLessThan(1e-3);
+    expect(r.transitionStates).toHaveLength(0);
+    expect(r.removed.loops.saddles).toBe(3);
+    expect(r.notes.some((n) => n.startsWith('3 index-1 saddles that close a loop'))).toBe(true);
     expect(r.period.every((p) => Math.abs(p! - 2 * Math.PI) < 1e-12)).toBe(true);
+  });
+
+  it('two minima across the seams: the merging saddle joins them, the path crosses the seam', () => {
+    // Source (analytic): V = −cos 2x − ½ cos y − ½ cos z has minima at x ∈ {0, π}, y = z = 0 (V = −2)
+    // and index-1 saddles at x = ±π/2, y = z = 0 (V = 0, Hessian eigenvalues −4, ½, ½) and at
+    // x ∈ {0, π} with y or z = π (V = −1: each leads from a minimum round the torus back to itself).
+    // The basins of the two minima merge at V = 0 (one of the two equal saddles — ties broken by
+    // the order of the lattice points); the other five close loops.
+    const r = barriers3(torus(24, (x, y, z) => -Math.cos(2 * x) - 0.5 * Math.cos(y) - 0.5 * Math.cos(z)), { boundary: 'periodic', minPersistence: 0.1, units: 'kT' });
+    expect(r.minima).toHaveLength(2);
+    for (const m of r.minima) expect(m.bestEnergy).toBeCloseTo(-2, 3);
+    expect(r.transitionStates).toHaveLength(1);
+    const t = r.transitionStates[0];
+    expect(t.bestEnergy).toBeCloseTo(0, 3);
+    const ev = t.refined.eigen.values;
+    // (the fit's second derivatives are O(h²) accurate, h = π/12 here: within 5 %)
+    expect(Math.abs(ev[0] + 4)).toBeLessThan(0.2);
+    expect(Math.abs(ev[1] - 0.5)).toBeLessThan(0.025);
+    expect(Math.abs(ev[2] - 0.5)).toBeLessThan(0.025);
+    for (const b of r.barriers) { expect(b.forward).toBeCloseTo(2, 3); expect(b.backward).toBeCloseTo(2, 3); }
+    expect([...t.connects].sort()).toEqual(['M1', 'M2']);
+    expect(t.refined.eigen.values.filter((l) => l < 0)).toHaveLength(1);
+    expect(t.path?.status).toBe('converged');
+    expect(t.path!.agrees).toBe(true);
+    expect([...t.path!.ends].sort()).toEqual(['M1', 'M2']);
+    // Morse counts on the 3-torus: 2 minima, 6 index-1 saddles in all (analytic: 2 at x = ±π/2, 4 at y or z = π)
+    expect(r.removed.loops.saddles).toBe(5);
+    // equal basins by symmetry: equal populations
+    expect(r.minima[0].basin.population).toBeCloseTo(0.5, 6);
   });
 });
 
