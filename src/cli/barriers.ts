@@ -12,7 +12,7 @@ import type { OutputFolder } from '../io/outdir.js';
 import { GeoPackageWriter, type GpkgColumnType, type GpkgValue } from '../io/gpkg.js';
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, BARRIERS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildBarriersReport as buildBarriersHtml } from '../render/html/barriers.js';
-import { InputError } from '../errors.js';
+import { InputError, SelfCheckError } from '../errors.js';
 import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, openOutput, VALUE_LIMIT, VALUE_WHY, GPKG_FILE, NO_GPKG, inputTime, type CommonOptions } from './common.js';
 import { loadInput } from './load.js';
 import { checkCellBudget } from './budget.js';
@@ -324,8 +324,9 @@ function barriers3Options(opts: BarriersCliOptions, boundary: Boundary): Pick<Ba
     if (opts.connectivity !== '14' && opts.connectivity !== '26') throw new InputError(`--connectivity must be 14 (Freudenthal triangulation) or 26 on a 3-D grid, got '${opts.connectivity}'`);
     connectivity = Number(opts.connectivity) as Connectivity3;
   }
-  if (boundary === 'periodic-x') return { connectivity, boundary: 'closed', periodicAxes: [true, false, false] };
-  if (boundary === 'periodic-y') return { connectivity, boundary: 'closed', periodicAxes: [false, true, false] };
+  if (boundary === 'periodic-x' || boundary === 'periodic-y') {
+    throw new InputError(`--boundary ${boundary} is for 2-D grids; on a 3-D grid give --boundary closed (or open) --periodic-axes ${boundary.slice(-1)}`);
+  }
   return { connectivity, boundary };
 }
 
@@ -338,7 +339,7 @@ export async function runBarriers3(grid: Grid3, input: string | null, options: B
   progress?.done();
   if (!report.euler.holds) {
     const e = report.euler;
-    throw new Error(`self-check failed: minima − index-1 saddles + index-2 saddles − maxima = ${e.minima - e.saddles1 + e.saddles2 - e.maxima}, but χ = ${e.characteristic}; please report this with the input`);
+    throw new SelfCheckError('the Euler relation does not hold', `χ = ${e.characteristic} by counting simplices, minima − index-1 + index-2 − maxima = ${e.minima - e.saddles1 + e.saddles2 - e.maxima}`);
   }
   if (out) await writeBarriers3Files(out, result, report);
   if (opts.json) {
