@@ -25,7 +25,7 @@ import type { Connectivity3 } from '../surface/complex3.js';
 import type { Barriers3Options } from '../chem/barriers3.js';
 import { barriers3Report, path3Rows, type Barriers3Report, type Barriers3ReportOptions } from '../report/barriers3.js';
 import type { Barriers3Result } from '../chem/barriers3.js';
-import { slices3Svg, profiles3Svg, sliceChoices } from '../render/landscape3.js';
+import { slices3Svg, profiles3Svg } from '../render/landscape3.js';
 
 export interface BarriersCliOptions extends CommonOptions {
   units?: string;
@@ -348,7 +348,7 @@ export async function runBarriers3(grid: Grid3, input: string | null, options: B
     sink.write('\n');
     sink.close();
   }
-  say(opts, barriers3Summary(report, result, opts.out));
+  say(opts, barriers3Summary(report, opts.out));
   return report;
 }
 
@@ -410,7 +410,7 @@ export async function writeBarriers3Files(out: OutputFolder, result: Barriers3Re
   }
 }
 
-export function barriers3Summary(r: Barriers3Report, result: Barriers3Result, outDir?: string): string {
+export function barriers3Summary(r: Barriers3Report, outDir?: string): string {
   const s = r.surface;
   const u = r.units.output === 'none' ? '' : ` ${r.units.output}`;
   const e = (x: number | null | undefined) => fmt(x ?? null, 5);
@@ -441,7 +441,7 @@ export function barriers3Summary(r: Barriers3Report, result: Barriers3Result, ou
   }
   for (const n of r.notes) lines.push(`note      ${n}`);
   if (outDir) {
-    const sl = sliceChoices(result).map((c) => `${c.id} at layer ${c.layer} (z = ${fmt(c.z, 4)})`).join(', ');
+    const sl = r.slices.map((c) => `${c.id} at layer ${c.layer} (z = ${fmt(c.z, 4)})`).join(', ');
     lines.push(`figures   slices.svg: x–y planes through ${sl}; profiles.svg: energy along each path`);
     lines.push(`files     ${outDir}/ report.json minima.csv transition-states.csv barriers.csv paths/ disconnectivity.svg slices.svg profiles.svg`);
   }

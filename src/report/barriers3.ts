@@ -10,6 +10,7 @@ import { barriers3, type Barriers3Options, type Barriers3Result, type Stationary
 import { layoutDisconnectivity } from '../chem/disconnectivity.js';
 import { CODATA_EDITION, conversionFactor, eyringPrefactor, eyringRate, kTIn, type EnergyUnit } from '../chem/units.js';
 import { SILL_VERSION } from './common.js';
+import { sliceChoices } from '../render/landscape3.js';
 import type { BarriersReport, BarrierEntry } from './barriers.js';
 
 export interface Barriers3ReportOptions extends Barriers3Options {
@@ -106,6 +107,8 @@ export interface Barriers3Report extends Omit<BarriersReport, 'surface' | 'euler
   euler: Euler3Info;
   periodic: { x: number | null; y: number | null; z: number | null };
   fit: { kind: 'tricubic'; description: string; spacing: number };
+  /** The x–y planes slices.svg draws: for each state (at most 12), the lattice layer nearest its z. */
+  slices: { id: string; layer: number; z: number }[];
   minima: Minimum3Entry[];
   transitionStates: TransitionState3Entry[];
 }
@@ -205,6 +208,7 @@ export function reportFromResult3(r: Barriers3Result, to: EnergyUnit | undefined
     },
     removed: { ...r.removed, belowThreshold: { ...r.removed.belowThreshold, threshold: E(r.removed.belowThreshold.threshold) } },
     fit: { kind: 'tricubic', description: FIT3_DESCRIPTION, spacing: r.field.spacing },
+    slices: sliceChoices(r),
     counts: {
       minima: minima.length,
       transitionStates: transitionStates.length,

@@ -60,5 +60,12 @@ describe('barriers on a 3-D grid: report and files', () => {
     const slices = readFileSync(join(out, 'slices.svg'), 'utf8');
     for (const s of [...report.minima, ...report.transitionStates]) expect(slices).toContain(`${s.id}<tspan font-weight="400"> · z = `);
     expect(slices).toMatch(/\(layer \d+\)/);
+    // report.json names the same slices: each state's layer is the one nearest its z
+    expect(report.slices.map((c) => c.id)).toEqual([...report.minima, ...report.transitionStates].map((s) => s.id));
+    for (const c of report.slices) {
+      const s = [...report.minima, ...report.transitionStates].find((q) => q.id === c.id)!;
+      expect(Math.abs(c.z - (s.refined ?? s).z)).toBeLessThanOrEqual(0.025 + 1e-12);
+      expect(slices).toContain(`${c.id}<tspan font-weight="400"> · z = ${Number(c.z.toPrecision(4))} (layer ${c.layer})`);
+    }
   });
 });
