@@ -14,7 +14,7 @@ import { reportRequest, addReport, reportSummary, reportNames, flagsOf, BARRIERS
 import { buildBarriersReport as buildBarriersHtml } from '../render/html/barriers.js';
 import { InputError, SelfCheckError } from '../errors.js';
 import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, openOutput, VALUE_LIMIT, VALUE_WHY, GPKG_FILE, NO_GPKG, inputTime, type CommonOptions } from './common.js';
-import { loadInput } from './load.js';
+import { loadInput, columnCount } from './load.js';
 import { checkCellBudget } from './budget.js';
 import { eulerFailure } from './hydro-common.js';
 import type { Boundary } from '../surface/complex.js';
@@ -26,6 +26,8 @@ import type { Barriers3Options } from '../chem/barriers3.js';
 import { barriers3Report, path3Rows, type Barriers3Report, type Barriers3ReportOptions } from '../report/barriers3.js';
 import type { Barriers3Result } from '../chem/barriers3.js';
 import { slices3Svg, profiles3Svg } from '../render/landscape3.js';
+import { isGrid3File, readGrid3 } from '../io/grid3-read.js';
+import { grid3ReadOptions } from './survey3.js';
 
 export interface BarriersCliOptions extends CommonOptions {
   units?: string;
@@ -34,6 +36,8 @@ export interface BarriersCliOptions extends CommonOptions {
   cap?: string;
   periodic?: boolean;
   period?: string;
+  /** 3-D grids: axes that wrap (x,y,z). */
+  periodicAxes?: string;
   images?: string;
   maxPaths?: string;
   /** Set by the command: --min-persistence was left at its default. */
@@ -63,7 +67,8 @@ export function registerBarriers(program: Command): void {
     .option('--temperature <kelvin>', 'temperature for kT, free energies and rates (0.001 to 100 000 K)', '300')
     .option('--cap <energy>', 'treat samples above this energy (input unit) as unsampled')
     .option('--periodic', 'shorthand for --boundary periodic (both axes wrap, e.g. two dihedral angles)')
-    .option('--period <p[,q]>', 'span of a periodic axis (x, or x,y); default 360 or 2π')
+    .option('--period <p[,q]>', 'span of a periodic axis (x, or x,y); default 360 or 2π (3-D grids: one value, or one per periodic axis; default points × spacing)')
+    .option('--periodic-axes <axes>', '3-D grids: axes that wrap, e.g. x,y (the others follow --boundary open or closed)')
     .option('--images <n>', 'images on each minimum-energy path (string method; 5 to 10 000)', '81')
     .option('--max-paths <n>', 'trace paths for at most N transition states, lowest first (up to 10 000)', '200')
     .option(...NO_GPKG)
@@ -109,7 +114,12 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
     ? undefined : parseNumber('--min-persistence', opts.minPersistence, { min: 0, max: VALUE_LIMIT, why: VALUE_WHY });
   const cap = opts.cap === undefined ? undefined : parseNumber('--cap', opts.cap, { max: VALUE_LIMIT, why: VALUE_WHY });
   if (cap !== undefined && cap < -VALUE_LIMIT) throw new InputError(`--cap must be at least -1e150, got '${opts.cap}': ${VALUE_WHY}`);
-  const period = parsePeriod(opts.period);
+  // a 3-D grid (3-D .npy, or x y z value rows) goes to the 3-D analysis; --period is then per axis
+  const is3 = opts.layout === undefined && (await isGrid3File(input, columnCount(opts.columns)));
+  if (!is3 && opts.periodicAxes !== undefined) throw new InputError(`--periodic-axes applies to 3-D grids (a 3-D .npy array, or x y z value text); for a 2-D grid use --boundary periodic, periodic-x or periodic-y`);
+  const options3 = is3 ? barriers3Options(opts, boundary) : null;
+  const read3 = options3 ? grid3ReadOptions(opts, options3.boundary ?? 'closed') : null;
+  const period = is3 ? undefined : parsePeriod(opts.period);
   const images = parseNumber('--images', opts.images ?? '81', { integer: true, min: 5, max: MAX_IMAGES, why: IMAGES_WHY });
   const maxPaths = parseNumber('--max-paths', opts.maxPaths ?? '200', { integer: true, min: 0, max: MAX_PATHS, why: PATHS_WHY });
 
@@ -117,14 +127,14 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
   const render = reportRequest('barriers', [input], { ...opts, boundary, periodic: undefined, minPersistence: minPersistence === undefined ? undefined : opts.minPersistence }, flagsOf({ ...opts }, BARRIERS_FLAGS));
   const out = openOutput(opts, 'barriers', [...BARRIERS_FILES, ...BARRIERS3_FILES, ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...reportNames(render)], [input]);
   progress.stage(`reading ${input}`);
-  const surface = (await loadInput(input, opts)) as Grid | Mesh | Grid3;
+  const surface = read3 ? await readGrid3(input, read3) : (await loadInput(input, opts)) as Grid | Mesh | Grid3;
   checkCellBudget('barriers', surface.size, input);
   if (surface.kind === 'grid3') {
     try {
       if (render) throw new InputError(`${input}: --report is not available for 3-D grids yet; -o DIR writes the 3-D figures (slices.svg, profiles.svg, disconnectivity.svg)`);
-      const options3 = barriers3Options(opts, boundary);
+      const o3 = { ...options3!, periodicAxes: options3!.boundary === 'periodic' ? undefined : read3?.periodicAxes };
       progress.stage('critical points, basins, refinement and paths (3-D)');
-      return await runBarriers3(surface, input, { ...options3, units, to, temperature, minPersistence, cap, images, maxPaths }, opts, out, progress);
+      return await runBarriers3(surface, input, { ...o3, units, to, temperature, minPersistence, cap, images, maxPaths }, opts, out, progress);
     } catch (e) {
       throw out ? out.fail(e) : e;
     }

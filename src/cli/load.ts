@@ -12,9 +12,9 @@ export function columnCount(columns: string | undefined): number {
 
 /** Load the input surface with the options every command shares. */
 export async function loadInput(path: string, opts: CommonOptions): Promise<Grid | Mesh> {
-  // a 3-D grid read as 2-D would be misread (four-field rows as a matrix): only survey takes them so far
+  // a 3-D grid read as 2-D would be misread (four-field rows as a matrix): only survey and barriers take them so far
   if (opts.layout === undefined && (await isGrid3File(path, columnCount(opts.columns)))) {
-    throw new InputError(`${path} is a 3-D grid (a 3-D .npy array, or x y z value rows under a header of four names); this command takes 2-D grids — sill survey reads 3-D grids (--layout matrix reads four-field rows as a 2-D matrix)`);
+    throw new InputError(`${path} is a 3-D grid (a 3-D .npy array, or x y z value rows under a header of four names); this command takes 2-D grids — sill survey and sill barriers read 3-D grids (--layout matrix reads four-field rows as a 2-D matrix)`);
   }
   return loadSurface(path, {
     band: parseNumber('--band', opts.band ?? '1', { integer: true, min: 1, max: 65535, why: 'a TIFF holds at most 65 535 bands (SamplesPerPixel is a 16-bit field)' }),

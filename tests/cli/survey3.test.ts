@@ -79,6 +79,6 @@ describe('sill survey on 3-D grids: refusals', () => {
     ['report on 3-D', () => ['survey', join(dir, 'bowl-c.npy'), '--report'], /--report and --png draw 2-D maps/],
     ['2-D connectivity', () => ['survey', join(dir, 'bowl-c.npy'), '--connectivity', '8'], /must be 14 .* or 26/],
     ['periodic axes on 2-D input', () => ['survey', join(dir, 'flat.txt'), '--periodic-axes', 'x'], /apply to 3-D grids/],
-    ['3-D grid to a 2-D command', () => ['ponds', join(dir, 'bowl.txt')], /is a 3-D grid .* sill survey reads 3-D grids/],
+    ['3-D grid to a 2-D command', () => ['ponds', join(dir, 'bowl.txt')], /is a 3-D grid .* sill survey and sill barriers read 3-D grids/],
   ], () => dir);
 });
