@@ -1,8 +1,11 @@
 /** `sill barriers IN`: minima, transition states, barriers, minimum-energy paths, basin hierarchy. */
 import type { Command } from 'commander';
-import { barriersReport, pathRows, type BarriersReport } from '../report/barriers.js';
+import { barriersReport, pathRows, type BarriersReport, type BarriersReportOptions } from '../report/barriers.js';
 import type { BarriersResult } from '../chem/barriers.js';
-import { parseEnergyUnit, checkTemperature, ENERGY_UNITS, type EnergyUnit } from '../chem/units.js';
+import { sampleDensity, framesFromFile, freeEnergyGrid, BIN_LIMITS, DEFAULT_BLOCKS, MAX_BLOCKS, type SampleOptions } from '../chem/samples.js';
+import { bootstrapBarriers, DEFAULT_RESAMPLES, DEFAULT_SEED, MAX_RESAMPLES } from '../chem/bootstrap.js';
+import { addSamplesReport, DEFAULT_MIN_COUNT } from '../report/samples.js';
+import { parseEnergyUnit, checkTemperature, kTIn, ENERGY_UNITS, type EnergyUnit } from '../chem/units.js';
 import { MAX_IMAGES, MAX_PATHS, IMAGES_WHY, PATHS_WHY, MERGE_TOLERANCE } from '../chem/barriers.js';
 import { NOISE_FACTOR } from '../chem/noise.js';
 import { disconnectivitySvg } from '../render/disconnectivity.js';
@@ -13,7 +16,7 @@ import { GeoPackageWriter, type GpkgColumnType, type GpkgValue } from '../io/gpk
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, BARRIERS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildBarriersReport as buildBarriersHtml } from '../render/html/barriers.js';
 import { InputError } from '../errors.js';
-import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, openOutput, VALUE_LIMIT, VALUE_WHY, GPKG_FILE, NO_GPKG, inputTime, type CommonOptions } from './common.js';
+import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, openOutput, VALUE_LIMIT, VALUE_WHY, GPKG_FILE, NO_GPKG, inputTime, MAX_COLUMN, type CommonOptions, type NumberLimits } from './common.js';
 import { loadInput } from './load.js';
 import { checkCellBudget } from './budget.js';
 import { eulerFailure } from './hydro-common.js';
@@ -34,13 +37,30 @@ export interface BarriersCliOptions extends CommonOptions {
   boundaryDefault?: boolean;
   /** false with --no-gpkg: no results.gpkg. */
   gpkg?: boolean;
+  samples?: string;
+  bins?: string;
+  variables?: string;
+  weights?: string;
+  logWeights?: string;
+  range?: string;
+  bandwidth?: string;
+  blocks?: string;
+  resamples?: string;
+  seed?: string;
+  minCount?: string;
 }
+
+/** Options that only mean something with --samples. */
+const SAMPLE_FLAGS: [keyof BarriersCliOptions, string][] = [
+  ['bins', '--bins'], ['variables', '--variables'], ['weights', '--weights'], ['logWeights', '--log-weights'], ['range', '--range'],
+  ['bandwidth', '--bandwidth'], ['blocks', '--blocks'], ['resamples', '--resamples'], ['seed', '--seed'], ['minCount', '--min-count'],
+];
 
 export function registerBarriers(program: Command): void {
   const cmd = program
     .command('barriers')
     .description('energy landscapes: minima, transition states, barriers, minimum-energy paths and the disconnectivity graph')
-    .argument('<input>', 'energy grid or scattered samples (text x y energy, GeoTIFF, .npy)');
+    .argument('[input]', 'energy grid or scattered samples (text x y energy, GeoTIFF, .npy); or give --samples');
   addCommonOptions(cmd, { boundary: 'closed' });
   const mp = cmd.options.find((o) => o.long === '--min-persistence');
   if (mp) {
@@ -57,7 +77,19 @@ export function registerBarriers(program: Command): void {
     .option('--images <n>', 'images on each minimum-energy path (string method; 5 to 10 000)', '81')
     .option('--max-paths <n>', 'trace paths for at most N transition states, lowest first (up to 10 000)', '200')
     .option(...NO_GPKG)
-    .action(async (input: string, opts: BarriersCliOptions, command: Command) => {
+    .option('--samples <file>', 'free energy from per-frame values of the variables (text columns or a 2-D .npy of frames × columns) instead of an energy grid')
+    .option('--bins <nx,ny>', 'with --samples: bins along each variable (3 to 10 000 each)')
+    .option('--variables <cols>', 'with --samples: 1-based columns of the variables (default 1,2)')
+    .option('--weights <col>', 'with --samples: 1-based column of per-frame weights (reweighted or biased runs)')
+    .option('--log-weights <col>', 'with --samples: 1-based column of per-frame log-weights ln w (e.g. bias/kT)')
+    .option('--range <lo,hi,lo,hi>', 'with --samples: range of each variable (default: from the data; one period on periodic axes)')
+    .option('--bandwidth <s[,s]>', 'with --samples: Gaussian kernel density with this bandwidth per variable (variable units) instead of the histogram')
+    .option('--blocks <n>', `with --samples: blocks of the block bootstrap (2 to ${MAX_BLOCKS})`, String(DEFAULT_BLOCKS))
+    .option('--resamples <n>', `with --samples: bootstrap resamples (2 to ${MAX_RESAMPLES})`, String(DEFAULT_RESAMPLES))
+    .option('--seed <n>', 'with --samples: seed of the bootstrap resampling', String(DEFAULT_SEED))
+    .option('--min-count <n>', 'with --samples: warn when a transition state sits in a bin with fewer frames', String(DEFAULT_MIN_COUNT))
+    .action(async (input: string | undefined, opts: BarriersCliOptions, command: Command) => {
+      for (const [key] of SAMPLE_FLAGS) if (command.getOptionValueSource(key) === 'default') opts[key] = undefined as never;
       opts.minPersistenceDefault = command.getOptionValueSource('minPersistence') === 'default';
       opts.boundaryDefault = command.getOptionValueSource('boundary') === 'default';
       await runBarriersCommand(input, opts);
@@ -72,7 +104,74 @@ function parsePeriod(s: string | undefined): [number | null, number | null] | un
   return [v[0], v.length === 2 ? v[1] : v[0]];
 }
 
-export async function runBarriersCommand(input: string, opts: BarriersCliOptions): Promise<BarriersReport> {
+function parseList(name: string, s: string, counts: number[], limits: NumberLimits): number[] {
+  const parts = s.split(',');
+  if (!counts.includes(parts.length)) throw new InputError(`${name} takes ${counts.join(' or ')} numbers separated by commas, got '${s}'`);
+  return parts.map((p) => parseNumber(name, p, limits));
+}
+
+interface SampleSetup {
+  file: string;
+  options: SampleOptions;
+  boot: { resamples: number; seed: number };
+  minCount: number;
+  weights: { column: number; kind: 'weights' | 'log-weights' } | null;
+  variables: number[];
+}
+
+/** The --samples options, checked (one line per problem). */
+function parseSampleOptions(opts: BarriersCliOptions, boundary: Boundary, period: [number | null, number | null] | undefined): SampleSetup {
+  if (opts.bins === undefined) throw new InputError('--samples needs --bins NX,NY: the number of bins along each variable (e.g. --bins 50,50)');
+  const col = { integer: true, min: 1, max: MAX_COLUMN };
+  const bins = parseList('--bins', opts.bins, [2, 3], { integer: true, min: BIN_LIMITS[0], max: BIN_LIMITS[1], why: 'more bins than frames can fill leave most of them empty' });
+  const dims = bins.length;
+  if (dims === 3) {
+    throw new InputError('--bins with 3 numbers: barriers on 3-variable surfaces is not available yet in this version; give 2 variables (--bins NX,NY and --variables)');
+  }
+  const variables = opts.variables === undefined ? Array.from({ length: dims }, (_, i) => i + 1) : parseList('--variables', opts.variables, [dims], col);
+  const weightCol = opts.weights === undefined ? undefined : parseNumber('--weights', opts.weights, col);
+  const logCol = opts.logWeights === undefined ? undefined : parseNumber('--log-weights', opts.logWeights, col);
+  if (weightCol !== undefined && logCol !== undefined) throw new InputError('--weights and --log-weights both name a weight column; give one of them');
+  let range: ([number, number] | null)[] | undefined;
+  if (opts.range !== undefined) {
+    const v = parseList('--range', opts.range, [2 * dims], { max: VALUE_LIMIT, why: VALUE_WHY });
+    range = [];
+    for (let a = 0; a < dims; a++) {
+      if (!(v[2 * a + 1] > v[2 * a])) throw new InputError(`--range: the range of variable ${a + 1} must be low,high with low < high, got ${v[2 * a]},${v[2 * a + 1]}`);
+      range.push([v[2 * a], v[2 * a + 1]]);
+    }
+  }
+  let bandwidth: number[] | null = null;
+  if (opts.bandwidth !== undefined) {
+    const v = parseList('--bandwidth', opts.bandwidth, [1, dims], { positive: true, max: VALUE_LIMIT, why: VALUE_WHY });
+    bandwidth = v.length === 1 ? new Array<number>(dims).fill(v[0]) : v;
+  }
+  const periodic = [boundary === 'periodic' || boundary === 'periodic-x', boundary === 'periodic' || boundary === 'periodic-y'];
+  if (boundary === 'open') throw new InputError('--boundary open has no meaning for a surface from samples (the edge of the range is not an outlet); use closed or periodic');
+  const blocks = parseNumber('--blocks', opts.blocks ?? String(DEFAULT_BLOCKS), { integer: true, min: 2, max: MAX_BLOCKS, why: 'each block keeps a grid of its own' });
+  const resamples = parseNumber('--resamples', opts.resamples ?? String(DEFAULT_RESAMPLES), { integer: true, min: 2, max: MAX_RESAMPLES, why: 'each resample repeats the analysis' });
+  const seed = parseNumber('--seed', opts.seed ?? String(DEFAULT_SEED), { integer: true, min: 0, max: 4294967295 });
+  const minCount = parseNumber('--min-count', opts.minCount ?? String(DEFAULT_MIN_COUNT), { integer: true, min: 0, max: 1e12 });
+  return {
+    file: opts.samples!,
+    options: {
+      bins, variables, weights: weightCol, logWeights: logCol, range, bandwidth, blocks,
+      periodic, period: period ? [periodic[0] ? period[0] : null, periodic[1] ? period[1] : null] : undefined,
+    },
+    boot: { resamples, seed },
+    minCount,
+    weights: weightCol !== undefined ? { column: weightCol, kind: 'weights' } : logCol !== undefined ? { column: logCol, kind: 'log-weights' } : null,
+    variables,
+  };
+}
+
+export async function runBarriersCommand(input: string | undefined, opts: BarriersCliOptions): Promise<BarriersReport> {
+  if (opts.samples !== undefined && input !== undefined) throw new InputError(`give either an energy surface (${input}) or --samples ${opts.samples}, not both`);
+  if (opts.samples === undefined) {
+    if (input === undefined) throw new InputError('barriers needs an input: an energy surface file, or --samples FILE with --bins (frames of sampled variables)');
+    const stray = SAMPLE_FLAGS.find(([key]) => opts[key] !== undefined);
+    if (stray) throw new InputError(`${stray[1]} applies to --samples (a free energy from frames); leave it out for an energy surface`);
+  }
   const progress = new Progress(opts.quiet || opts.json);
   const connectivity = parseConnectivity(opts.connectivity);
   let boundary: Boundary = parseBoundary(opts.boundary ?? 'closed');
@@ -99,21 +198,39 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
   const period = parsePeriod(opts.period);
   const images = parseNumber('--images', opts.images ?? '81', { integer: true, min: 5, max: MAX_IMAGES, why: IMAGES_WHY });
   const maxPaths = parseNumber('--max-paths', opts.maxPaths ?? '200', { integer: true, min: 0, max: MAX_PATHS, why: PATHS_WHY });
+  const setup = opts.samples === undefined ? null : parseSampleOptions(opts, boundary, period);
+  if (setup && units === 'none') throw new InputError(`--samples makes a free energy F = −kT ln p, which needs an energy unit: add --units (one of ${ENERGY_UNITS.filter((u) => u !== 'none').join(', ')})`);
+  const source = setup ? setup.file : input!;
 
   // the command line in the report names the boundary in effect and leaves out a defaulted --min-persistence
-  const render = reportRequest('barriers', [input], { ...opts, boundary, periodic: undefined, minPersistence: minPersistence === undefined ? undefined : opts.minPersistence }, flagsOf({ ...opts }, BARRIERS_FLAGS));
-  const out = openOutput(opts, 'barriers', [...BARRIERS_FILES, ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...reportNames(render)], [input]);
-  progress.stage(`reading ${input}`);
-  const surface = await loadInput(input, opts);
-  checkCellBudget('barriers', surface.size, input);
-  progress.stage('critical points, basins, refinement and paths');
-  const { result, report } = barriersReport(surface, {
-    connectivity, boundary, units, to, temperature, minPersistence, cap, period, images, maxPaths,
-    threads: parseThreads(opts.threads),
-  }, input);
+  const render = reportRequest('barriers', [source], { ...opts, boundary, periodic: undefined, minPersistence: minPersistence === undefined ? undefined : opts.minPersistence }, flagsOf({ ...opts }, BARRIERS_FLAGS));
+  const out = openOutput(opts, 'barriers', [...BARRIERS_FILES, ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...reportNames(render)], [source]);
+  const analysis: BarriersReportOptions = { connectivity, boundary, units, to, temperature, minPersistence, cap, period, images, maxPaths, threads: parseThreads(opts.threads) };
+  let result: BarriersResult, report: BarriersReport;
+  const warnings: string[] = [];
+  if (setup) {
+    progress.stage(`reading the frames of ${source} (two passes)`);
+    const density = await sampleDensity(framesFromFile(source), setup.options, source);
+    const kT = kTIn(units, temperature)!;
+    const surface = freeEnergyGrid(density, kT);
+    checkCellBudget('barriers', surface.size, source);
+    progress.stage('critical points, basins, refinement and paths');
+    ({ result, report } = barriersReport(surface, analysis, source));
+    if (!report.euler.holds) throw eulerFailure(report.euler);
+    progress.stage(`block bootstrap: ${setup.boot.resamples} resamples of ${density.blocks} blocks`);
+    const boot = bootstrapBarriers(density, kT, result, analysis, setup.boot);
+    warnings.push(...addSamplesReport(report, result, density, boot, { file: source, variables: setup.variables, weights: setup.weights, minCount: setup.minCount }));
+  } else {
+    progress.stage(`reading ${source}`);
+    const surface = await loadInput(source, opts);
+    checkCellBudget('barriers', surface.size, source);
+    progress.stage('critical points, basins, refinement and paths');
+    ({ result, report } = barriersReport(surface, analysis, source));
+  }
   progress.done();
   if (!report.euler.holds) throw eulerFailure(report.euler);
-  if (out) await writeBarriersFiles(out, result, report, render, opts.gpkg !== false && inputTime(input));
+  for (const w of warnings) process.stderr.write(`warning: ${w}\n`);
+  if (out) await writeBarriersFiles(out, result, report, render, opts.gpkg !== false && inputTime(source));
   if (opts.json) {
     const sink = new TextSink(1);
     writeJson(sink, report);

@@ -1,0 +1,56 @@
+/**
+ * A seeded Metropolis sampler written for the tests: frames drawn from exp(−V/kT) on a box (moves
+ * leaving the box are rejected, so the chain samples the density restricted to it), Metropolis et al.,
+ * J. Chem. Phys. 21, 1087 (1953). Random numbers: mulberry32 (seeded); normal steps by Box–Muller.
+ */
+export interface ChainOptions {
+  /** Potential in units of kT. */
+  energy: (x: number, y: number) => number;
+  box: { x: [number, number]; y: [number, number] };
+  start: [number, number];
+  /** Frames kept, every `thin`-th step. */
+  frames: number;
+  thin: number;
+  /** Standard deviation of a trial step per axis. */
+  step: number;
+  seed: number;
+  /** Optional: a column of per-frame values g(x, y) (e.g. a log-weight) as a third field. */
+  extra?: (x: number, y: number) => number;
+}
+
+function mulberry32(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+/** Frames (x, y[, extra]) as one flat Float64Array, frame-major, and the acceptance rate. */
+export function metropolis(o: ChainOptions): { data: Float64Array; fields: number; acceptance: number } {
+  const rand = mulberry32(o.seed);
+  const fields = o.extra ? 3 : 2;
+  const data = new Float64Array(o.frames * fields);
+  let [x, y] = o.start;
+  let e = o.energy(x, y);
+  let accepted = 0, steps = 0;
+  for (let f = 0; f < o.frames; f++) {
+    for (let s = 0; s < o.thin; s++) {
+      // Box–Muller: two normal deviates per step
+      const u1 = 1 - rand(), u2 = rand();
+      const r = o.step * Math.sqrt(-2 * Math.log(u1));
+      const nx = x + r * Math.cos(2 * Math.PI * u2), ny = y + r * Math.sin(2 * Math.PI * u2);
+      steps++;
+      if (nx < o.box.x[0] || nx > o.box.x[1] || ny < o.box.y[0] || ny > o.box.y[1]) continue;
+      const ne = o.energy(nx, ny);
+      if (ne <= e || rand() < Math.exp(e - ne)) { x = nx; y = ny; e = ne; accepted++; }
+    }
+    data[f * fields] = x;
+    data[f * fields + 1] = y;
+    if (o.extra) data[f * fields + 2] = o.extra(x, y);
+  }
+  return { data, fields, acceptance: accepted / steps };
+}
