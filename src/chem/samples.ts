@@ -60,8 +60,9 @@ export interface SampleDensity {
   dims: 2 | 3;
   estimator: 'histogram' | 'kde';
   bins: number[];
-  /** Lower edge of each axis' range, bin width, and period (null: not periodic). */
+  /** Lower and upper edge of each axis' range, bin width, and period (null: not periodic). */
   lo: number[];
+  hi: number[];
   width: number[];
   periods: (number | null)[];
   bandwidth: number[] | null;
@@ -191,7 +192,7 @@ export async function sampleDensity(feed: FrameFeeder, o: SampleOptions, sourceN
 
   // the axes: range, bin width, period
   const notes: string[] = [];
-  const lo: number[] = [], width: number[] = [], periods: (number | null)[] = [];
+  const lo: number[] = [], hi: number[] = [], width: number[] = [], periods: (number | null)[] = [];
   for (let a = 0; a < dims; a++) {
     const n = o.bins[a];
     const given = o.range?.[a] ?? null;
@@ -214,12 +215,14 @@ export async function sampleDensity(feed: FrameFeeder, o: SampleOptions, sourceN
         throw new InputError(`periodic ${AXIS[a]} has values from ${min[a]} to ${max[a]}, in neither [−P/2, P/2] nor [0, P] for the period ${P}; give its range (one period) explicitly`);
       }
       lo.push(l);
+      hi.push(l + P);
       width.push(P / n);
       periods.push(P);
     } else {
       const l = given ? given[0] : min[a], h = given ? given[1] : max[a];
       if (!(h > l)) throw new InputError(`every frame has the same ${AXIS[a]} (${l}); give a range for it, or leave the variable out`);
       lo.push(l);
+      hi.push(h);
       width.push((h - l) / n);
       periods.push(null);
     }
@@ -338,7 +341,7 @@ export async function sampleDensity(feed: FrameFeeder, o: SampleOptions, sourceN
   }
   if (outside > 0) notes.push(`${outside} frame${outside === 1 ? '' : 's'} outside the range ${bw ? 'reach into it only by their kernels' : 'left out'}`);
   return {
-    dims, estimator: bw ? 'kde' : 'histogram', bins, lo, width, periods, bandwidth: bw,
+    dims, estimator: bw ? 'kde' : 'histogram', bins, lo, hi, width, periods, bandwidth: bw,
     frames, used, outside, weighted: wcol !== undefined, totalWeight: sumW, effectiveFrames: (sumW * sumW) / sumW2,
     blocks, blockMass, blockWeight, blockFrames, counts, notes, source,
   };

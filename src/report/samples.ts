@@ -75,7 +75,7 @@ export function addSamplesReport(report: BarriersReport, result: BarriersResult,
       ? 'F = −kT ln p, p = Σ weights in the bin / (Σ weights · bin volume); bins with no frame masked; F shifted so its minimum is 0'
       : `F = −kT ln p, p the Gaussian kernel density (bandwidth per axis, wrapped on periodic axes, kernels cut at ${KDE_CUTOFF} bandwidths) at the bin centres; centres no kernel reaches masked; F shifted so its minimum is 0`,
     bins: d.bins,
-    range: d.lo.map((l, a) => [l, l + d.bins[a] * d.width[a]] as [number, number]),
+    range: d.lo.map((l, a) => [l, d.hi[a]] as [number, number]),
     binWidth: d.width,
     periods: d.periods,
     bandwidth: d.bandwidth,

@@ -114,8 +114,8 @@ describe('block bootstrap pieces', () => {
         // a block with no weight inside the range is refused (tested elsewhere): skip such draws
         const d = await sampleDensity(framesInMemory(data, 3), opts).catch(() => null);
         if (d === null) return;
-        const m = mult.slice(0, blocks);
-        if (m.every((x) => x === 0)) m[0] = 1;
+        const m: number[] = mult.slice(0, blocks);
+        if (!m.some((x) => x > 0)) m[0] = 1;
         // the frames of the resample, written out block by block, binned directly
         const n = rows.length, parts: number[] = [];
         for (let b = 0; b < blocks; b++) {
