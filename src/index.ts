@@ -44,6 +44,11 @@ export {
   barriersReport, reportFromResult as buildBarriersReport,
   type BarriersRun, type BarriersReport, type MinimumEntry, type TransitionStateEntry, type BarrierEntry, type PathEntry, type StationaryEntry, type PointXYE,
 } from './report/barriers.js';
+// free energies from sampled frames (histogram or kernel density) and their block bootstrap (docs/barriers.md)
+export { barriersFromSamples, type BarriersFromSamplesOptions, type BarriersFromSamplesRun } from './report/samples.js';
+export type { SamplesEntry, SampleUncertainty, SpreadEntry } from './report/barriers.js';
+export { sampleDensity, framesFromFile, framesInMemory, densityValues, freeEnergyValues, freeEnergyGrid, freeEnergyGrid3, type SampleOptions, type SampleDensity, type FrameFeeder } from './chem/samples.js';
+export { bootstrapBarriers, type BootstrapOptions, type BootstrapResult } from './chem/bootstrap.js';
 export { DepressionRows, type DepressionCore, type DepressionColumns, type CellRef, type PourRecord } from './report/hydro-common.js';
 export { Rows } from './io/stream.js';
 

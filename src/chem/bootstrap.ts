@@ -6,12 +6,14 @@
  * correlated; blocks much longer than the correlation time are nearly independent). A resample
  * draws B blocks with replacement (seeded, so a run is repeatable), builds the density of those
  * frames from the kept block grids, and runs the same analysis on its free-energy surface (without
- * minimum-energy paths). Each state of the full-series analysis is matched to a state of the same
- * kind in the resample by position: pairs closer than MATCH_RADIUS bins (the distance in bin widths,
- * across a period on periodic axes) are matched one to one, the closest pair first. A barrier is
- * found in a resample when its transition state and both its minima are matched and the matched
- * transition state joins the matched minima; a basin when its minimum is matched. What is not
- * found is counted (`found` of `resamples`), never filled in.
+ * minimum-energy paths). Each minimum of the full-series analysis is matched to a minimum of the
+ * resample by position: pairs closer than MATCH_RADIUS bins (the distance in bin widths, across a
+ * period on periodic axes) are matched one to one, the closest pair first. A barrier is found in a
+ * resample when both its minima are matched and the resample has a barrier between the matched
+ * minima — the one whose transition state lies nearest the original transition state when there are
+ * several (transition states on a flat ridge wander along it between resamples while the barrier
+ * stays put, so they are not matched by a radius). A basin is found when its minimum is matched.
+ * What is not found is counted (`found` of `resamples`), never filled in.
  *
  * For each value: the mean and standard deviation of the resampled values (the bootstrap standard
  * error) and the 2.5 and 97.5 percentiles (the percentile interval at 95 %; linear interpolation
@@ -26,8 +28,8 @@ export const DEFAULT_RESAMPLES = 200;
 export const MAX_RESAMPLES = 100000;
 /** Default seed of the resampling. */
 export const DEFAULT_SEED = 1;
-/** States closer than this many bin widths are one state across resamples. */
-export const MATCH_RADIUS = 2;
+/** Minima closer than this many bin widths are one state across resamples. */
+export const MATCH_RADIUS = 3;
 /** Level of the percentile interval. */
 export const INTERVAL_LEVEL = 0.95;
 
@@ -62,7 +64,7 @@ export interface BootstrapResult {
   /** One per row of `base.barriers`, one per minimum of `base.minima`. */
   barriers: BarrierUncertainty[];
   basins: BasinUncertainty[];
-  /** Transition states found per resample, one per `base.transitionStates`. */
+  /** Resamples in which each transition state's barrier(s) were found, one per `base.transitionStates`. */
   transitionStatesFound: number[];
   /** Resamples whose analysis refused (e.g. no minimum left): every state counts as missing there. */
   failed: number;
@@ -85,15 +87,18 @@ function random(seed: number): () => number {
   };
 }
 
+/** a − b along `axis` in bin widths, the shorter way round on a periodic axis. */
+function binDelta(d: SampleDensity, a: number, b: number, axis: number): number {
+  let t = (a - b) / d.width[axis];
+  const n = d.periods[axis] === null ? 0 : d.bins[axis];
+  if (n) t -= n * Math.round(t / n);
+  return t;
+}
+
 /** Match `from` states to `to` states by position (bin units, periodic axes wrapped): index into `to` or -1. */
 export function matchStates(from: readonly StationaryRecord[], to: readonly StationaryRecord[], d: SampleDensity, radius = MATCH_RADIUS): Int32Array {
   const pairs: [number, number, number][] = [];
-  const delta = (a: number, b: number, axis: number) => {
-    let t = (a - b) / d.width[axis];
-    const n = d.periods[axis] === null ? 0 : d.bins[axis];
-    if (n) t -= n * Math.round(t / n);
-    return t;
-  };
+  const delta = (a: number, b: number, axis: number) => binDelta(d, a, b, axis);
   for (let i = 0; i < from.length; i++) {
     for (let j = 0; j < to.length; j++) {
       const dx = delta(from[i].bestX, to[j].bestX, 0), dy = delta(from[i].bestY, to[j].bestY, 1);
@@ -150,6 +155,7 @@ export function bootstrapBarriers(d: SampleDensity, kT: number, base: BarriersRe
   const tsFound = new Array<number>(base.transitionStates.length).fill(0);
   const minIndex = new Map(base.minima.map((m, i) => [m.id, i]));
   const tsIndex = new Map(base.transitionStates.map((t, i) => [t.id, i]));
+  const delta = (a: number, b: number, axis: number) => binDelta(d, a, b, axis);
   let failed = 0;
   for (let r = 0; r < R; r++) {
     mult.fill(0);
@@ -162,39 +168,40 @@ export function bootstrapBarriers(d: SampleDensity, kT: number, base: BarriersRe
       throw e;
     }
     const mm = matchStates(base.minima, res.minima, d);
-    const mt = matchStates(base.transitionStates, res.transitionStates, d);
-    for (let t = 0; t < mt.length; t++) if (mt[t] >= 0) tsFound[t]++;
     let Fmin = Infinity;
     for (const m of res.minima) if (m.basin.freeEnergy !== null && m.basin.freeEnergy < Fmin) Fmin = m.basin.freeEnergy;
     for (let i = 0; i < nm; i++) {
       const F = mm[i] >= 0 ? res.minima[mm[i]].basin.freeEnergy : null;
       if (F !== null && Number.isFinite(Fmin)) rel[i][nRel[i]++] = F - Fmin;
     }
-    // the resample's rows by transition state
-    const rows = new Map<string, number[]>();
-    res.barriers.forEach((row, k) => { const l = rows.get(row.via); if (l) l.push(k); else rows.set(row.via, [k]); });
-    const idOf = (id: string, kind: 'min' | 'ts'): string | null => {
+    const resTs = new Map(res.transitionStates.map((t) => [t.id, t]));
+    const matchedId = (id: string): string | null => {
       if (id === 'outside') return 'outside';
-      const i = kind === 'min' ? minIndex.get(id) : tsIndex.get(id);
-      if (i === undefined) return null;
-      const j = kind === 'min' ? mm[i] : mt[i];
-      return j < 0 ? null : kind === 'min' ? res.minima[j].id : res.transitionStates[j].id;
+      const i = minIndex.get(id);
+      return i === undefined || mm[i] < 0 ? null : res.minima[mm[i]].id;
     };
     for (let k = 0; k < nb; k++) {
       const row = base.barriers[k];
-      const via = idOf(row.via, 'ts'), from = idOf(row.from, 'min'), to = idOf(row.to, 'min');
-      if (via === null || from === null || to === null) continue;
-      for (const q of rows.get(via) ?? []) {
+      const from = matchedId(row.from), to = matchedId(row.to);
+      if (from === null || to === null) continue;
+      // the resample's barriers between the matched minima; the one whose transition state is nearest the original's
+      const ts = base.transitionStates[tsIndex.get(row.via)!];
+      let best = -1, bestR = Infinity, swapped = false;
+      for (let q = 0; q < res.barriers.length; q++) {
         const o = res.barriers[q];
-        let f: number | null, b: number | null;
-        if (o.from === from && o.to === to) { f = o.forward; b = o.backward; }
-        else if (o.from === to && o.to === from) { f = o.backward; b = o.forward; }
-        else continue;
-        found[k]++;
-        if (f !== null) fwd[k][nF[k]++] = f;
-        if (b !== null) bwd[k][nBk[k]++] = b;
-        break;
+        const same = o.from === from && o.to === to, reverse = o.from === to && o.to === from;
+        if (!same && !reverse) continue;
+        const t = resTs.get(o.via)!;
+        const r = Math.hypot(delta(ts.bestX, t.bestX, 0), delta(ts.bestY, t.bestY, 1));
+        if (r < bestR) { bestR = r; best = q; swapped = !same; }
       }
+      if (best < 0) continue;
+      const o = res.barriers[best];
+      const [f, b] = swapped ? [o.backward, o.forward] : [o.forward, o.backward];
+      found[k]++;
+      tsFound[tsIndex.get(row.via)!]++;
+      if (f !== null) fwd[k][nF[k]++] = f;
+      if (b !== null) bwd[k][nBk[k]++] = b;
     }
   }
   return {

@@ -10,3 +10,6 @@ export { noiseFloor, planeResiduals, valueQuantum, NOISE_FACTOR, MAD_SCALE, type
 export { groupByPoint, localSpacing, outwardRise, hullInfo, type HullInfo } from './merge.js';
 export { layoutDisconnectivity, type DisconnectivityLayout, type GraphNode } from './disconnectivity.js';
 export { barriersReport, reportFromResult, type BarriersReport, type BarriersReportOptions, type BarriersRun } from '../report/barriers.js';
+export { sampleDensity, framesFromFile, framesInMemory, densityValues, freeEnergyValues, freeEnergyGrid, freeEnergyGrid3, maskedBins, binOf, KDE_CUTOFF, DEFAULT_BLOCKS, type SampleOptions, type SampleDensity, type FrameFeeder } from './samples.js';
+export { bootstrapBarriers, matchStates, spread, DEFAULT_RESAMPLES, DEFAULT_SEED, MATCH_RADIUS, INTERVAL_LEVEL, type BootstrapOptions, type BootstrapResult, type Spread } from './bootstrap.js';
+export { barriersFromSamples, addSamplesReport, DEFAULT_MIN_COUNT, type BarriersFromSamplesOptions, type BarriersFromSamplesRun } from '../report/samples.js';

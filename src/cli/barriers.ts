@@ -1,11 +1,11 @@
 /** `sill barriers IN`: minima, transition states, barriers, minimum-energy paths, basin hierarchy. */
 import type { Command } from 'commander';
-import { barriersReport, pathRows, type BarriersReport, type BarriersReportOptions } from '../report/barriers.js';
+import { barriersReport, pathRows, type BarriersReport, type BarriersReportOptions, type BarrierEntry, type SpreadEntry } from '../report/barriers.js';
 import type { BarriersResult } from '../chem/barriers.js';
-import { sampleDensity, framesFromFile, freeEnergyGrid, BIN_LIMITS, DEFAULT_BLOCKS, MAX_BLOCKS, type SampleOptions } from '../chem/samples.js';
-import { bootstrapBarriers, DEFAULT_RESAMPLES, DEFAULT_SEED, MAX_RESAMPLES } from '../chem/bootstrap.js';
-import { addSamplesReport, DEFAULT_MIN_COUNT } from '../report/samples.js';
-import { parseEnergyUnit, checkTemperature, kTIn, ENERGY_UNITS, type EnergyUnit } from '../chem/units.js';
+import { BIN_LIMITS, DEFAULT_BLOCKS, MAX_BLOCKS, type SampleOptions } from '../chem/samples.js';
+import { DEFAULT_RESAMPLES, DEFAULT_SEED, MAX_RESAMPLES } from '../chem/bootstrap.js';
+import { barriersFromSamples, DEFAULT_MIN_COUNT } from '../report/samples.js';
+import { parseEnergyUnit, checkTemperature, ENERGY_UNITS, type EnergyUnit } from '../chem/units.js';
 import { MAX_IMAGES, MAX_PATHS, IMAGES_WHY, PATHS_WHY, MERGE_TOLERANCE } from '../chem/barriers.js';
 import { NOISE_FACTOR } from '../chem/noise.js';
 import { disconnectivitySvg } from '../render/disconnectivity.js';
@@ -115,8 +115,6 @@ interface SampleSetup {
   options: SampleOptions;
   boot: { resamples: number; seed: number };
   minCount: number;
-  weights: { column: number; kind: 'weights' | 'log-weights' } | null;
-  variables: number[];
 }
 
 /** The --samples options, checked (one line per problem). */
@@ -160,8 +158,6 @@ function parseSampleOptions(opts: BarriersCliOptions, boundary: Boundary, period
     },
     boot: { resamples, seed },
     minCount,
-    weights: weightCol !== undefined ? { column: weightCol, kind: 'weights' } : logCol !== undefined ? { column: logCol, kind: 'log-weights' } : null,
-    variables,
   };
 }
 
@@ -209,17 +205,10 @@ export async function runBarriersCommand(input: string | undefined, opts: Barrie
   let result: BarriersResult, report: BarriersReport;
   const warnings: string[] = [];
   if (setup) {
-    progress.stage(`reading the frames of ${source} (two passes)`);
-    const density = await sampleDensity(framesFromFile(source), setup.options, source);
-    const kT = kTIn(units, temperature)!;
-    const surface = freeEnergyGrid(density, kT);
-    checkCellBudget('barriers', surface.size, source);
-    progress.stage('critical points, basins, refinement and paths');
-    ({ result, report } = barriersReport(surface, analysis, source));
-    if (!report.euler.holds) throw eulerFailure(report.euler);
-    progress.stage(`block bootstrap: ${setup.boot.resamples} resamples of ${density.blocks} blocks`);
-    const boot = bootstrapBarriers(density, kT, result, analysis, setup.boot);
-    warnings.push(...addSamplesReport(report, result, density, boot, { file: source, variables: setup.variables, weights: setup.weights, minCount: setup.minCount }));
+    progress.stage(`reading the frames of ${source} (two passes), the analysis and a block bootstrap of ${setup.boot.resamples} resamples`);
+    const run = await barriersFromSamples(source, { ...analysis, samples: setup.options, bootstrap: setup.boot, minCount: setup.minCount });
+    ({ result, report } = run);
+    warnings.push(...run.warnings);
   } else {
     progress.stage(`reading ${source}`);
     const surface = await loadInput(source, opts);
@@ -250,7 +239,7 @@ export const BARRIERS_FILES = [
 
 /** Column types of the results.gpkg layers minima and transition-states (named like the CSV columns; the rest are REAL). */
 const TEXT_COLUMNS = new Set(['id', 'energy_basis', 'refinement', 'connects_1', 'connects_2', 'path_file']);
-const INTEGER_COLUMNS = new Set(['col', 'row', 'on_edge', 'basin_samples', 'multiplicity', 'in_hierarchy', 'path_agrees']);
+const INTEGER_COLUMNS = new Set(['col', 'row', 'on_edge', 'basin_samples', 'multiplicity', 'in_hierarchy', 'path_agrees', 'bootstrap_found', 'bin_frames']);
 const columnType = (name: string): GpkgColumnType => (TEXT_COLUMNS.has(name) ? 'TEXT' : INTEGER_COLUMNS.has(name) ? 'INTEGER' : 'REAL');
 
 /** A CSV accessor's value as a GeoPackage value (undefined: NULL). */
@@ -285,12 +274,24 @@ export async function writeBarriersFiles(out: OutputFolder, result: BarriersResu
       ['multiplicity', (t) => t.multiplicity], ['in_hierarchy', (t) => (t.inTree ? 1 : 0)],
       ['path_file', (t) => t.path?.file], ['path_maximum', (t) => t.path?.maximum.energy], ['path_agrees', (t) => (t.path ? (t.path.agrees ? 1 : 0) : null)],
     ];
+    // a surface from samples: the bin's frames and the bootstrap spreads as extra columns
+    const fromSamples = report.samples !== undefined;
+    const spreadCols = <T>(name: string, get: (r: T) => SpreadEntry | null | undefined): [string, (r: T) => unknown][] =>
+      (['mean', 'se', 'low', 'high'] as const).map((k) => [`${name}_${k}`, (r: T) => get(r)?.[k]] as [string, (r: T) => unknown]);
+    if (fromSamples) {
+      minimaCols.push(['bootstrap_found', (m) => m.basin.uncertainty?.found], ...spreadCols<BarriersReport['minima'][number]>('relative_free_energy', (m) => m.basin.uncertainty?.relativeFreeEnergy));
+      tsCols.push(['bin_frames', (t) => t.binFrames]);
+    }
     csv('minima.csv', report.minima, minimaCols);
     csv('transition-states.csv', report.transitionStates, tsCols);
     csv('barriers.csv', report.barriers, [
       ['from', (b) => b.from], ['to', (b) => b.to], ['via', (b) => b.via],
       ['forward', (b) => b.forward], ['backward', (b) => b.backward], ['energy_basis', (b) => b.energyBasis],
       ['rate_forward_per_s', (b) => b.rateForward], ['rate_backward_per_s', (b) => b.rateBackward],
+      ...(fromSamples ? [
+        ['bootstrap_found', (b: BarrierEntry) => b.uncertainty?.found] as [string, (b: BarrierEntry) => unknown],
+        ...spreadCols<BarrierEntry>('forward', (b) => b.uncertainty?.forward), ...spreadCols<BarrierEntry>('backward', (b) => b.uncertainty?.backward),
+      ] : []),
     ]);
     if (report.lowestBarriers) {
       csv('lowest-barriers.csv', report.lowestBarriers, [
@@ -396,8 +397,18 @@ export function barriersSummary(r: BarriersReport, outDir?: string, gpkg = true)
     for (const b of r.barriers.slice(0, 30)) {
       const rate = r.rates ? `   ${b.rateForward === null ? '—' : b.rateForward.toExponential(1)}` : '';
       lines.push(`  ${`${b.from} → ${b.to}`.padEnd(14)} ${b.via.padEnd(5)} ${e(b.forward).padStart(9)} ${e(b.backward).padStart(10)}${rate}`);
+      const u = b.uncertainty;
+      if (u) {
+        const one = (s: SpreadEntry | null | undefined) => (s ? `± ${fmt(s.se, 2)} [${fmt(s.low, 4)}, ${fmt(s.high, 4)}]` : '—');
+        lines.push(`  ${''.padEnd(20)} bootstrap: forward ${one(u.forward)}, backward ${one(u.backward)}; found in ${u.found}/${u.resamples}`);
+      }
     }
     if (r.barriers.length > 30) lines.push(`  … ${r.barriers.length - 30} more in barriers.csv`);
+  }
+  const sm = r.samples;
+  if (sm) {
+    lines.push(`samples   ${sm.frames} frames${sm.weights ? ` (${sm.weights.kind} in column ${sm.weights.column}, ${fmt(sm.effectiveFrames, 3)} effective)` : ''}, ${sm.estimator === 'histogram' ? 'histogram' : `kernel density, bandwidth ${sm.bandwidth!.map((b) => fmt(b, 4)).join(', ')}`} on ${sm.bins.join(' × ')} bins, ${sm.maskedBins} masked (no frame)` +
+      (sm.bootstrap ? `; block bootstrap: ${sm.bootstrap.resamples} resamples of ${sm.bootstrap.blocks} blocks, seed ${sm.bootstrap.seed}, ${sm.bootstrap.level * 100} % percentile intervals` : ''));
   }
   for (const n of r.notes) lines.push(`note      ${n}`);
   if (outDir) lines.push(`files     ${outDir}/ report.json minima.csv transition-states.csv barriers.csv paths/ disconnectivity.svg landscape.svg${gpkg ? ' results.gpkg' : ''}`);

@@ -4,9 +4,12 @@
  * barrier and basin free energy (`uncertainty`), in the output unit.
  */
 import type { BarriersResult } from '../chem/barriers.js';
-import { KDE_CUTOFF, binOf, maskedBins, type SampleDensity } from '../chem/samples.js';
-import type { BootstrapResult, Spread } from '../chem/bootstrap.js';
-import type { BarriersReport, SamplesEntry, SpreadEntry } from './barriers.js';
+import { InputError } from '../errors.js';
+import { KDE_CUTOFF, binOf, maskedBins, sampleDensity, framesFromFile, freeEnergyGrid, type SampleDensity, type SampleOptions, type FrameFeeder } from '../chem/samples.js';
+import { bootstrapBarriers, type BootstrapResult, type BootstrapOptions, type Spread } from '../chem/bootstrap.js';
+import { kTIn } from '../chem/units.js';
+import { eulerFailure } from './common.js';
+import { barriersReport, type BarriersReport, type BarriersReportOptions, type SamplesEntry, type SpreadEntry } from './barriers.js';
 
 /** Default least number of frames in a transition state's bin before a warning. */
 export const DEFAULT_MIN_COUNT = 20;
@@ -15,8 +18,8 @@ export const BOOTSTRAP_METHOD =
   'block bootstrap: the frame series is cut into consecutive blocks of equal length; each resample draws as many blocks with replacement (seeded), ' +
   'rebuilds the free-energy surface from them and repeats the analysis (without paths); mean, standard deviation (the standard error) and percentile interval of each value over the resamples in which its states were found';
 export const MATCHING =
-  'states of the full-series analysis are matched to resample states of the same kind closer than `radius` bin widths (across the period on periodic axes), one to one, closest pair first; ' +
-  'a barrier is found when its transition state and both minima are matched and the matched transition state joins the matched minima; a basin when its minimum is matched';
+  'minima of the full-series analysis are matched to resample minima closer than `radius` bin widths (across the period on periodic axes), one to one, closest pair first; ' +
+  'a barrier is found when both its minima are matched and the resample has a barrier between them (the one whose transition state is nearest the original when there are several); a basin when its minimum is matched';
 
 export interface SamplesReportInput {
   file: string | null;
@@ -99,4 +102,52 @@ export function addSamplesReport(report: BarriersReport, result: BarriersResult,
   report.samples = entry;
   report.notes.push(...d.notes);
   return warnings;
+}
+
+export interface BarriersFromSamplesOptions extends BarriersReportOptions {
+  /** How to bin the frames (bins, variables, weights, ranges, periodic axes, bandwidth, blocks). */
+  samples: SampleOptions;
+  /** Bootstrap resamples and seed; `false` leaves the bootstrap out. */
+  bootstrap?: BootstrapOptions | false;
+  /** Least frames in a transition state's bin before a warning; default DEFAULT_MIN_COUNT. */
+  minCount?: number;
+}
+
+export interface BarriersFromSamplesRun {
+  result: BarriersResult;
+  report: BarriersReport;
+  density: SampleDensity;
+  bootstrap: BootstrapResult | null;
+  /** One line each (the command line prints them on stderr); also in report.samples. */
+  warnings: string[];
+}
+
+/**
+ * `barriers` on the free energy of sampled frames: a file path (text columns or .npy) or a
+ * FrameFeeder; periodic axes of the samples follow `boundary` unless `samples.periodic` is given.
+ */
+export async function barriersFromSamples(source: string | FrameFeeder, opts: BarriersFromSamplesOptions): Promise<BarriersFromSamplesRun> {
+  const units = opts.units ?? 'none';
+  const kT = kTIn(units, opts.temperature ?? 300);
+  if (kT === null) throw new InputError('a free energy from samples (F = −kT ln p) needs an energy unit: give units (kJ/mol, kcal/mol, eV, hartree, kT or K)');
+  const b = opts.boundary ?? 'closed';
+  if (b === 'open') throw new InputError('boundary open has no meaning for a surface from samples (the edge of the range is not an outlet); use closed or periodic');
+  const periodic = opts.samples.periodic ?? [b === 'periodic' || b === 'periodic-x', b === 'periodic' || b === 'periodic-y'];
+  const period = opts.samples.period ?? (opts.period ? [periodic[0] ? opts.period[0] : null, periodic[1] ? opts.period[1] : null] : undefined);
+  const minCount = opts.minCount ?? DEFAULT_MIN_COUNT;
+  if (!Number.isInteger(minCount) || minCount < 0) throw new InputError(`the least count must be a whole number ≥ 0, got ${minCount}`);
+  const name = typeof source === 'string' ? source : 'samples';
+  const density = await sampleDensity(typeof source === 'string' ? framesFromFile(source) : source, { ...opts.samples, periodic, period }, name);
+  if (density.dims !== 2) throw new InputError('barriers on 3-variable surfaces is not available yet in this version; give 2 variables');
+  const { result, report } = barriersReport(freeEnergyGrid(density, kT), opts, typeof source === 'string' ? source : null);
+  if (!report.euler.holds) throw eulerFailure(report.euler);
+  const boot = opts.bootstrap === false ? null : bootstrapBarriers(density, kT, result, opts, opts.bootstrap ?? {});
+  const wc = opts.samples.weights ?? opts.samples.logWeights;
+  const warnings = addSamplesReport(report, result, density, boot, {
+    file: typeof source === 'string' ? source : null,
+    variables: opts.samples.variables ? [...opts.samples.variables] : density.bins.map((_, i) => i + 1),
+    weights: wc === undefined ? null : { column: wc, kind: opts.samples.weights !== undefined ? 'weights' : 'log-weights' },
+    minCount,
+  });
+  return { result, report, density, bootstrap: boot, warnings };
 }

@@ -1,13 +1,13 @@
 /**
  * `sill barriers --samples`: frames of the Müller–Brown potential (Müller & Brown 1979) from the
- * Metropolis chain of tests/chem/metropolis.ts, through the command line: the report's samples keys,
+ * Metropolis chain of bench/lib/metropolis.mjs, through the command line: the report's samples keys,
  * the bootstrap keys, the sparse-bin warning, and bad input refused with one line.
  */
 import { describe, it, expect, beforeAll } from 'vitest';
 import { writeFileSync, existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { sill, tempDir, itRejects } from './run.js';
-import { metropolis } from '../chem/metropolis.js';
+import { metropolis } from '../../bench/lib/metropolis.mjs';
 import { muellerBrown, mbReference } from '../chem/mb.js';
 
 let dir = '';
@@ -32,7 +32,7 @@ describe('sill barriers --samples', () => {
     expect(r.code).toBe(0);
     const rep = JSON.parse(r.stdout);
     expect(rep.samples).toMatchObject({ frames: 100000, used: 100000, estimator: 'histogram', bins: [30, 30], names: ['x', 'y'], variables: [1, 2], weights: null, minCount: 20 });
-    expect(rep.samples.bootstrap).toMatchObject({ blocks: 10, resamples: 20, seed: 3, level: 0.95, radius: 2, framesPerBlock: 10000 });
+    expect(rep.samples.bootstrap).toMatchObject({ blocks: 10, resamples: 20, seed: 3, level: 0.95, radius: 3, framesPerBlock: 10000 });
     expect(rep.samples.range).toEqual([[-1.5, 1.2], [-0.5, 2.0]]);
     // Source: SciPy's saddle of the Müller–Brown potential (fixtures/chem/mueller-brown.json) between the two basins left at 1 kT
     const T = mbReference().stationaryPoints.find((p) => p.kind === 'saddle' && p.x < -0.5)!;

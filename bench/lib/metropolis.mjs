@@ -1,24 +1,9 @@
 /**
- * A seeded Metropolis sampler written for the tests: frames drawn from exp(−V/kT) on a box (moves
+ * A seeded Metropolis sampler for the tests and bench/barriers-samples.mjs: frames drawn from exp(−V/kT) on a box (moves
  * leaving the box are rejected, so the chain samples the density restricted to it), Metropolis et al.,
  * J. Chem. Phys. 21, 1087 (1953). Random numbers: mulberry32 (seeded); normal steps by Box–Muller.
  */
-export interface ChainOptions {
-  /** Potential in units of kT. */
-  energy: (x: number, y: number) => number;
-  box: { x: [number, number]; y: [number, number] };
-  start: [number, number];
-  /** Frames kept, every `thin`-th step. */
-  frames: number;
-  thin: number;
-  /** Standard deviation of a trial step per axis. */
-  step: number;
-  seed: number;
-  /** Optional: a column of per-frame values g(x, y) (e.g. a log-weight) as a third field. */
-  extra?: (x: number, y: number) => number;
-}
-
-function mulberry32(seed: number): () => number {
+function mulberry32(seed) {
   let a = seed >>> 0;
   return () => {
     a = (a + 0x6d2b79f5) >>> 0;
@@ -30,7 +15,7 @@ function mulberry32(seed: number): () => number {
 }
 
 /** Frames (x, y[, extra]) as one flat Float64Array, frame-major, and the acceptance rate. */
-export function metropolis(o: ChainOptions): { data: Float64Array; fields: number; acceptance: number } {
+export function metropolis(o) {
   const rand = mulberry32(o.seed);
   const fields = o.extra ? 3 : 2;
   const data = new Float64Array(o.frames * fields);
