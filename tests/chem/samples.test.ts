@@ -12,6 +12,8 @@ import { readFileSync } from 'node:fs';
 import { sampleDensity, framesInMemory, densityValues, freeEnergyValues, freeEnergyGrid, freeEnergyGrid3, binOf, type SampleOptions } from '../../src/chem/samples.js';
 import { bootstrapBarriers, spread, matchStates } from '../../src/chem/bootstrap.js';
 import { barriers, type BarriersOptions } from '../../src/chem/barriers.js';
+import { barriersFromSamples } from '../../src/report/samples.js';
+import { InputError } from '../../src/errors.js';
 import { metropolis } from '../../bench/lib/metropolis.mjs';
 import { muellerBrown, mbReference } from './mb.js';
 
@@ -149,6 +151,38 @@ describe('block bootstrap pieces', () => {
         const q = densityValues(e);
         for (let i = 0; i < p.length; i++) expect(q[i]).toBeCloseTo(p[i], 9);
       }), { numRuns: 60 });
+  });
+
+  it('the resampling is seeded: the same seed gives the same intervals, another seed others', async () => {
+    const n = 4000, data = new Float64Array(2 * n);
+    let s = 7;
+    const u = () => ((s = (Math.imul(s, 1103515245) + 12345) >>> 0) + 0.5) / 4294967296;
+    for (let i = 0; i < n; i++) {
+      // two normal wells at x = ±1 (Box–Muller)
+      const r = Math.sqrt(-2 * Math.log(u())), t = 2 * Math.PI * u();
+      data[2 * i] = (i % 2 ? 1 : -1) + 0.4 * r * Math.cos(t);
+      data[2 * i + 1] = 0.4 * r * Math.sin(t);
+    }
+    const d = await sampleDensity(framesInMemory(data, 2), { bins: [16, 10] });
+    const opts: BarriersOptions = { units: 'kT', cap: 6 };
+    const r = barriers(freeEnergyGrid(d, 1), { ...opts, maxPaths: 0 });
+    const a = bootstrapBarriers(d, 1, r, opts, { resamples: 12, seed: 9 });
+    const b = bootstrapBarriers(d, 1, r, opts, { resamples: 12, seed: 9 });
+    const c = bootstrapBarriers(d, 1, r, opts, { resamples: 12, seed: 10 });
+    expect(b).toEqual(a);
+    expect(c.barriers).not.toEqual(a.barriers);
+  });
+
+  it('barriersFromSamples refuses what it cannot do with one line: no unit, 3 variables (the 3-D grid is built by freeEnergyGrid3)', async () => {
+    const data = Float64Array.from({ length: 300 }, (_, i) => Math.sin(i * 1.7) + (i % 3));
+    for (const [opts, msg] of [
+      [{ samples: { bins: [5, 5] } }, /needs an energy unit/],
+      [{ units: 'kT', samples: { bins: [5, 5, 5] } }, /3-variable surfaces is not available yet/],
+    ] as const) {
+      const err = await barriersFromSamples(framesInMemory(data, 3), opts as never).then(() => null, (e) => e);
+      expect(err).toBeInstanceOf(InputError);
+      expect(err.message).toMatch(msg);
+    }
   });
 
   it('states are matched by position, across the period, one to one', () => {
