@@ -132,13 +132,13 @@ export async function barriersFromSamples(source: string | FrameFeeder, opts: Ba
   if (kT === null) throw new InputError('a free energy from samples (F = −kT ln p) needs an energy unit: give units (kJ/mol, kcal/mol, eV, hartree, kT or K)');
   const b = opts.boundary ?? 'closed';
   if (b === 'open') throw new InputError('boundary open has no meaning for a surface from samples (the edge of the range is not an outlet); use closed or periodic');
+  if (opts.samples.bins?.length === 3) throw new InputError('barriers on 3-variable surfaces is not available yet in this version; give 2 variables (freeEnergyGrid3 builds the 3-D grid)');
   const periodic = opts.samples.periodic ?? [b === 'periodic' || b === 'periodic-x', b === 'periodic' || b === 'periodic-y'];
   const period = opts.samples.period ?? (opts.period ? [periodic[0] ? opts.period[0] : null, periodic[1] ? opts.period[1] : null] : undefined);
   const minCount = opts.minCount ?? DEFAULT_MIN_COUNT;
   if (!Number.isInteger(minCount) || minCount < 0) throw new InputError(`the least count must be a whole number ≥ 0, got ${minCount}`);
   const name = typeof source === 'string' ? source : 'samples';
   const density = await sampleDensity(typeof source === 'string' ? framesFromFile(source) : source, { ...opts.samples, periodic, period }, name);
-  if (density.dims !== 2) throw new InputError('barriers on 3-variable surfaces is not available yet in this version; give 2 variables');
   const { result, report } = barriersReport(freeEnergyGrid(density, kT), opts, typeof source === 'string' ? source : null);
   if (!report.euler.holds) throw eulerFailure(report.euler);
   const boot = opts.bootstrap === false ? null : bootstrapBarriers(density, kT, result, opts, opts.bootstrap ?? {});
