@@ -1,7 +1,7 @@
 #!/usr/bin/env node
 /**
  * Free energies from samples (barriers --samples), two parts:
- *   npm run build && node bench/barriers-samples.mjs [--seeds 20] [--frames 1000000] [--resamples 200] [--stream 10000000] [--json]
+ *   npm run build && node bench/barriers-samples.mjs [--seeds 20] [--frames 1000000] [--bins 30] [--resamples 200] [--stream 10000000] [--json]
  *
  * 1. Coverage of the bootstrap intervals. For each seed, frames of a Metropolis chain
  *    (bench/lib/metropolis.mjs) on the Müller–Brown potential (Müller & Brown, Theor. Chim. Acta
@@ -30,11 +30,12 @@ const { values: opt } = parseArgs({
     seeds: { type: 'string', default: '20' },
     frames: { type: 'string', default: '1000000' },
     resamples: { type: 'string', default: '200' },
+    bins: { type: 'string', default: '30' },
     stream: { type: 'string', default: '10000000' },
     json: { type: 'boolean', default: false },
   },
 });
-const seeds = Number(opt.seeds), frames = Number(opt.frames), resamples = Number(opt.resamples), stream = Number(opt.stream);
+const seeds = Number(opt.seeds), frames = Number(opt.frames), resamples = Number(opt.resamples), stream = Number(opt.stream), nbins = Number(opt.bins);
 
 const samples = await importDist('chem/samples.js');
 const boot = await importDist('chem/bootstrap.js');
@@ -69,18 +70,18 @@ async function one(seed, weighted) {
   const t0 = performance.now();
   const energy = (x, y) => (weighted ? 0.5 : 1) * muellerBrown(x, y) / S;
   const ch = metropolis({ energy, box, start: [-0.55, 1.44], frames, thin: 5, step: 0.05, seed, extra: weighted ? (x, y) => -0.5 * muellerBrown(x, y) / S : undefined });
-  const d = await sampleDensity(framesInMemory(ch.data, ch.fields), { bins: [30, 30], range: [box.x, box.y], logWeights: weighted ? 3 : undefined });
+  const d = await sampleDensity(framesInMemory(ch.data, ch.fields), { bins: [nbins, nbins], range: [box.x, box.y], logWeights: weighted ? 3 : undefined });
   const r = barriers(freeEnergyGrid(d, 1), { ...analysis, maxPaths: 0 });
   const bs = bootstrapBarriers(d, 1, r, analysis, { resamples, seed });
   const k = r.barriers.findIndex((row) => {
     const t = r.transitionStates.find((q) => q.id === row.via);
-    return Math.hypot(t.bestX - TS.x, t.bestY - TS.y) < 0.18;
+    return Math.hypot(t.bestX - TS.x, t.bestY - TS.y) < 2 * 2.7 / nbins;
   });
   const out = { seed, weighted, seconds: (performance.now() - t0) / 1000, minima: r.minima.length, transitionStates: r.transitionStates.length, found: k >= 0 };
   if (k < 0) return out;
   const row = r.barriers[k], u = bs.barriers[k];
   const from = r.minima.find((m) => m.id === row.from);
-  const fromA = Math.hypot(from.bestX - MA.x, from.bestY - MA.y) < 0.18;
+  const fromA = Math.hypot(from.bestX - MA.x, from.bestY - MA.y) < 2 * 2.7 / nbins;
   const exact = fromA ? [(TS.energy - MA.energy) / S, (TS.energy - MB.energy) / S] : [(TS.energy - MB.energy) / S, (TS.energy - MA.energy) / S];
   const sides = [['forward', row.forward, u.forward, exact[0]], ['backward', row.backward, u.backward, exact[1]]].map(([name, est, s, want]) => ({
     name, estimate: est, exact: want, se: s?.se ?? null, low: s?.low ?? null, high: s?.high ?? null, inside: s !== null && want >= s.low && want <= s.high,
@@ -149,5 +150,5 @@ if (stream > 0) {
   }
 }
 
-if (opt.json) console.log(JSON.stringify({ frames, resamples, coverage, streaming, results }, null, 1));
+if (opt.json) console.log(JSON.stringify({ frames, bins: nbins, resamples, coverage, streaming, results }, null, 1));
 else for (const c of coverage) console.log(`${c.weighted ? 'reweighted' : 'unbiased'}: saddle found in ${c.saddleFound}/${c.seeds} seeds; exact barrier inside the 95 % interval in ${c.inside}/${c.intervals} (forward ${c.forwardInside}, backward ${c.backwardInside}); mean se ${c.meanSe.toFixed(3)} kT; ${c.secondsPerSeed.toFixed(1)} s per seed`);

@@ -199,7 +199,7 @@ export async function runBarriersCommand(input: string | undefined, opts: Barrie
   const source = setup ? setup.file : input!;
 
   // the command line in the report names the boundary in effect and leaves out a defaulted --min-persistence
-  const render = reportRequest('barriers', [source], { ...opts, boundary, periodic: undefined, minPersistence: minPersistence === undefined ? undefined : opts.minPersistence }, flagsOf({ ...opts }, BARRIERS_FLAGS));
+  const render = reportRequest('barriers', setup ? [] : [source], { ...opts, boundary, periodic: undefined, minPersistence: minPersistence === undefined ? undefined : opts.minPersistence }, flagsOf({ ...opts }, BARRIERS_FLAGS));
   const out = openOutput(opts, 'barriers', [...BARRIERS_FILES, ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...reportNames(render)], [source]);
   const analysis: BarriersReportOptions = { connectivity, boundary, units, to, temperature, minPersistence, cap, period, images, maxPaths, threads: parseThreads(opts.threads) };
   let result: BarriersResult, report: BarriersReport;
