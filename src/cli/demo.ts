@@ -82,10 +82,10 @@ export async function runDemo(dir: string, quiet: boolean, force = false): Promi
   log('');
   log(`== ${frames.description}`);
   log(`   input ${framesPath}`);
-  log(`-- sill barriers --samples ${framesPath} --bins 36,36 --periodic --units kJ/mol --cap 12 --resamples 50 -o ${join(root, 'dihedral-frames-barriers')} --report`);
+  log(`-- sill barriers --samples ${framesPath} --bins 36,36 --periodic --units kJ/mol --cap 12 --resamples 50 -o ${join(root, 'dihedral-frames-barriers')}`);
   await runBarriersCommand(undefined, {
     out: join(root, 'dihedral-frames-barriers'), ...force_, samples: framesPath, bins: '36,36', units: 'kJ/mol', cap: '12', resamples: '50',
-    periodic: true, boundaryDefault: true, minPersistenceDefault: true, connectivity: '8', quiet, report: true,
+    periodic: true, boundaryDefault: true, minPersistenceDefault: true, connectivity: '8', quiet,
   });
   log('');
   log(`demo results in ${root}`);
