@@ -12,7 +12,8 @@ The checks of src/chem/samples.ts (tests/chem/samples.test.ts) bin the same fram
   each variable (every (u, v) with (-u, v), (u, -v), (-u, -v)), so their covariance is diagonal and
   SciPy's factor f is the bandwidth f * std per axis, which the script records. For the periodic
   kernel the frames are given to SciPy with their images one period to each side along x (the
-  images keep the covariance diagonal); the wrapped density in the window is 3 times SciPy's.
+  images keep the covariance diagonal); the wrapped density in the window is 3 times SciPy's. A
+  3-variable kernel density too (frames symmetric in every variable).
 
 Run with Debian's Python: /usr/bin/python3 tests/reference/samples_reference.py
 Output: fixtures/chem/samples-reference.json (with the NumPy and SciPy versions).
@@ -99,8 +100,24 @@ d = 3 * stats.gaussian_kde(aug.T, bw_method=f)(pts)
 kde.append({"name": "periodic x kernel density", "frames": fq.round(12).tolist(), "bins": list(binsq), "range": [list(r) for r in rngq],
             "bwMethod": f, "covariance": cov.tolist(), "bandwidth": bw.tolist(), "periodic": [True, False], "density": d.tolist()})
 
+# 3 variables: frames symmetric in each variable about (0, 1, -1) (all 8 sign combinations)
+u, v, w = rs.normal(0, 1.0, 20), rs.normal(0, 0.5, 20), rs.normal(0, 2.0, 20)
+f3k = np.array([[a * x, b * y, c * z] for a in (1, -1) for b in (1, -1) for c in (1, -1) for x, y, z in zip(u, v, w)]) + [0.0, 1.0, -1.0]
+f = 0.4
+cov3 = np.cov(f3k.T)
+bw3 = f * np.sqrt(np.diag(cov3))
+rng3k = [(-3.0, 3.0), (-0.5, 2.5), (-6.0, 4.0)]
+bins3k = (8, 6, 5)
+gx, gy, gz = np.meshgrid(centres(*rng3k[0], bins3k[0]), centres(*rng3k[1], bins3k[1]), centres(*rng3k[2], bins3k[2]), indexing="ij")
+# x fastest: order the points by (z, y, x)
+pts = np.vstack([gx.transpose(2, 1, 0).ravel(), gy.transpose(2, 1, 0).ravel(), gz.transpose(2, 1, 0).ravel()])
+d = stats.gaussian_kde(f3k.T, bw_method=f)(pts)
+kde.append({"name": "3-D kernel density", "frames": f3k.round(12).tolist(), "bins": list(bins3k), "range": [list(r) for r in rng3k],
+            "bwMethod": f, "covariance": cov3.tolist(), "bandwidth": bw3.tolist(), "periodic": [False, False, False], "density": d.tolist()})
+
 for k in kde:
-    assert abs(k["covariance"][0][1]) < 1e-9 * k["covariance"][0][0], k["name"]
+    c = np.array(k["covariance"])
+    assert np.all(np.abs(c - np.diag(np.diag(c))) < 1e-9 * np.max(np.diag(c))), k["name"]
 
 # bootstrap summaries: the standard deviation (ddof 1) and the 2.5 / 97.5 percentiles (NumPy's default, linear)
 vals = rs.gamma(2.0, 1.5, 37)
