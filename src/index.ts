@@ -49,6 +49,11 @@ export {
   barriers3Report, reportFromResult3 as buildBarriers3Report,
   type Barriers3Run, type Barriers3Report, type Barriers3ReportOptions, type Minimum3Entry, type TransitionState3Entry, type Stationary3Entry, type Path3Entry, type PointXYZE,
 } from './report/barriers3.js';
+// free energies from sampled frames (histogram or kernel density) and their block bootstrap (docs/barriers.md)
+export { barriersFromSamples, type BarriersFromSamplesOptions, type BarriersFromSamplesRun } from './report/samples.js';
+export type { SamplesEntry, SampleUncertainty, SpreadEntry } from './report/barriers.js';
+export { sampleDensity, framesFromFile, framesInMemory, densityValues, freeEnergyValues, freeEnergyGrid, freeEnergyGrid3, type SampleOptions, type SampleDensity, type FrameFeeder } from './chem/samples.js';
+export { bootstrapBarriers, type BootstrapOptions, type BootstrapResult } from './chem/bootstrap.js';
 export { DepressionRows, type DepressionCore, type DepressionColumns, type CellRef, type PourRecord } from './report/hydro-common.js';
 export { Rows } from './io/stream.js';
 

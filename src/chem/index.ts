@@ -15,3 +15,6 @@ export { GridField3, newSample3, hermite4Weights, type Field3Sample } from './fi
 export { refineStationary3, descendOnFit3, eigenSymmetric3, type Refined3, type SymmetricEigen3 } from './refine3.js';
 export { minimumEnergyPath3, steepestDescent3, resample3, type Path3, type EndTarget3 } from './mep3.js';
 export { barriers3Report, reportFromResult3, path3Rows, type Barriers3Report, type Barriers3Run } from '../report/barriers3.js';
+export { sampleDensity, framesFromFile, framesInMemory, densityValues, freeEnergyValues, freeEnergyGrid, freeEnergyGrid3, maskedBins, binOf, KDE_CUTOFF, DEFAULT_BLOCKS, type SampleOptions, type SampleDensity, type FrameFeeder } from './samples.js';
+export { bootstrapBarriers, matchStates, spread, DEFAULT_RESAMPLES, DEFAULT_SEED, MATCH_RADIUS, INTERVAL_LEVEL, type BootstrapOptions, type BootstrapResult, type Spread } from './bootstrap.js';
+export { barriersFromSamples, addSamplesReport, DEFAULT_MIN_COUNT, type BarriersFromSamplesOptions, type BarriersFromSamplesRun } from '../report/samples.js';

@@ -1,7 +1,10 @@
 /** `sill barriers IN`: minima, transition states, barriers, minimum-energy paths, basin hierarchy. */
 import type { Command } from 'commander';
-import { barriersReport, pathRows, type BarriersReport } from '../report/barriers.js';
+import { barriersReport, pathRows, type BarriersReport, type BarriersReportOptions, type BarrierEntry, type SpreadEntry } from '../report/barriers.js';
 import type { BarriersResult } from '../chem/barriers.js';
+import { BIN_LIMITS, DEFAULT_BLOCKS, MAX_BLOCKS, type SampleOptions } from '../chem/samples.js';
+import { DEFAULT_RESAMPLES, DEFAULT_SEED, MAX_RESAMPLES } from '../chem/bootstrap.js';
+import { barriersFromSamples, DEFAULT_MIN_COUNT } from '../report/samples.js';
 import { parseEnergyUnit, checkTemperature, ENERGY_UNITS, type EnergyUnit } from '../chem/units.js';
 import { MAX_IMAGES, MAX_PATHS, IMAGES_WHY, PATHS_WHY, MERGE_TOLERANCE } from '../chem/barriers.js';
 import { NOISE_FACTOR } from '../chem/noise.js';
@@ -13,7 +16,7 @@ import { GeoPackageWriter, type GpkgColumnType, type GpkgValue } from '../io/gpk
 import { reportRequest, addReport, reportSummary, reportNames, flagsOf, BARRIERS_FLAGS, type ReportRequest } from './report-option.js';
 import { buildBarriersReport as buildBarriersHtml } from '../render/html/barriers.js';
 import { InputError, SelfCheckError } from '../errors.js';
-import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, openOutput, VALUE_LIMIT, VALUE_WHY, GPKG_FILE, NO_GPKG, inputTime, type CommonOptions } from './common.js';
+import { addCommonOptions, parseBoundary, parseConnectivity, parseNumber, parseThreads, Progress, say, fmt, openOutput, VALUE_LIMIT, VALUE_WHY, GPKG_FILE, NO_GPKG, inputTime, MAX_COLUMN, type CommonOptions, type NumberLimits } from './common.js';
 import { loadInput, columnCount } from './load.js';
 import { checkCellBudget } from './budget.js';
 import { eulerFailure } from './hydro-common.js';
@@ -48,13 +51,30 @@ export interface BarriersCliOptions extends CommonOptions {
   connectivityDefault?: boolean;
   /** false with --no-gpkg: no results.gpkg. */
   gpkg?: boolean;
+  samples?: string;
+  bins?: string;
+  variables?: string;
+  weights?: string;
+  logWeights?: string;
+  range?: string;
+  bandwidth?: string;
+  blocks?: string;
+  resamples?: string;
+  seed?: string;
+  minCount?: string;
 }
+
+/** Options that only mean something with --samples. */
+const SAMPLE_FLAGS: [keyof BarriersCliOptions, string][] = [
+  ['bins', '--bins'], ['variables', '--variables'], ['weights', '--weights'], ['logWeights', '--log-weights'], ['range', '--range'],
+  ['bandwidth', '--bandwidth'], ['blocks', '--blocks'], ['resamples', '--resamples'], ['seed', '--seed'], ['minCount', '--min-count'],
+];
 
 export function registerBarriers(program: Command): void {
   const cmd = program
     .command('barriers')
     .description('energy landscapes: minima, transition states, barriers, minimum-energy paths and the disconnectivity graph')
-    .argument('<input>', 'energy grid or scattered samples (text x y energy, GeoTIFF, .npy)');
+    .argument('[input]', 'energy grid or scattered samples (text x y energy, GeoTIFF, .npy); or give --samples');
   addCommonOptions(cmd, { boundary: 'closed' });
   const mp = cmd.options.find((o) => o.long === '--min-persistence');
   if (mp) {
@@ -72,7 +92,19 @@ export function registerBarriers(program: Command): void {
     .option('--images <n>', 'images on each minimum-energy path (string method; 5 to 10 000)', '81')
     .option('--max-paths <n>', 'trace paths for at most N transition states, lowest first (up to 10 000)', '200')
     .option(...NO_GPKG)
-    .action(async (input: string, opts: BarriersCliOptions, command: Command) => {
+    .option('--samples <file>', 'free energy from per-frame values of the variables (text columns or a 2-D .npy of frames × columns) instead of an energy grid')
+    .option('--bins <nx,ny>', 'with --samples: bins along each variable (3 to 10 000 each)')
+    .option('--variables <cols>', 'with --samples: 1-based columns of the variables (default 1,2)')
+    .option('--weights <col>', 'with --samples: 1-based column of per-frame weights (reweighted or biased runs)')
+    .option('--log-weights <col>', 'with --samples: 1-based column of per-frame log-weights ln w (e.g. bias/kT)')
+    .option('--range <lo,hi,lo,hi>', 'with --samples: range of each variable (default: from the data; one period on periodic axes)')
+    .option('--bandwidth <s[,s]>', 'with --samples: Gaussian kernel density with this bandwidth per variable (variable units) instead of the histogram')
+    .option('--blocks <n>', `with --samples: blocks of the block bootstrap (2 to ${MAX_BLOCKS})`, String(DEFAULT_BLOCKS))
+    .option('--resamples <n>', `with --samples: bootstrap resamples (2 to ${MAX_RESAMPLES})`, String(DEFAULT_RESAMPLES))
+    .option('--seed <n>', 'with --samples: seed of the bootstrap resampling', String(DEFAULT_SEED))
+    .option('--min-count <n>', 'with --samples: warn when a transition state sits in a bin with fewer frames', String(DEFAULT_MIN_COUNT))
+    .action(async (input: string | undefined, opts: BarriersCliOptions, command: Command) => {
+      for (const [key] of SAMPLE_FLAGS) if (command.getOptionValueSource(key) === 'default') opts[key] = undefined as never;
       opts.minPersistenceDefault = command.getOptionValueSource('minPersistence') === 'default';
       opts.boundaryDefault = command.getOptionValueSource('boundary') === 'default';
       opts.connectivityDefault = command.getOptionValueSource('connectivity') === 'default';
@@ -88,7 +120,70 @@ function parsePeriod(s: string | undefined): [number | null, number | null] | un
   return [v[0], v.length === 2 ? v[1] : v[0]];
 }
 
-export async function runBarriersCommand(input: string, opts: BarriersCliOptions): Promise<BarriersReport | Barriers3Report> {
+function parseList(name: string, s: string, counts: number[], limits: NumberLimits): number[] {
+  const parts = s.split(',');
+  if (!counts.includes(parts.length)) throw new InputError(`${name} takes ${counts.join(' or ')} numbers separated by commas, got '${s}'`);
+  return parts.map((p) => parseNumber(name, p, limits));
+}
+
+interface SampleSetup {
+  file: string;
+  options: SampleOptions;
+  boot: { resamples: number; seed: number };
+  minCount: number;
+}
+
+/** The --samples options, checked (one line per problem). */
+function parseSampleOptions(opts: BarriersCliOptions, boundary: Boundary, period: [number | null, number | null] | undefined): SampleSetup {
+  if (opts.bins === undefined) throw new InputError('--samples needs --bins NX,NY: the number of bins along each variable (e.g. --bins 50,50)');
+  const col = { integer: true, min: 1, max: MAX_COLUMN };
+  const bins = parseList('--bins', opts.bins, [2, 3], { integer: true, min: BIN_LIMITS[0], max: BIN_LIMITS[1], why: 'more bins than frames can fill leave most of them empty' });
+  const dims = bins.length;
+  if (dims === 3) {
+    throw new InputError('--bins with 3 numbers: barriers on 3-variable surfaces is not available yet in this version; give 2 variables (--bins NX,NY and --variables)');
+  }
+  const variables = opts.variables === undefined ? Array.from({ length: dims }, (_, i) => i + 1) : parseList('--variables', opts.variables, [dims], col);
+  const weightCol = opts.weights === undefined ? undefined : parseNumber('--weights', opts.weights, col);
+  const logCol = opts.logWeights === undefined ? undefined : parseNumber('--log-weights', opts.logWeights, col);
+  if (weightCol !== undefined && logCol !== undefined) throw new InputError('--weights and --log-weights both name a weight column; give one of them');
+  let range: ([number, number] | null)[] | undefined;
+  if (opts.range !== undefined) {
+    const v = parseList('--range', opts.range, [2 * dims], { max: VALUE_LIMIT, why: VALUE_WHY });
+    range = [];
+    for (let a = 0; a < dims; a++) {
+      if (!(v[2 * a + 1] > v[2 * a])) throw new InputError(`--range: the range of variable ${a + 1} must be low,high with low < high, got ${v[2 * a]},${v[2 * a + 1]}`);
+      range.push([v[2 * a], v[2 * a + 1]]);
+    }
+  }
+  let bandwidth: number[] | null = null;
+  if (opts.bandwidth !== undefined) {
+    const v = parseList('--bandwidth', opts.bandwidth, [1, dims], { positive: true, max: VALUE_LIMIT, why: VALUE_WHY });
+    bandwidth = v.length === 1 ? new Array<number>(dims).fill(v[0]) : v;
+  }
+  const periodic = [boundary === 'periodic' || boundary === 'periodic-x', boundary === 'periodic' || boundary === 'periodic-y'];
+  if (boundary === 'open') throw new InputError('--boundary open has no meaning for a surface from samples (the edge of the range is not an outlet); use closed or periodic');
+  const blocks = parseNumber('--blocks', opts.blocks ?? String(DEFAULT_BLOCKS), { integer: true, min: 2, max: MAX_BLOCKS, why: 'each block keeps a grid of its own' });
+  const resamples = parseNumber('--resamples', opts.resamples ?? String(DEFAULT_RESAMPLES), { integer: true, min: 2, max: MAX_RESAMPLES, why: 'each resample repeats the analysis' });
+  const seed = parseNumber('--seed', opts.seed ?? String(DEFAULT_SEED), { integer: true, min: 0, max: 4294967295 });
+  const minCount = parseNumber('--min-count', opts.minCount ?? String(DEFAULT_MIN_COUNT), { integer: true, min: 0, max: 1e12 });
+  return {
+    file: opts.samples!,
+    options: {
+      bins, variables, weights: weightCol, logWeights: logCol, range, bandwidth, blocks,
+      periodic, period: period ? [periodic[0] ? period[0] : null, periodic[1] ? period[1] : null] : undefined,
+    },
+    boot: { resamples, seed },
+    minCount,
+  };
+}
+
+export async function runBarriersCommand(input: string | undefined, opts: BarriersCliOptions): Promise<BarriersReport | Barriers3Report> {
+  if (opts.samples !== undefined && input !== undefined) throw new InputError(`give either an energy surface (${input}) or --samples ${opts.samples}, not both`);
+  if (opts.samples === undefined) {
+    if (input === undefined) throw new InputError('barriers needs an input: an energy surface file, or --samples FILE with --bins (frames of sampled variables)');
+    const stray = SAMPLE_FLAGS.find(([key]) => opts[key] !== undefined);
+    if (stray) throw new InputError(`${stray[1]} applies to --samples (a free energy from frames); leave it out for an energy surface`);
+  }
   const progress = new Progress(opts.quiet || opts.json);
   // 14 and 26 are the 3-D connectivities: checked once the input is read
   const given3 = opts.connectivity === '14' || opts.connectivity === '26';
@@ -115,42 +210,57 @@ export async function runBarriersCommand(input: string, opts: BarriersCliOptions
   const cap = opts.cap === undefined ? undefined : parseNumber('--cap', opts.cap, { max: VALUE_LIMIT, why: VALUE_WHY });
   if (cap !== undefined && cap < -VALUE_LIMIT) throw new InputError(`--cap must be at least -1e150, got '${opts.cap}': ${VALUE_WHY}`);
   // a 3-D grid (3-D .npy, or x y z value rows) goes to the 3-D analysis; --period is then per axis
-  const is3 = opts.layout === undefined && (await isGrid3File(input, columnCount(opts.columns)));
+  const is3 = opts.samples === undefined && opts.layout === undefined && (await isGrid3File(input!, columnCount(opts.columns)));
   if (!is3 && opts.periodicAxes !== undefined) throw new InputError(`--periodic-axes applies to 3-D grids (a 3-D .npy array, or x y z value text); for a 2-D grid use --boundary periodic, periodic-x or periodic-y`);
   const options3 = is3 ? barriers3Options(opts, boundary) : null;
   const read3 = options3 ? grid3ReadOptions(opts, options3.boundary ?? 'closed') : null;
   const period = is3 ? undefined : parsePeriod(opts.period);
   const images = parseNumber('--images', opts.images ?? '81', { integer: true, min: 5, max: MAX_IMAGES, why: IMAGES_WHY });
   const maxPaths = parseNumber('--max-paths', opts.maxPaths ?? '200', { integer: true, min: 0, max: MAX_PATHS, why: PATHS_WHY });
+  const setup = opts.samples === undefined ? null : parseSampleOptions(opts, boundary, period);
+  if (setup && units === 'none') throw new InputError(`--samples makes a free energy F = −kT ln p, which needs an energy unit: add --units (one of ${ENERGY_UNITS.filter((u) => u !== 'none').join(', ')})`);
+  const source = setup ? setup.file : input!;
 
   // the command line in the report names the boundary in effect and leaves out a defaulted --min-persistence
-  const render = reportRequest('barriers', [input], { ...opts, boundary, periodic: undefined, minPersistence: minPersistence === undefined ? undefined : opts.minPersistence }, flagsOf({ ...opts }, BARRIERS_FLAGS));
-  const out = openOutput(opts, 'barriers', [...BARRIERS_FILES, ...BARRIERS3_FILES, ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...reportNames(render)], [input]);
-  progress.stage(`reading ${input}`);
-  const surface = read3 ? await readGrid3(input, read3) : (await loadInput(input, opts)) as Grid | Mesh | Grid3;
-  checkCellBudget('barriers', surface.size, input);
-  if (surface.kind === 'grid3') {
-    try {
-      if (render) throw new InputError(`${input}: --report is not available for 3-D grids yet; -o DIR writes the 3-D figures (slices.svg, profiles.svg, disconnectivity.svg)`);
-      const o3 = { ...options3!, periodicAxes: options3!.boundary === 'periodic' ? undefined : read3?.periodicAxes };
-      progress.stage('critical points, basins, refinement and paths (3-D)');
-      return await runBarriers3(surface, input, { ...o3, units, to, temperature, minPersistence, cap, images, maxPaths }, opts, out, progress);
-    } catch (e) {
-      throw out ? out.fail(e) : e;
+  const render = reportRequest('barriers', setup ? [] : [source], { ...opts, boundary, periodic: undefined, minPersistence: minPersistence === undefined ? undefined : opts.minPersistence }, flagsOf({ ...opts }, BARRIERS_FLAGS));
+  const out = openOutput(opts, 'barriers', [...BARRIERS_FILES, ...BARRIERS3_FILES, ...(opts.gpkg === false ? [] : [GPKG_FILE]), ...reportNames(render)], [source]);
+  const analysis: BarriersReportOptions = { connectivity, boundary, units, to, temperature, minPersistence, cap, period, images, maxPaths, threads: parseThreads(opts.threads) };
+  let result: BarriersResult, report: BarriersReport;
+  const warnings: string[] = [];
+  if (setup) {
+    if (given3) {
+      const err = new InputError(`--connectivity ${opts.connectivity} is for 3-D grids; --samples with 2 variables makes a 2-D surface: use 4, 6 or 8`);
+      throw out ? out.fail(err) : err;
     }
+    progress.stage(`reading the frames of ${source} (two passes), the analysis and a block bootstrap of ${setup.boot.resamples} resamples`);
+    const run = await barriersFromSamples(source, { ...analysis, samples: setup.options, bootstrap: setup.boot, minCount: setup.minCount });
+    ({ result, report } = run);
+    warnings.push(...run.warnings);
+  } else {
+    progress.stage(`reading ${source}`);
+    const surface = read3 ? await readGrid3(source, read3) : (await loadInput(source, opts)) as Grid | Mesh | Grid3;
+    checkCellBudget('barriers', surface.size, source);
+    if (surface.kind === 'grid3') {
+      try {
+        if (render) throw new InputError(`${source}: --report is not available for 3-D grids yet; -o DIR writes the 3-D figures (slices.svg, profiles.svg, disconnectivity.svg)`);
+        const o3 = { ...options3!, periodicAxes: options3!.boundary === 'periodic' ? undefined : read3?.periodicAxes };
+        progress.stage('critical points, basins, refinement and paths (3-D)');
+        return await runBarriers3(surface, source, { ...o3, units, to, temperature, minPersistence, cap, images, maxPaths }, opts, out, progress);
+      } catch (e) {
+        throw out ? out.fail(e) : e;
+      }
+    }
+    if (given3) {
+      const err = new InputError(`--connectivity ${opts.connectivity} is for 3-D grids; ${source} is a 2-D surface: use 4, 6 or 8`);
+      throw out ? out.fail(err) : err;
+    }
+    progress.stage('critical points, basins, refinement and paths');
+    ({ result, report } = barriersReport(surface, analysis, source));
   }
-  if (given3) {
-    const err = new InputError(`--connectivity ${opts.connectivity} is for 3-D grids; ${input} is a 2-D surface: use 4, 6 or 8`);
-    throw out ? out.fail(err) : err;
-  }
-  progress.stage('critical points, basins, refinement and paths');
-  const { result, report } = barriersReport(surface, {
-    connectivity, boundary, units, to, temperature, minPersistence, cap, period, images, maxPaths,
-    threads: parseThreads(opts.threads),
-  }, input);
   progress.done();
   if (!report.euler.holds) throw eulerFailure(report.euler);
-  if (out) await writeBarriersFiles(out, result, report, render, opts.gpkg !== false && inputTime(input));
+  for (const w of warnings) process.stderr.write(`warning: ${w}\n`);
+  if (out) await writeBarriersFiles(out, result, report, render, opts.gpkg !== false && inputTime(source));
   if (opts.json) {
     const sink = new TextSink(1);
     writeJson(sink, report);
@@ -170,7 +280,7 @@ export const BARRIERS_FILES = [
 
 /** Column types of the results.gpkg layers minima and transition-states (named like the CSV columns; the rest are REAL). */
 const TEXT_COLUMNS = new Set(['id', 'energy_basis', 'refinement', 'connects_1', 'connects_2', 'path_file']);
-const INTEGER_COLUMNS = new Set(['col', 'row', 'on_edge', 'basin_samples', 'multiplicity', 'in_hierarchy', 'path_agrees']);
+const INTEGER_COLUMNS = new Set(['col', 'row', 'on_edge', 'basin_samples', 'multiplicity', 'in_hierarchy', 'path_agrees', 'bootstrap_found', 'bin_frames']);
 const columnType = (name: string): GpkgColumnType => (TEXT_COLUMNS.has(name) ? 'TEXT' : INTEGER_COLUMNS.has(name) ? 'INTEGER' : 'REAL');
 
 /** A CSV accessor's value as a GeoPackage value (undefined: NULL). */
@@ -205,12 +315,24 @@ export async function writeBarriersFiles(out: OutputFolder, result: BarriersResu
       ['multiplicity', (t) => t.multiplicity], ['in_hierarchy', (t) => (t.inTree ? 1 : 0)],
       ['path_file', (t) => t.path?.file], ['path_maximum', (t) => t.path?.maximum.energy], ['path_agrees', (t) => (t.path ? (t.path.agrees ? 1 : 0) : null)],
     ];
+    // a surface from samples: the bin's frames and the bootstrap spreads as extra columns
+    const fromSamples = report.samples !== undefined;
+    const spreadCols = <T>(name: string, get: (r: T) => SpreadEntry | null | undefined): [string, (r: T) => unknown][] =>
+      (['mean', 'se', 'low', 'high'] as const).map((k) => [`${name}_${k}`, (r: T) => get(r)?.[k]] as [string, (r: T) => unknown]);
+    if (fromSamples) {
+      minimaCols.push(['bootstrap_found', (m) => m.basin.uncertainty?.found], ...spreadCols<BarriersReport['minima'][number]>('relative_free_energy', (m) => m.basin.uncertainty?.relativeFreeEnergy));
+      tsCols.push(['bin_frames', (t) => t.binFrames]);
+    }
     csv('minima.csv', report.minima, minimaCols);
     csv('transition-states.csv', report.transitionStates, tsCols);
     csv('barriers.csv', report.barriers, [
       ['from', (b) => b.from], ['to', (b) => b.to], ['via', (b) => b.via],
       ['forward', (b) => b.forward], ['backward', (b) => b.backward], ['energy_basis', (b) => b.energyBasis],
       ['rate_forward_per_s', (b) => b.rateForward], ['rate_backward_per_s', (b) => b.rateBackward],
+      ...(fromSamples ? [
+        ['bootstrap_found', (b: BarrierEntry) => b.uncertainty?.found] as [string, (b: BarrierEntry) => unknown],
+        ...spreadCols<BarrierEntry>('forward', (b) => b.uncertainty?.forward), ...spreadCols<BarrierEntry>('backward', (b) => b.uncertainty?.backward),
+      ] : []),
     ]);
     if (report.lowestBarriers) {
       csv('lowest-barriers.csv', report.lowestBarriers, [
@@ -316,8 +438,18 @@ export function barriersSummary(r: BarriersReport, outDir?: string, gpkg = true)
     for (const b of r.barriers.slice(0, 30)) {
       const rate = r.rates ? `   ${b.rateForward === null ? '—' : b.rateForward.toExponential(1)}` : '';
       lines.push(`  ${`${b.from} → ${b.to}`.padEnd(14)} ${b.via.padEnd(5)} ${e(b.forward).padStart(9)} ${e(b.backward).padStart(10)}${rate}`);
+      const u = b.uncertainty;
+      if (u) {
+        const one = (s: SpreadEntry | null | undefined) => (s ? `± ${fmt(s.se, 2)} [${fmt(s.low, 4)}, ${fmt(s.high, 4)}]` : '—');
+        lines.push(`  ${''.padEnd(20)} bootstrap: forward ${one(u.forward)}, backward ${one(u.backward)}; found in ${u.found}/${u.resamples}`);
+      }
     }
     if (r.barriers.length > 30) lines.push(`  … ${r.barriers.length - 30} more in barriers.csv`);
+  }
+  const sm = r.samples;
+  if (sm) {
+    lines.push(`samples   ${sm.frames} frames${sm.weights ? ` (${sm.weights.kind} in column ${sm.weights.column}, ${fmt(sm.effectiveFrames, 3)} effective)` : ''}, ${sm.estimator === 'histogram' ? 'histogram' : `kernel density, bandwidth ${sm.bandwidth!.map((b) => fmt(b, 4)).join(', ')}`} on ${sm.bins.join(' × ')} bins, ${sm.maskedBins} masked (no frame)` +
+      (sm.bootstrap ? `; block bootstrap: ${sm.bootstrap.resamples} resamples of ${sm.bootstrap.blocks} blocks, seed ${sm.bootstrap.seed}, ${sm.bootstrap.level * 100} % percentile intervals` : ''));
   }
   for (const n of r.notes) lines.push(`note      ${n}`);
   if (outDir) lines.push(`files     ${outDir}/ report.json minima.csv transition-states.csv barriers.csv paths/ disconnectivity.svg landscape.svg${gpkg ? ' results.gpkg' : ''}`);

@@ -3,7 +3,7 @@ import type { Command } from 'commander';
 import { readdirSync, existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { checkFolder } from '../io/outdir.js';
-import { larkmoorDem, larkmoorCulverts, dihedralScan } from '../demo/generate.js';
+import { larkmoorDem, larkmoorCulverts, dihedralScan, dihedralFrames } from '../demo/generate.js';
 import { writeGeoTiff } from '../io/index.js';
 import { runSurveyCommand } from './survey.js';
 import { runPondsCommand } from './ponds.js';
@@ -38,10 +38,10 @@ export async function runDemo(dir: string, quiet: boolean, force = false): Promi
   const root = checkFolder(dir).dir;
   const inputs = join(root, 'inputs');
   const force_ = { force };
-  const inputsOut = openOutput({ out: join(dir, 'inputs'), force }, 'demo', ['larkmoor-dem.tif', 'larkmoor-culverts.csv', 'dihedral-scan.txt'], [])!;
+  const inputsOut = openOutput({ out: join(dir, 'inputs'), force }, 'demo', ['larkmoor-dem.tif', 'larkmoor-culverts.csv', 'dihedral-scan.txt', 'dihedral-frames.txt'], [])!;
   for (const [sub, command, names] of [
     ['larkmoor-survey', 'survey', SURVEY_FILES], ['larkmoor-ponds', 'ponds', PONDS_FILES], ['larkmoor-ponds-culvert', 'ponds', PONDS_FILES], ['larkmoor-runoff', 'runoff', RUNOFF_FILES],
-    ['dihedral-survey', 'survey', SURVEY_FILES], ['dihedral-barriers', 'barriers', BARRIERS_FILES],
+    ['dihedral-survey', 'survey', SURVEY_FILES], ['dihedral-barriers', 'barriers', BARRIERS_FILES], ['dihedral-frames-barriers', 'barriers', BARRIERS_FILES],
   ] as const) openOutput({ out: join(dir, sub), force }, command, [...names, GPKG_FILE, ...REPORT], []);
   const log = (s: string) => { if (!quiet) process.stdout.write(s + '\n'); };
 
@@ -50,10 +50,13 @@ export async function runDemo(dir: string, quiet: boolean, force = false): Promi
   const scan = dihedralScan();
   const scanPath = join(inputs, 'dihedral-scan.txt');
   const culvertPath = join(inputs, 'larkmoor-culverts.csv');
+  const frames = dihedralFrames();
+  const framesPath = join(inputs, 'dihedral-frames.txt');
   try {
     await writeGeoTiff(inputsOut.path('larkmoor-dem.tif'), { ...dem.grid, values: dem.grid.values, nodata: -9999 });
     inputsOut.write('larkmoor-culverts.csv', larkmoorCulverts());
     inputsOut.write('dihedral-scan.txt', scan.text);
+    inputsOut.write('dihedral-frames.txt', frames.text);
     await inputsOut.commit();
   } catch (e) {
     throw inputsOut.fail(e);
@@ -76,6 +79,14 @@ export async function runDemo(dir: string, quiet: boolean, force = false): Promi
   await runSurveyCommand(scanPath, { out: join(root, 'dihedral-survey'), ...force_, minPersistence: '1', connectivity: '8', boundary: 'periodic', quiet, report: true });
   log(`-- sill barriers ${scanPath} --units kJ/mol --periodic -o ${join(root, 'dihedral-barriers')} --report`);
   await runBarriersCommand(scanPath, { out: join(root, 'dihedral-barriers'), ...force_, units: 'kJ/mol', periodic: true, boundaryDefault: true, minPersistenceDefault: true, connectivity: '8', quiet, report: true });
+  log('');
+  log(`== ${frames.description}`);
+  log(`   input ${framesPath}`);
+  log(`-- sill barriers --samples ${framesPath} --bins 36,36 --periodic --units kJ/mol --cap 12 --resamples 50 -o ${join(root, 'dihedral-frames-barriers')}`);
+  await runBarriersCommand(undefined, {
+    out: join(root, 'dihedral-frames-barriers'), ...force_, samples: framesPath, bins: '36,36', units: 'kJ/mol', cap: '12', resamples: '50',
+    periodic: true, boundaryDefault: true, minPersistenceDefault: true, connectivity: '8', quiet,
+  });
   log('');
   log(`demo results in ${root}`);
   // the reports, last, so the path to open is what the terminal ends with

@@ -66,6 +66,9 @@ export const PONDS_FLAGS: FlagSpec = [
 export const BARRIERS_FLAGS: FlagSpec = [
   ['units', '--units', 'none'], ['to', '--to', undefined], ['temperature', '--temperature', '300'], ['cap', '--cap', undefined],
   ['period', '--period', undefined], ['images', '--images', '81'], ['maxPaths', '--max-paths', '200'],
+  ['samples', '--samples', undefined], ['bins', '--bins', undefined], ['variables', '--variables', undefined], ['weights', '--weights', undefined],
+  ['logWeights', '--log-weights', undefined], ['range', '--range', undefined], ['bandwidth', '--bandwidth', undefined], ['blocks', '--blocks', undefined],
+  ['resamples', '--resamples', undefined], ['seed', '--seed', undefined], ['minCount', '--min-count', undefined],
 ];
 
 /** The flags of `spec` set to something other than their default, as command-line words. */

@@ -94,24 +94,50 @@ export function larkmoorCulverts(): string {
  * An invented torsional energy surface E(φ, ψ) in kJ/mol over φ, ψ ∈ [−180°, 180°), periodic in
  * both angles, with three wells of different depth. Returns "phi psi energy" text.
  */
+const DIHEDRAL_WELLS: [number, number, number, number][] = [
+  // φ0, ψ0, depth, width (degrees)
+  [-70, 140, 22, 38], [-75, -40, 18, 32], [60, 40, 12, 30],
+];
+
+/** The invented torsional energy E(φ, ψ) in kJ/mol (angles in degrees; periodic in both). */
+export function dihedralEnergy(phi: number, psi: number): number {
+  const rad = Math.PI / 180;
+  let e = 6 * (1 + Math.cos(phi * rad)) + 4 * (1 + Math.cos(2 * psi * rad + 0.5)) + 3 * (1 - Math.cos((phi - psi) * rad));
+  for (const [p0, q0, depth, w] of DIHEDRAL_WELLS) {
+    // periodic distance on the torus through the cosine of the angle difference
+    const dp = 1 - Math.cos((phi - p0) * rad), dq = 1 - Math.cos((psi - q0) * rad);
+    const s2 = (w * rad) ** 2;
+    e -= depth * Math.exp(-(dp + dq) / s2);
+  }
+  return e;
+}
+
 export function dihedralScan(step = 5): { text: string; description: string } {
   const lines = ['# invented demo: torsional scan, energies in kJ/mol, angles in degrees', 'phi psi energy'];
-  const rad = Math.PI / 180;
-  const wells: [number, number, number, number][] = [
-    // φ0, ψ0, depth, width (degrees)
-    [-70, 140, 22, 38], [-75, -40, 18, 32], [60, 40, 12, 30],
-  ];
   for (let psi = -180; psi < 180; psi += step) {
-    for (let phi = -180; phi < 180; phi += step) {
-      let e = 6 * (1 + Math.cos(phi * rad)) + 4 * (1 + Math.cos(2 * psi * rad + 0.5)) + 3 * (1 - Math.cos((phi - psi) * rad));
-      for (const [p0, q0, depth, w] of wells) {
-        // periodic distance on the torus through the cosine of the angle difference
-        const dp = 1 - Math.cos((phi - p0) * rad), dq = 1 - Math.cos((psi - q0) * rad);
-        const s2 = (w * rad) ** 2;
-        e -= depth * Math.exp(-(dp + dq) / s2);
-      }
-      lines.push(`${phi} ${psi} ${e.toFixed(4)}`);
-    }
+    for (let phi = -180; phi < 180; phi += step) lines.push(`${phi} ${psi} ${dihedralEnergy(phi, psi).toFixed(4)}`);
   }
   return { text: lines.join('\n') + '\n', description: 'torsional scan (invented): E(φ, ψ) in kJ/mol on a 5° periodic grid' };
+}
+
+/**
+ * Invented frames of a simulation on the same torsional surface: (φ, ψ) every 10th step of a seeded
+ * Metropolis chain at 300 K (trial steps of ±15° normal per angle, angles wrapped into [−180, 180)).
+ */
+export function dihedralFrames(frames = 40000, seed = 300): { text: string; description: string } {
+  const rand = rng(seed);
+  const kT = 0.0083144626 * 300; // kJ/mol
+  const wrap = (a: number) => a - 360 * Math.floor((a + 180) / 360);
+  let phi = -75, psi = -40, e = dihedralEnergy(phi, psi);
+  const lines = ['# invented demo: frames of a simulation of the torsional surface at 300 K, angles in degrees', 'phi psi'];
+  for (let f = 0; f < frames; f++) {
+    for (let s = 0; s < 10; s++) {
+      const r = 15 * Math.sqrt(-2 * Math.log(1 - rand())), t = 2 * Math.PI * rand();
+      const np = wrap(phi + r * Math.cos(t)), nq = wrap(psi + r * Math.sin(t));
+      const ne = dihedralEnergy(np, nq);
+      if (ne <= e || rand() < Math.exp((e - ne) / kT)) { phi = np; psi = nq; e = ne; }
+    }
+    lines.push(`${phi.toFixed(3)} ${psi.toFixed(3)}`);
+  }
+  return { text: lines.join('\n') + '\n', description: `dihedral frames (invented): ${frames} frames of (φ, ψ) from a Metropolis chain on the torsional surface at 300 K` };
 }

@@ -43,7 +43,28 @@ export interface StationaryEntry {
 }
 
 export interface MinimumEntry extends StationaryEntry {
-  basin: { samples: number; area: number; freeEnergy: number | null; relativeFreeEnergy: number | null; population: number | null };
+  basin: {
+    samples: number; area: number; freeEnergy: number | null; relativeFreeEnergy: number | null; population: number | null;
+    /** Surfaces from samples: the block bootstrap of relativeFreeEnergy (src/report/samples.ts). */
+    uncertainty?: SampleUncertainty;
+  };
+}
+
+/** Mean, standard error and percentile interval of a value over the bootstrap resamples (output unit). */
+export interface SpreadEntry {
+  mean: number;
+  se: number;
+  low: number;
+  high: number;
+}
+
+/** A value's block bootstrap: in how many of the resamples its state(s) were found, and the spread of the value(s). */
+export interface SampleUncertainty {
+  found: number;
+  resamples: number;
+  forward?: SpreadEntry | null;
+  backward?: SpreadEntry | null;
+  relativeFreeEnergy?: SpreadEntry | null;
 }
 
 export interface PathEntry {
@@ -67,6 +88,8 @@ export interface TransitionStateEntry extends StationaryEntry {
   inTree: boolean;
   path: PathEntry | null;
   pathNote: string | null;
+  /** Surfaces from samples: frames (unweighted) in the bin of the sampled transition state. */
+  binFrames?: number;
 }
 
 export interface BarrierEntry {
@@ -79,6 +102,8 @@ export interface BarrierEntry {
   /** Eyring rate constants in 1/s — order-of-magnitude estimates; null without a known unit. */
   rateForward: number | null;
   rateBackward: number | null;
+  /** Surfaces from samples: the block bootstrap of forward and backward (src/report/samples.ts). */
+  uncertainty?: SampleUncertainty;
 }
 
 export interface BarriersReport {
@@ -110,6 +135,46 @@ export interface BarriersReport {
     leafOrder: string[];
   };
   notes: string[];
+  /** Surfaces built from samples: how (src/report/samples.ts). */
+  samples?: SamplesEntry;
+}
+
+export interface SamplesEntry {
+  file: string | null;
+  format: 'text' | 'npy' | null;
+  frames: number;
+  used: number;
+  outside: number;
+  /** 1-based columns of the variables and their header names, when the file has them. */
+  variables: number[];
+  names: string[] | null;
+  weights: { column: number; kind: 'weights' | 'log-weights' } | null;
+  effectiveFrames: number;
+  estimator: 'histogram' | 'kde';
+  description: string;
+  bins: number[];
+  range: [number, number][];
+  binWidth: number[];
+  periods: (number | null)[];
+  bandwidth: number[] | null;
+  kernelCutoff: number | null;
+  maskedBins: number;
+  minCount: number;
+  /** Transition states whose bin holds fewer than minCount frames. */
+  lowCount: { id: string; frames: number }[];
+  /** Minima whose basin holds fewer than minCount frames (sparse outskirts). */
+  sparseMinima: string[];
+  bootstrap: {
+    method: string;
+    blocks: number;
+    framesPerBlock: number;
+    resamples: number;
+    seed: number;
+    level: number;
+    matching: string;
+    radius: number;
+    failed: number;
+  } | null;
 }
 
 export interface BarriersRun {

@@ -194,6 +194,15 @@ describe('sill barriers (command line)', () => {
     expect(rep.euler).toMatchObject({ characteristic: 0, holds: true });
     for (const t of rep.transitionStates) expect(t.path.agrees).toBe(true);
     expect(existsSync(join(out, 'dihedral-barriers', 'disconnectivity.svg'))).toBe(true);
+    // the invented frames of a chain on the same surface: the same three basins, each within two 10° bins of the scan's minimum
+    const fr = JSON.parse(readFileSync(join(out, 'dihedral-frames-barriers', 'report.json'), 'utf8'));
+    expect(fr.samples).toMatchObject({ frames: 40000, bins: [36, 36], periods: [360, 360], estimator: 'histogram' });
+    expect(fr.minima).toHaveLength(3);
+    for (const m of rep.minima) {
+      const d = (a: number, b: number) => Math.abs(((a - b + 540) % 360) - 180);
+      expect(fr.minima.some((q: { refined: { x: number; y: number } }) => Math.hypot(d(q.refined.x, m.refined.x), d(q.refined.y, m.refined.y)) < 20)).toBe(true);
+    }
+    for (const b of fr.barriers) expect(b.uncertainty.resamples).toBe(50);
   });
 
   it('bad input: one line on stderr, exit 2, nothing written', () => {

@@ -233,8 +233,15 @@ export function buildBarriersReport(result: BarriersResult, report: BarriersRepo
         { key: 'from', label: 'from', unit: '', type: 'text' }, { key: 'to', label: 'to', unit: '', type: 'text' }, { key: 'via', label: 'via', unit: '', type: 'text' },
         { key: 'forward', label: 'forward', unit: unitLabel, type: 'num', decimals: dec }, { key: 'backward', label: 'backward', unit: unitLabel, type: 'num', decimals: dec },
         ...(report.rates ? [{ key: 'kf', label: 'rate forward', unit: '1/s', type: 'num' as const, digits: 2 }, { key: 'kb', label: 'rate backward', unit: '1/s', type: 'num' as const, digits: 2 }] : []),
+        // a surface from samples: the bootstrap's 95 % intervals and how often the barrier was found
+        ...(report.samples?.bootstrap ? [
+          { key: 'fl', label: 'forward 2.5 %', unit: unitLabel, type: 'num' as const, decimals: dec }, { key: 'fh', label: 'forward 97.5 %', unit: unitLabel, type: 'num' as const, decimals: dec },
+          { key: 'bl', label: 'backward 2.5 %', unit: unitLabel, type: 'num' as const, decimals: dec }, { key: 'bh', label: 'backward 97.5 %', unit: unitLabel, type: 'num' as const, decimals: dec },
+          { key: 'found', label: 'found in resamples', unit: '', type: 'text' as const },
+        ] : []),
       ],
-      rows: barrierRows.map((b) => [b.from, b.to, b.via, b.forward, b.backward, ...(report.rates ? [b.rateForward, b.rateBackward] : [])]),
+      rows: barrierRows.map((b) => [b.from, b.to, b.via, b.forward, b.backward, ...(report.rates ? [b.rateForward, b.rateBackward] : []),
+        ...(report.samples?.bootstrap ? [b.uncertainty?.forward?.low ?? null, b.uncertainty?.forward?.high ?? null, b.uncertainty?.backward?.low ?? null, b.uncertainty?.backward?.high ?? null, b.uncertainty ? `${b.uncertainty.found}/${b.uncertainty.resamples}` : ''] : [])]),
       keys: barrierRows.map((b) => skey(b.via)),
       total: report.barriers.length,
     },
