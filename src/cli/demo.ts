@@ -3,12 +3,12 @@ import type { Command } from 'commander';
 import { readdirSync, existsSync } from 'node:fs';
 import { join } from 'node:path';
 import { checkFolder } from '../io/outdir.js';
-import { larkmoorDem, larkmoorCulverts, dihedralScan, dihedralFrames } from '../demo/generate.js';
+import { larkmoorDem, larkmoorCulverts, dihedralScan, dihedralFrames, torsionDistanceLandscape } from '../demo/generate.js';
 import { writeGeoTiff } from '../io/index.js';
 import { runSurveyCommand } from './survey.js';
 import { runPondsCommand } from './ponds.js';
 import { runRunoffCommand } from './runoff.js';
-import { runBarriersCommand, BARRIERS_FILES } from './barriers.js';
+import { runBarriersCommand, BARRIERS_FILES, BARRIERS3_FILES } from './barriers.js';
 import { openOutput, GPKG_FILE } from './common.js';
 import { SURVEY_FILES } from './survey.js';
 import { PONDS_FILES } from './ponds.js';
@@ -21,7 +21,7 @@ const REPORT = ['report.html', 'map.svg', 'tree.svg', 'persistence.svg'];
 export function registerDemo(program: Command): void {
   program
     .command('demo')
-    .description('write the bundled demo inputs (an invented upland DEM and a periodic energy scan) and run sill on them')
+    .description('write the bundled demo inputs (an invented upland DEM, a periodic energy scan, frames of a simulation on it and a three-variable free-energy grid) and run sill on them')
     .option('-o, --out <dir>', 'folder for the demo inputs and results', 'sill-demo')
     .option('--force', 'write into demo folders that hold files sill did not write (they are kept)')
     .option('--quiet', 'no summaries on the terminal')
@@ -38,10 +38,10 @@ export async function runDemo(dir: string, quiet: boolean, force = false): Promi
   const root = checkFolder(dir).dir;
   const inputs = join(root, 'inputs');
   const force_ = { force };
-  const inputsOut = openOutput({ out: join(dir, 'inputs'), force }, 'demo', ['larkmoor-dem.tif', 'larkmoor-culverts.csv', 'dihedral-scan.txt', 'dihedral-frames.txt'], [])!;
+  const inputsOut = openOutput({ out: join(dir, 'inputs'), force }, 'demo', ['larkmoor-dem.tif', 'larkmoor-culverts.csv', 'dihedral-scan.txt', 'dihedral-frames.txt', 'torsion-distance.txt'], [])!;
   for (const [sub, command, names] of [
     ['larkmoor-survey', 'survey', SURVEY_FILES], ['larkmoor-ponds', 'ponds', PONDS_FILES], ['larkmoor-ponds-culvert', 'ponds', PONDS_FILES], ['larkmoor-runoff', 'runoff', RUNOFF_FILES],
-    ['dihedral-survey', 'survey', SURVEY_FILES], ['dihedral-barriers', 'barriers', BARRIERS_FILES], ['dihedral-frames-barriers', 'barriers', BARRIERS_FILES],
+    ['dihedral-survey', 'survey', SURVEY_FILES], ['dihedral-barriers', 'barriers', BARRIERS_FILES], ['dihedral-frames-barriers', 'barriers', BARRIERS_FILES], ['torsion-distance-barriers', 'barriers', [...BARRIERS_FILES, ...BARRIERS3_FILES]],
   ] as const) openOutput({ out: join(dir, sub), force }, command, [...names, GPKG_FILE, ...REPORT], []);
   const log = (s: string) => { if (!quiet) process.stdout.write(s + '\n'); };
 
@@ -52,11 +52,14 @@ export async function runDemo(dir: string, quiet: boolean, force = false): Promi
   const culvertPath = join(inputs, 'larkmoor-culverts.csv');
   const frames = dihedralFrames();
   const framesPath = join(inputs, 'dihedral-frames.txt');
+  const land3 = torsionDistanceLandscape();
+  const land3Path = join(inputs, 'torsion-distance.txt');
   try {
     await writeGeoTiff(inputsOut.path('larkmoor-dem.tif'), { ...dem.grid, values: dem.grid.values, nodata: -9999 });
     inputsOut.write('larkmoor-culverts.csv', larkmoorCulverts());
     inputsOut.write('dihedral-scan.txt', scan.text);
     inputsOut.write('dihedral-frames.txt', frames.text);
+    inputsOut.write('torsion-distance.txt', land3.text);
     await inputsOut.commit();
   } catch (e) {
     throw inputsOut.fail(e);
@@ -86,6 +89,13 @@ export async function runDemo(dir: string, quiet: boolean, force = false): Promi
   await runBarriersCommand(undefined, {
     out: join(root, 'dihedral-frames-barriers'), ...force_, samples: framesPath, bins: '36,36', units: 'kJ/mol', cap: '12', resamples: '50',
     periodic: true, boundaryDefault: true, minPersistenceDefault: true, connectivity: '8', quiet,
+  });
+  log('');
+  log(`== ${land3.description}`);
+  log(`   input ${land3Path}`);
+  log(`-- sill barriers ${land3Path} --units kJ/mol --periodic-axes x,y --period 360,360 -o ${join(root, 'torsion-distance-barriers')}`);
+  await runBarriersCommand(land3Path, {
+    out: join(root, 'torsion-distance-barriers'), ...force_, units: 'kJ/mol', periodicAxes: 'x,y', period: '360,360', connectivity: '14', boundaryDefault: true, minPersistenceDefault: true, quiet,
   });
   log('');
   log(`demo results in ${root}`);

@@ -141,3 +141,33 @@ export function dihedralFrames(frames = 40000, seed = 300): { text: string; desc
   }
   return { text: lines.join('\n') + '\n', description: `dihedral frames (invented): ${frames} frames of (φ, ψ) from a Metropolis chain on the torsional surface at 300 K` };
 }
+
+/**
+ * An invented three-variable free-energy landscape for the demo: two dihedral angles φ, ψ (degrees,
+ * periodic) and a distance r (Å, not periodic) on a 15° × 15° × 0.25 Å lattice. Three states: a
+ * compact one at short r, and two extended ones at longer r that differ in ψ; the distance couples
+ * to φ, so the paths between the states bend through all three variables. Returns
+ * "phi psi r energy" text (kJ/mol).
+ */
+export function torsionDistanceLandscape(step = 15, dr = 0.25): { text: string; description: string } {
+  const lines = ['# invented demo: free energy over two dihedrals and a distance, kJ/mol; angles in degrees, r in angstrom', 'phi psi r energy'];
+  const rad = Math.PI / 180;
+  const states: [number, number, number, number, number, number][] = [
+    // φ0, ψ0, r0, depth, angular width (degrees), radial width (Å)
+    [-65, -45, 4.5, 24, 40, 0.55], [-120, 130, 6.5, 20, 45, 0.7], [60, 140, 6.25, 14, 35, 0.6],
+  ];
+  for (let r = 3.5; r <= 7.5 + 1e-9; r += dr) {
+    for (let psi = -180; psi < 180; psi += step) {
+      for (let phi = -180; phi < 180; phi += step) {
+        // a confining wall in r, a torsional background, and r drawn out as φ opens
+        let e = 3 * (r - 5.5) ** 2 + 5 * (1 + Math.cos(phi * rad)) + 3 * (1 + Math.cos(2 * psi * rad)) + 2 * (r - 5.5) * Math.sin(phi * rad);
+        for (const [p0, q0, r0, depth, w, wr] of states) {
+          const dp = 1 - Math.cos((phi - p0) * rad), dq = 1 - Math.cos((psi - q0) * rad);
+          e -= depth * Math.exp(-(dp + dq) / (w * rad) ** 2 - ((r - r0) / wr) ** 2 / 2);
+        }
+        lines.push(`${phi} ${psi} ${r.toFixed(2)} ${e.toFixed(4)}`);
+      }
+    }
+  }
+  return { text: lines.join('\n') + '\n', description: 'free-energy landscape (invented): F(φ, ψ, r) in kJ/mol, 15° periodic dihedrals × 0.25 Å distance' };
+}

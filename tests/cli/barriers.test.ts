@@ -203,6 +203,19 @@ describe('sill barriers (command line)', () => {
       expect(fr.minima.some((q: { refined: { x: number; y: number } }) => Math.hypot(d(q.refined.x, m.refined.x), d(q.refined.y, m.refined.y)) < 20)).toBe(true);
     }
     for (const b of fr.barriers) expect(b.uncertainty.resamples).toBe(50);
+    // the invented three-variable grid (φ, ψ periodic, r not): three states built in (src/demo/generate.ts);
+    // a torus times an interval has χ = 0; the refined states lie near the wells' centres put in the generator
+    const t3 = JSON.parse(readFileSync(join(out, 'torsion-distance-barriers', 'report.json'), 'utf8'));
+    expect(t3.surface.depth).toBe(17);
+    expect(t3.euler).toMatchObject({ characteristic: 0, holds: true });
+    expect(t3.minima).toHaveLength(3);
+    const wells = [[-65, -45, 4.5], [-120, 130, 6.5], [60, 140, 6.25]];
+    for (const [p0, q0, r0] of wells) {
+      const d = (a: number, b: number) => Math.abs(((a - b + 540) % 360) - 180);
+      expect(t3.minima.some((m: { refined: { x: number; y: number; z: number } }) => d(m.refined.x, p0) < 20 && d(m.refined.y, q0) < 20 && Math.abs(m.refined.z - r0) < 0.5)).toBe(true);
+    }
+    expect(t3.transitionStates.length).toBeGreaterThanOrEqual(2);
+    expect(existsSync(join(out, 'torsion-distance-barriers', 'slices.svg'))).toBe(true);
   });
 
   it('bad input: one line on stderr, exit 2, nothing written', () => {
