@@ -22,7 +22,7 @@
  */
 import { InputError } from '../errors.js';
 import { Grid3 } from '../surface/grid3.js';
-import type { Connectivity3, Boundary3, Complex3 } from '../surface/complex3.js';
+import { componentOfLowest, type Connectivity3, type Boundary3, type Complex3 } from '../surface/complex3.js';
 import { survey3, SADDLE1, type Survey3Result } from '../morse/survey3.js';
 import { simplifyMergeTree } from '../morse/mergetree.js';
 import { GridField3 } from './field3.js';
@@ -192,14 +192,7 @@ export function lowerLinkComponents3(cx: Complex3, i: number): number[] {
   const out: number[] = [];
   let rest = mask;
   while (rest !== 0) {
-    let comp = rest & -rest;
-    for (let grown = comp; grown !== 0;) {
-      let next = 0;
-      for (let g = grown; g !== 0; g &= g - 1) next |= adj[31 - Math.clz32(g & -g)];
-      next &= rest & ~comp;
-      comp |= next;
-      grown = next;
-    }
+    const comp = componentOfLowest(adj, rest);
     rest &= ~comp;
     let best = -1;
     for (let g = comp; g !== 0; g &= g - 1) {

@@ -87,20 +87,28 @@ function cliqueChi(adj: Int32Array, mask: number): number {
   return chi;
 }
 
+/**
+ * The component, within the vertex set `rest` (a bit mask), of the lowest vertex of `rest`, in the
+ * graph whose neighbours of vertex q are the bit mask `adj[q]`.
+ */
+export function componentOfLowest(adj: Int32Array, rest: number): number {
+  let comp = rest & -rest;
+  for (let grown = comp; grown !== 0;) {
+    let next = 0;
+    for (let g = grown; g !== 0; g &= g - 1) next |= adj[31 - Math.clz32(g & -g)];
+    next &= rest & ~comp;
+    comp |= next;
+    grown = next;
+  }
+  return comp;
+}
+
 /** Number of components of the graph `adj` restricted to `mask`. */
 function components(adj: Int32Array, mask: number): number {
   let n = 0;
   let rest = mask;
   while (rest !== 0) {
-    let comp = rest & -rest;
-    for (let grown = comp; grown !== 0;) {
-      let next = 0;
-      for (let g = grown; g !== 0; g &= g - 1) next |= adj[31 - Math.clz32(g & -g)];
-      next &= rest & ~comp;
-      comp |= next;
-      grown = next;
-    }
-    rest &= ~comp;
+    rest &= ~componentOfLowest(adj, rest);
     n++;
   }
   return n;
