@@ -99,7 +99,7 @@ export async function runPondsStaged(input: Inputs, opts: PondsCliOptions & Stag
   const lib = { connectivity, nodataOutlet, minDepth, minArea, minVolume, minPersistence, fillOnlyBelow, zUnits: opts.zUnits, zFactor, xyUnits: opts.xyUnits, runDir, memoryMb };
   const engine: Engine = slurm
     ? new SlurmEngine({ workers, partition: opts.partition, account: opts.account, time: opts.time, dryRun: opts.dryRun, pollSeconds: Number(process.env.SILL_SLURM_POLL) || undefined })
-    : new LocalEngine(workers ?? cpus().length);
+    : new LocalEngine(workers ?? cpus().length, 'the tasks finished so far are kept in the run folder (run the same command again, same --run-dir, to resume)');
   if (opts.dryRun) {
     const { run } = await planPondsStages(source, lib);
     const written = (engine as SlurmEngine).writeScripts(run);

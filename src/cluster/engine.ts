@@ -49,7 +49,11 @@ export function countStage(folder: RunFolder, stage: StageSpec, running: number)
 /** A pool of `workers` child processes on this machine, one task runner each. */
 export class LocalEngine implements Engine {
   readonly name = 'local';
-  constructor(private readonly workers: number) {}
+  /**
+   * `workers` tasks at a time. `kept`: what the line printed when a signal stops the run says is kept
+   * and how to go on (a batch's wording by default).
+   */
+  constructor(private readonly workers: number, private readonly kept = 'the inputs finished so far are kept (rerun with --resume to do the rest)') {}
 
   async run(folder: RunFolder, onProgress?: (p: RunProgress) => void): Promise<void> {
     const spec = folder.run();
@@ -103,7 +107,7 @@ export class LocalEngine implements Engine {
     }
     if (stopping !== null) {
       const sig: NodeJS.Signals = stopping;
-      process.stderr.write(`sill: stopped by ${sig}; the inputs finished so far are kept (rerun with --resume to do the rest)\n`);
+      process.stderr.write(`sill: stopped by ${sig}; ${this.kept}\n`);
       process.exit(sig === 'SIGINT' ? 130 : sig === 'SIGHUP' ? 129 : 143);
     }
   }
