@@ -28,7 +28,7 @@ import { simplifyMergeTree } from '../morse/mergetree.js';
 import { GridField3 } from './field3.js';
 import { refineStationary3, type Refined3 } from './refine3.js';
 import { minimumEnergyPath3, type Path3 } from './mep3.js';
-import { pitRepresentatives, OUTSIDE, NO_LABEL } from './basins.js';
+import { pitRepresentatives, labelByDescent, OUTSIDE, NO_LABEL } from './basins.js';
 import { valueQuantum, type NoiseFloor } from './noise.js';
 import { checkTemperature, kTIn, type EnergyUnit } from './units.js';
 import {
@@ -242,22 +242,8 @@ export function descentLabels3(cx: Complex3, rep: Map<number, number>, minima: I
     }
     down[i] = best;
   }
-  const UNSET = -3;
-  const label = new Int32Array(n).fill(UNSET);
-  const chain = new Int32Array(n);
-  for (let i = 0; i < n; i++) {
-    if (label[i] !== UNSET) continue;
-    if (down[i] === -2) { label[i] = NO_LABEL; continue; }
-    let len = 0, j = i, lab = UNSET;
-    while (label[j] === UNSET) {
-      chain[len++] = j;
-      const d = down[j];
-      if (d < 0) { lab = omega !== null && omega[j] ? OUTSIDE : pitLabel(j); break; }
-      j = d;
-    }
-    if (lab === UNSET) lab = label[j];
-    for (let k = 0; k < len; k++) label[chain[k]] = lab;
-  }
+  const label = new Int32Array(n);
+  labelByDescent(down, label, pitLabel, omega);
   return label;
 }
 

@@ -143,6 +143,17 @@ function gridDescent(cx: GridComplex, label: Int32Array, pitLabel: (p: number) =
       down[i] = best;
     }
   }
+  labelByDescent(down, label, pitLabel, omega);
+}
+
+/**
+ * Label every vertex by where its steepest-descent chain ends (`down[i]`: the next vertex, −1 at a
+ * pit, −2 for nodata): the pit's label, or OUTSIDE where the chain ends beside the outside vertex.
+ * Each chain is walked once; its vertices take the label of where it stops. Shared by the 2-D and
+ * 3-D basins.
+ */
+export function labelByDescent(down: Int32Array, label: Int32Array, pitLabel: (p: number) => number, omega: Uint8Array | null): void {
+  const n = down.length;
   const UNSET = -3;
   label.fill(UNSET);
   const chain = new Int32Array(n);
